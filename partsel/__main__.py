@@ -1,0 +1,3 @@
+from partsel.cli import main
+
+main()

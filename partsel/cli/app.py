@@ -1,0 +1,108 @@
+"""The typer application, its global options and the error policy.
+
+Every command module (``partsel/cli/cmd_*.py``) imports :data:`app` and registers its commands;
+:mod:`partsel.cli` imports them all. A command body parses its options, calls one library
+function and renders the result; it holds no logic a library user would need.
+"""
+
+from __future__ import annotations
+
+import os
+import sys
+from typing import Any
+
+import click
+import typer
+from typer.core import TyperGroup
+
+from partsel import __version__
+from partsel.errors import PartselError
+
+
+class _Group(TyperGroup):
+    """Maps every error a user can cause to one line 'Error: ...' and a non-zero exit."""
+
+    def main(self, *args: Any, **kwargs: Any) -> Any:
+        kwargs["standalone_mode"] = False
+        try:
+            rc = super().main(*args, **kwargs)
+        except PartselError as exc:
+            _fail(str(exc), exc.exit_code)
+        except click.exceptions.NoArgsIsHelpError as exc:
+            click.echo(exc.ctx.get_help() if exc.ctx else "", err=True)
+            sys.exit(2)
+        except click.UsageError as exc:
+            hint = ""
+            if exc.ctx is not None and exc.ctx.command_path:
+                hint = f" (see '{exc.ctx.command_path} --help')"
+            _fail(exc.format_message().replace("\n", " ") + hint, 2)
+        except click.ClickException as exc:
+            _fail(exc.format_message().replace("\n", " "), exc.exit_code or 1)
+        except click.exceptions.Abort:
+            _fail("aborted", 1)
+        except BrokenPipeError:
+            sys.stderr.close()
+            sys.exit(1)
+        except KeyboardInterrupt:
+            _fail("interrupted", 130)
+        sys.exit(rc if isinstance(rc, int) else 0)
+
+
+def _fail(message: str, code: int) -> None:
+    first = message.strip().splitlines()[0] if message.strip() else "failed"
+    click.echo(f"Error: {first}", err=True)
+    sys.exit(code)
+
+
+app = typer.Typer(
+    cls=_Group,
+    name="partsel",
+    help="Choose capacitors and inductors by how they behave across frequency.\n\n"
+         "Example: partsel find capacitor --below 0.5ohm --band 1MHz..30MHz",
+    no_args_is_help=True,
+    add_completion=False,
+    pretty_exceptions_enable=False,
+    rich_markup_mode=None,
+    context_settings={"help_option_names": ["-h", "--help"], "max_content_width": 100},
+)
+
+
+def _version(value: bool) -> None:
+    if value:
+        click.echo(f"partsel {__version__}")
+        raise typer.Exit()
+
+
+@app.callback()
+def _main(
+    ctx: typer.Context,
+    store: str = typer.Option(None, "--store", metavar="PATH",
+                              help="Store file (DuckDB). Default: $PARTSEL_STORE, else a "
+                                   "per-user store filled with the demo catalog on first use."),
+    version: bool = typer.Option(False, "--version", callback=_version, is_eager=True,
+                                 help="Show the version and exit."),
+) -> None:
+    ctx.obj = {"store": store}
+
+
+def open_store_for(ctx: typer.Context, *, write: bool = False, create: bool | None = None):
+    """Open the store named by --store / $PARTSEL_STORE / the default; print first-use notices."""
+    from partsel.store import open_store
+    path = (ctx.find_root().obj or {}).get("store")
+    store = open_store(path, write=write, create=create)
+    for notice in store.notices:
+        click.echo(f"partsel: {notice}", err=True)
+    return store
+
+
+def echo(text: str) -> None:
+    click.echo(text)
+
+
+def note(text: str) -> None:
+    """A remark for a person: to stderr, so that JSON/CSV on stdout stay machine-readable."""
+    click.echo(text, err=True)
+
+
+def is_terminal() -> bool:
+    return sys.stderr.isatty() and not os.environ.get("CI")

@@ -1,0 +1,171 @@
+"""partsel find: band search."""
+
+from __future__ import annotations
+
+from typing import Any
+
+import typer
+
+from partsel.cli import options as opt
+from partsel.cli.app import app, echo, note, open_store_for
+from partsel.errors import QueryError
+from partsel.render import Col
+
+CAP_COLS = [Col("part_number", "part"), Col("maker", "maker"), Col("value", "C", "F"),
+            Col("case", "case"), Col("dielectric", "diel."), Col("technology", "tech."),
+            Col("rated_voltage", "rated", "V"), Col("esr", "ESR", "ohm"),
+            Col("esl", "ESL", "H"), Col("srf_hz", "SRF", "Hz"),
+            Col("max_z_ohm", "max |Z|", "ohm"), Col("f_max_hz", "at", "Hz"),
+            Col("lifecycle", "life"), Col("stock", "stock", "")]
+IND_COLS = [Col("part_number", "part"), Col("maker", "maker"), Col("value", "L", "H"),
+            Col("case", "case"), Col("technology", "tech."), Col("dcr", "DCR", "ohm"),
+            Col("srf", "SRF", "Hz"), Col("zero_phase_hz", "f(phase=0)", "Hz"),
+            Col("isat", "Isat", "A"), Col("irms", "Irms", "A"),
+            Col("lifecycle", "life"), Col("stock", "stock", "")]
+
+# Row key -> JSON/CSV key (SI units in the name where the key alone does not say).
+JSON_KEYS = {
+    "part_number": "part_number", "maker": "maker", "kind": "kind", "technology": "technology",
+    "case": "case", "dielectric": "dielectric", "value": "value", "tolerance": "tolerance",
+    "rated_voltage": "rated_voltage_v", "esr": "esr_ohm", "esl": "esl_h",
+    "tan_delta": "tan_delta", "dcr": "dcr_ohm", "srf": "srf_hz", "srf_hz": "srf_hz",
+    "rp": "rp_ohm", "isat": "isat_a", "irms": "irms_a", "max_z_ohm": "max_z_ohm",
+    "f_max_hz": "f_max_hz", "min_z_ohm": "min_z_ohm", "f_min_hz": "f_min_hz",
+    "zero_phase_hz": "zero_phase_hz", "srf_margin": "srf_margin", "isat_margin": "isat_margin",
+    "q": "q", "c_eff_f": "c_eff_f", "bias_source": "bias_source", "lifecycle": "lifecycle",
+    "price": "price", "stock": "stock", "esr_source": "esr_source", "esl_source": "esl_source",
+}
+
+
+_NOT_FOR = {"capacitor": {"dcr", "srf", "rp", "isat", "irms"},
+            "inductor": {"esr", "esl", "tan_delta", "dielectric", "esr_source", "esl_source"}}
+
+
+def json_row(row: dict[str, Any]) -> dict[str, Any]:
+    """A result row under its JSON/CSV keys; computed figures win over empty stored ones."""
+    out: dict[str, Any] = {}
+    skip = _NOT_FOR.get(row.get("kind", ""), set())
+    for k, v in row.items():
+        if k in JSON_KEYS and k not in skip and (out.get(JSON_KEYS[k]) is None):
+            out[JSON_KEYS[k]] = v
+    return out
+
+
+@app.command("find")
+def find_cmd(
+    ctx: typer.Context,
+    what: str = typer.Argument(..., metavar="KIND|PHRASE",
+                               help="capacitor or inductor, or a whole search as one quoted "
+                                    "phrase: \"capacitor below 0.5 ohm from 1 to 30 MHz\"."),
+    below: str = typer.Option(None, "--below", metavar="Z",
+                              help="Keep parts with |Z| <= Z over the whole band, e.g. 0.5ohm."),
+    above: str = typer.Option(None, "--above", metavar="Z",
+                              help="Keep parts with |Z| >= Z over the whole band."),
+    band: str = typer.Option(None, "--band", metavar="F1..F2",
+                             help="Frequency band, e.g. 1MHz..30MHz (the band is continuous)."),
+    inductive_to: str = typer.Option(None, "--inductive-to", metavar="F",
+                                     help="Inductors: Im Z > 0 from DC up to F."),
+    value: str = typer.Option(None, "--value", metavar="V|V1..V2",
+                              help="Nominal value or range, e.g. 10uH or 1uF..10uF."),
+    min_voltage: str = typer.Option(None, "--min-voltage", metavar="V",
+                                    help="Rated voltage at least V."),
+    case: list[str] = typer.Option(None, "--case", help="EIA case code(s), e.g. 0402,0603."),
+    dielectric: list[str] = typer.Option(None, "--dielectric", help="EIA-198 code(s), e.g. X7R."),
+    technology: list[str] = typer.Option(None, "--technology",
+                                         help="mlcc, film, aluminum, polymer, tantalum, "
+                                              "multilayer, wirewound, thin_film, power."),
+    maker: list[str] = typer.Option(None, "--maker", help="Maker name(s)."),
+    lifecycle: list[str] = typer.Option(None, "--lifecycle",
+                                        help="Lifecycle states to keep (default active,nrnd)."),
+    include_obsolete: bool = typer.Option(False, "--include-obsolete",
+                                          help="Keep obsolete parts too."),
+    in_stock: bool = typer.Option(False, "--in-stock", help="Only parts with stock > 0."),
+    bias: str = typer.Option(None, "--bias", metavar="V",
+                             help="Capacitors: working DC voltage; class II ceramics lose "
+                                  "capacitance (part's curve, else a labelled estimate)."),
+    mount_l: str = typer.Option(None, "--mount-l", metavar="L",
+                                help="Capacitors: mounting inductance added to ESL, e.g. 0.5nH."),
+    current: str = typer.Option(None, "--current", metavar="I",
+                                help="Inductors: DC current; needs Isat >= I + ripple/2 and "
+                                     "Irms >= I."),
+    ripple: str = typer.Option(None, "--ripple", metavar="I",
+                               help="Inductors: peak-to-peak ripple current."),
+    min_q: str = typer.Option(None, "--min-q", metavar="Q@F",
+                              help="Inductors: Q at least Q at frequency F, e.g. 30@10MHz."),
+    limit: int = opt.limit_option(),
+    fmt: str = opt.format_option(),
+) -> None:
+    """Find parts that meet an impedance limit over a band, best first.
+
+    Examples:
+
+      partsel find capacitor --below 0.5ohm --band 1MHz..30MHz
+
+      partsel find capacitor --below 50mohm --band 100kHz..10MHz --case 0805 --bias 3.3V
+
+      partsel find inductor --inductive-to 100MHz --value 10nH..100nH
+
+      partsel find "capacitor below 0.5 ohm from 1 to 30 MHz"
+    """
+    from partsel import units
+    from partsel.jobs.find import Search, find
+    from partsel.phrase import parse_phrase
+
+    fmt = opt.check_format(fmt)
+    if what.strip().lower() in ("capacitor", "inductor"):
+        kw: dict[str, Any] = {"kind": what.strip().lower()}
+    elif " " in what.strip():
+        kw, read_as = parse_phrase(what)
+        note(f"read as: {read_as}")
+    else:
+        raise QueryError(f"unknown kind '{what}': use capacitor or inductor, or a quoted phrase "
+                         "such as \"capacitor below 0.5 ohm from 1 to 30 MHz\"")
+    given = {
+        "below": opt.quantity(below, "ohm", "--below"),
+        "above": opt.quantity(above, "ohm", "--above"),
+        "band": units.parse_band(band) if band else None,
+        "inductive_to": opt.quantity(inductive_to, "Hz", "--inductive-to"),
+        "min_voltage": opt.quantity(min_voltage, "V", "--min-voltage"),
+        "bias": opt.quantity(bias, "V", "--bias"),
+        "mount_l": opt.quantity(mount_l, "H", "--mount-l"),
+        "current": opt.quantity(current, "A", "--current"),
+        "ripple": opt.quantity(ripple, "A", "--ripple"),
+        "min_q": opt.parse_at(min_q, "--min-q"),
+        "cases": opt.split_list(case), "dielectrics": opt.split_list(dielectric),
+        "technologies": opt.split_list(technology), "makers": opt.split_list(maker),
+    }
+    if value:
+        unit = {"capacitor": "F", "inductor": "H"}[kw["kind"]]
+        given["value_min"], given["value_max"] = units.parse_range(value, unit)
+    life = opt.split_list(lifecycle)
+    if life:
+        given["lifecycles"] = tuple(x.lower() for x in life)
+    if include_obsolete:
+        given["lifecycles"] = (*(given.get("lifecycles") or ("active", "nrnd")), "obsolete")
+    for k, v in given.items():
+        if v not in (None, ()):
+            kw[k] = v
+    if in_stock:
+        kw["in_stock"] = True
+    kw.setdefault("limit", limit)
+    search = Search(**kw)
+    if search.band is None and search.inductive_to is None and search.current is None:
+        raise QueryError("nothing to search for: give --below/--above with --band, or "
+                         "--inductive-to (see 'partsel find --help')")
+    with open_store_for(ctx) as store:
+        result = find(store, search)
+    cols = CAP_COLS if search.kind == "capacitor" else IND_COLS
+    if search.kind == "capacitor" and search.bias is not None:
+        cols = cols[:3] + [Col("c_eff_f", "C at bias", "F"), Col("bias_source", "bias")] + cols[3:]
+    if search.kind == "inductor" and search.band:
+        cols = cols[:-2] + [Col("max_z_ohm", "max |Z|", "ohm"), Col("min_z_ohm", "min |Z|", "ohm")] \
+            + cols[-2:]
+    if search.kind == "inductor" and search.min_q:
+        cols = cols[:-2] + [Col("q", f"Q@{units.format_quantity(search.min_q[1], 'Hz')}", "")] \
+            + cols[-2:]
+    echo(opt.emit(result.rows, cols, fmt, json_keys=json_row))
+    shown = len(result.rows)
+    note(f"{result.matches} of {result.considered} {search.kind}s pass; showing {shown}, "
+         f"{result.order}. Model: " + "; ".join(result.effects))
+    for n in result.notes:
+        note(n)

@@ -1,0 +1,74 @@
+"""partsel import / demo: filling a store."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import typer
+
+from partsel.cli.app import app, echo, is_terminal, note, open_store_for
+
+
+@app.command("import")
+def import_cmd(
+    ctx: typer.Context,
+    file: Path = typer.Argument(..., metavar="FILE",
+                                help="Catalog file: .csv, .xlsx or .parquet with one header row."),
+    check: bool = typer.Option(False, "--check",
+                               help="Dry run: list every problem with row and column, write "
+                                    "nothing."),
+) -> None:
+    """Add or replace parts from a catalog file, all or nothing.
+
+    Parts are keyed by maker and part number; a part already in the store is replaced. A file
+    with any bad cell changes nothing, and the error names its row, column and reason.
+
+    Example: partsel --store parts.duckdb import catalog.csv
+    """
+    from partsel.store.importer import check_catalog, import_catalog
+
+    if check:
+        frame, problems = check_catalog(file)
+        for p in problems:
+            echo(f"{file.name}: {p}")
+        if problems:
+            note(f"{file.name}: {len(problems)} problem(s); nothing was written")
+            raise typer.Exit(1)
+        echo(f"{file.name}: {len(frame)} rows, no problems (nothing was written)")
+        return
+    with open_store_for(ctx, write=True) as store:
+        summary = import_catalog(store, file)
+    echo(summary.text())
+
+
+@app.command("demo")
+def demo_cmd(
+    ctx: typer.Context,
+    parts: int = typer.Option(None, "--parts", min=1, max=5_000_000,
+                              help="How many invented parts (default: the bundled demo "
+                                   "catalog size)."),
+    seed: int = typer.Option(2026, "--seed", help="Seed of the generator (same seed, same parts)."),
+) -> None:
+    """Fill the store with invented demo parts (for trying partsel and for benchmarks).
+
+    Parts are added or replaced by maker and part number, so running it twice changes nothing.
+
+    Example: partsel --store big.duckdb demo --parts 1000000
+    """
+    from partsel.demo import DEFAULT_PARTS, generate
+    from partsel.store.importer import insert_frame
+
+    n = parts or DEFAULT_PARTS
+    show = is_terminal()
+    if show:
+        note(f"generating {n} invented parts ...")
+    frame = generate(n, seed=seed)
+    with open_store_for(ctx, write=True) as store:
+        progress = None
+        if show:
+            def progress(done: int, total: int) -> None:
+                note(f"  stored {done}/{total}")
+        added, replaced = insert_frame(store, frame, source_file=f"demo --parts {n} --seed {seed}",
+                                       progress=progress)
+        total = store.count()
+    echo(f"demo: {added} parts added, {replaced} replaced; the store now holds {total} parts")

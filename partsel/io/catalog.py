@@ -1,0 +1,77 @@
+"""Reading catalog files (CSV, XLSX, Parquet) into a frame of text cells.
+
+Every cell comes back as a stripped string ('' for empty) so that one strict parser
+(:mod:`partsel.store.importer`) sees every value the same way, whatever the file type.
+"""
+
+from __future__ import annotations
+
+import csv
+from pathlib import Path
+
+import pandas as pd
+
+from partsel.errors import CatalogError
+
+SUFFIXES = {".csv": "csv", ".txt": "csv", ".tsv": "csv", ".xlsx": "xlsx", ".xlsm": "xlsx",
+            ".parquet": "parquet", ".pq": "parquet"}
+
+
+def file_type(path: Path) -> str:
+    kind = SUFFIXES.get(path.suffix.lower())
+    if kind is None:
+        raise CatalogError(f"cannot read {path.name}: unknown file type '{path.suffix}'; "
+                           "give a .csv, .xlsx or .parquet file")
+    return kind
+
+
+def read_cells(path: str | Path) -> pd.DataFrame:
+    """The file's table as strings; the header row gives the column names as written."""
+    p = Path(path)
+    if not p.exists():
+        raise CatalogError(f"no such file: {p}")
+    if p.is_dir():
+        raise CatalogError(f"{p} is a folder: give a catalog file (.csv, .xlsx or .parquet)")
+    kind = file_type(p)
+    try:
+        if kind == "csv":
+            df = _read_csv(p)
+        elif kind == "xlsx":
+            df = pd.read_excel(p, dtype=str, keep_default_na=False, engine="openpyxl")
+        else:
+            df = pd.read_parquet(p)
+            df = df.astype(object).where(df.notna(), "")
+            df = df.map(lambda v: v if isinstance(v, str) else repr(v) if isinstance(v, float)
+                        else str(v))
+    except CatalogError:
+        raise
+    except UnicodeDecodeError as exc:
+        raise CatalogError(f"cannot read {p.name}: not UTF-8 text near byte {exc.start}; "
+                           "save the file as UTF-8 CSV") from None
+    except (pd.errors.ParserError, ValueError, OSError, ImportError) as exc:
+        first = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
+        raise CatalogError(f"cannot read {p.name} as {kind.upper()}: {first}") from None
+    except Exception as exc:  # readers of foreign formats raise many kinds of errors
+        first = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
+        raise CatalogError(f"cannot read {p.name} as {kind.upper()}: {first}") from None
+    if df.columns.size == 0:
+        raise CatalogError(f"{p.name} has no header row: the first row names the columns")
+    df.columns = [str(c).strip() for c in df.columns]
+    return df.map(lambda v: v.strip() if isinstance(v, str) else "" if v is None else str(v))
+
+
+def _read_csv(p: Path) -> pd.DataFrame:
+    with p.open("r", encoding="utf-8-sig", newline="") as fh:
+        sample = fh.read(65536)
+    if not sample.strip():
+        raise CatalogError(f"{p.name} is empty: a catalog has a header row and one part per row")
+    try:
+        delimiter = csv.Sniffer().sniff(sample.splitlines()[0], delimiters=",;\t").delimiter
+    except csv.Error:
+        delimiter = ","
+    try:
+        return pd.read_csv(p, dtype=str, keep_default_na=False, encoding="utf-8-sig",
+                           sep=delimiter, skip_blank_lines=True, on_bad_lines="error")
+    except pd.errors.ParserError as exc:
+        raise CatalogError(f"cannot read {p.name}: {str(exc).strip()} (every row must have "
+                           "as many cells as the header)") from None

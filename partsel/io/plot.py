@@ -1,0 +1,76 @@
+"""Plots of |Z| and phase against frequency (matplotlib, drawn off-screen to a file)."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from partsel.errors import PartselError
+
+
+@dataclass
+class Figure:
+    """What to draw: curves, an optional limit line, marked frequencies and shaded spans."""
+
+    f: np.ndarray
+    curves: list[tuple[str, np.ndarray]]             # (label, complex Z)
+    title: str = ""
+    limit: float | None = None                       # a horizontal |Z| limit [ohm]
+    limit_label: str = "limit"
+    band: tuple[float, float] | None = None          # shown as dashed edges
+    marks: list[tuple[float, str]] = field(default_factory=list)      # vertical lines
+    spans: list[tuple[float, float, str]] = field(default_factory=list)  # shaded regions
+    styles: dict[str, dict] = field(default_factory=dict)  # per-label line options
+
+
+def save(fig: Figure, path: str | Path) -> Path:
+    """Draw |Z| (log-log) above phase (deg) and save to ``path`` (.png, .svg or .pdf)."""
+    p = Path(path)
+    if p.suffix.lower() not in (".png", ".svg", ".pdf"):
+        raise PartselError(f"cannot write a plot to '{p.name}': give a .png, .svg or .pdf name")
+    import matplotlib
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    figure, (ax_z, ax_p) = plt.subplots(2, 1, sharex=True, figsize=(9, 6.5),
+                                        gridspec_kw={"height_ratios": [3, 1.4]})
+    for label, z in fig.curves:
+        style = {"lw": 1.4, **fig.styles.get(label, {})}
+        ax_z.loglog(fig.f, np.abs(z), label=label, **style)
+        ax_p.semilogx(fig.f, np.degrees(np.angle(z)), **style)
+    if fig.limit is not None:
+        ax_z.axhline(fig.limit, color="crimson", ls="--", lw=1.2, label=fig.limit_label)
+    for lo, hi, label in fig.spans:
+        for ax in (ax_z, ax_p):
+            ax.axvspan(lo, hi, color="#9fd3c7", alpha=0.25, lw=0,
+                       label=label if ax is ax_z else None)
+    if fig.band is not None:
+        for edge in fig.band:
+            for ax in (ax_z, ax_p):
+                ax.axvline(edge, color="0.4", ls=":", lw=1)
+    for freq, label in fig.marks:
+        for ax in (ax_z, ax_p):
+            ax.axvline(freq, color="darkorange", ls="-.", lw=1.1,
+                       label=label if ax is ax_z else None)
+    ax_z.set_ylabel("|Z| [ohm]")
+    ax_p.set_ylabel("phase [deg]")
+    ax_p.set_ylim(-95, 95)
+    ax_p.set_yticks([-90, -45, 0, 45, 90])
+    ax_p.set_xlabel("frequency [Hz]")
+    for ax in (ax_z, ax_p):
+        ax.grid(True, which="both", alpha=0.3)
+    ax_z.legend(fontsize=8, loc="best")
+    if fig.title:
+        ax_z.set_title(fig.title)
+    figure.tight_layout()
+    try:
+        figure.savefig(p, dpi=120)
+    except OSError as exc:
+        raise PartselError(f"cannot write the plot {p}: {exc.strerror}; choose another path") \
+            from None
+    finally:
+        plt.close(figure)
+    return p

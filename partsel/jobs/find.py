@@ -1,0 +1,244 @@
+"""Band search: parts whose impedance meets a limit over a continuous band, best first.
+
+The store narrows the candidates with SQL filters (bound parameters); the engine evaluates the
+exact band extrema of every remaining part at once (no grid, see :mod:`partsel.engine.band`);
+only the rows shown are fetched in full.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any, Literal
+
+import numpy as np
+
+from partsel.engine import band as band_metrics
+from partsel.engine import capacitor, ceramic, inductor
+from partsel.errors import QueryError
+from partsel.store.db import Store
+
+Kind = Literal["capacitor", "inductor"]
+
+
+@dataclass
+class Search:
+    """What to look for. Quantities in SI units; empty tuples mean "any"."""
+
+    kind: Kind
+    band: tuple[float, float] | None = None
+    below: float | None = None          # |Z| <= below over the whole band [ohm]
+    above: float | None = None          # |Z| >= above over the whole band [ohm]
+    inductive_to: float | None = None   # inductors: Im Z > 0 for every f <= this [Hz]
+    value_min: float | None = None
+    value_max: float | None = None
+    min_voltage: float | None = None    # rated voltage at least [V]
+    cases: tuple[str, ...] = ()
+    dielectrics: tuple[str, ...] = ()
+    technologies: tuple[str, ...] = ()
+    makers: tuple[str, ...] = ()
+    lifecycles: tuple[str, ...] = ("active", "nrnd")
+    in_stock: bool = False
+    bias: float | None = None           # capacitors: working DC voltage for class II loss [V]
+    mount_l: float | None = None        # capacitors: mounting inductance added to ESL [H]
+    current: float | None = None        # inductors: DC current [A]
+    ripple: float | None = None         # inductors: peak-to-peak ripple current [A]
+    min_q: tuple[float, float] | None = None  # inductors: (Q, at frequency [Hz])
+    limit: int = 20                     # 0 = all
+
+    def validate(self) -> None:
+        if self.kind not in ("capacitor", "inductor"):
+            raise QueryError(f"unknown kind '{self.kind}': use capacitor or inductor")
+        if (self.below is not None or self.above is not None) and self.band is None:
+            raise QueryError("an impedance limit needs a band: add --band F1..F2")
+        if self.band is not None and not 0 < self.band[0] <= self.band[1]:
+            raise QueryError("the band must run from a lower to a higher positive frequency")
+        for name in ("below", "above", "inductive_to", "value_min", "value_max", "current",
+                     "mount_l", "ripple", "bias", "min_voltage"):
+            v = getattr(self, name)
+            if v is not None and (not np.isfinite(v) or v < 0 or
+                                  (v == 0 and name in ("below", "inductive_to", "current"))):
+                raise QueryError(f"--{name.replace('_', '-')} must be a positive number, "
+                                 f"got {v:g}")
+        if self.limit < 0:
+            raise QueryError("--limit must be 0 (all) or a positive count")
+        if self.kind == "capacitor" and (self.inductive_to or self.current or self.min_q):
+            raise QueryError("--inductive-to, --current and --min-q apply to inductors: "
+                             "search 'inductor' instead")
+        if self.kind == "inductor" and (self.bias is not None or self.mount_l is not None):
+            raise QueryError("--bias and --mount-l apply to capacitors")
+        if self.value_min and self.value_max and self.value_min > self.value_max:
+            raise QueryError("the value range runs backwards: write the lower value first")
+
+
+@dataclass
+class FindResult:
+    rows: list[dict[str, Any]]
+    matches: int                 # parts that pass, before --limit
+    considered: int              # parts that passed the SQL filters
+    order: str                   # how rows are ranked
+    effects: list[str] = field(default_factory=list)   # models and layers applied
+    notes: list[str] = field(default_factory=list)     # what was left out and why
+
+
+def _where(search: Search) -> tuple[str, list[Any]]:
+    conds = ["kind = ?"]
+    params: list[Any] = [search.kind]
+    if search.lifecycles:
+        conds.append("list_contains(?, coalesce(lifecycle, 'active'))")
+        params.append(list(search.lifecycles))
+    if search.value_min is not None:
+        conds.append("value >= ?")
+        params.append(search.value_min * (1 - 1e-9))
+    if search.value_max is not None:
+        conds.append("value <= ?")
+        params.append(search.value_max * (1 + 1e-9))
+    if search.min_voltage is not None:
+        conds.append("rated_voltage >= ?")
+        params.append(search.min_voltage)
+    for col, values, fold in (("\"case\"", search.cases, False),
+                              ("dielectric", search.dielectrics, True),
+                              ("technology", search.technologies, True),
+                              ("maker", search.makers, True)):
+        if values:
+            if fold:
+                conds.append(f"list_contains(?, lower({col}))")
+                params.append([v.lower() for v in values])
+            else:
+                conds.append(f"list_contains(?, {col})")
+                params.append(list(values))
+    if search.in_stock:
+        conds.append("stock > 0")
+    if search.current is not None:
+        conds.append("isat IS NOT NULL AND irms IS NOT NULL")
+    return " AND ".join(conds), params
+
+
+def _c_effective(store: Store, where: str, params: list[Any], value: np.ndarray,
+                 bias: float, effects: list[str]) -> tuple[np.ndarray, np.ndarray]:
+    """Capacitance at the working DC bias: the part's own curve, else the rule-of-thumb
+    estimate (class I and non-ceramic parts keep their value). Returns (C, source code) with
+    source 0 = none needed, 1 = measured curve, 2 = estimate."""
+    cols = store.arrays(
+        f"SELECT technology, dielectric, \"case\", rated_voltage, bias_v, bias_ratio "
+        f"FROM parts WHERE {where} ORDER BY id", params)
+    mlcc = cols["technology"] == "mlcc"
+    has_curve = np.array([v is not None and len(v) > 0 for v in cols["bias_v"]], dtype=bool)
+    ratio = np.ones_like(value)
+    source = np.zeros(value.shape, dtype=np.int8)
+    if has_curve.any():
+        k = max(len(v) for v in cols["bias_v"][has_curve])
+        cv = np.full((int(has_curve.sum()), k), np.nan)
+        cr = np.full_like(cv, np.nan)
+        for i, (v, r) in enumerate(zip(cols["bias_v"][has_curve], cols["bias_ratio"][has_curve],
+                                       strict=True)):
+            cv[i, :len(v)] = v
+            cr[i, :len(r)] = r
+        ratio[has_curve] = ceramic.bias_ratio_from_curve(bias, cv, cr)
+        source[has_curve] = 1
+    est = mlcc & ~has_curve
+    if est.any():
+        r = ceramic.estimate_bias_ratio(bias, cols["rated_voltage"][est], value[est],
+                                        cols["case"][est], cols["dielectric"][est])
+        changed = r < 1.0
+        idx = np.flatnonzero(est)
+        ratio[idx] = r
+        source[idx[changed]] = 2
+    effects.append(f"DC bias {bias:g} V: measured curve for {int((source == 1).sum())} parts, "
+                   f"rule-of-thumb estimate for {int((source == 2).sum())} class II parts "
+                   "(estimated)")
+    return value * ratio, source
+
+
+def find(store: Store, search: Search) -> FindResult:
+    """Run a band search. See :class:`Search` for the criteria."""
+    search.validate()
+    where, params = _where(search)
+    effects: list[str] = []
+    notes: list[str] = []
+    if search.kind == "capacitor":
+        a = store.arrays(f"SELECT id, value, esr, esl, coalesce(tan_delta, 0.0) AS tan_delta "
+                         f"FROM parts WHERE {where} ORDER BY id", params)
+        value, esr, esl, td = a["value"], a["esr"], a["esl"], a["tan_delta"]
+        effects.append("series R-L-C model: ESR(f) = esr + tan_delta/(2 pi f C)")
+        c_eff = value
+        bias_src = None
+        if search.bias is not None:
+            c_eff, bias_src = _c_effective(store, where, params, value, search.bias, effects)
+        l_tot = esl
+        if search.mount_l:
+            l_tot = esl + search.mount_l
+            effects.append(f"mounting inductance {search.mount_l * 1e9:g} nH added to each ESL")
+        ok = np.isfinite(value) & np.isfinite(esr) & np.isfinite(esl)
+        metrics: dict[str, np.ndarray] = {"srf_hz": capacitor.srf(c_eff, l_tot)}
+        if search.band:
+            ext = band_metrics.capacitor_band(*search.band, c_eff, np.nan_to_num(esr),
+                                              np.nan_to_num(l_tot), td)
+    else:
+        a = store.arrays(f"SELECT id, value, coalesce(dcr, 0.0) AS dcr, srf, rp, isat, irms "
+                         f"FROM parts WHERE {where} ORDER BY id", params)
+        value, dcr = a["value"], a["dcr"]
+        cp = inductor.winding_capacitance(value, a["srf"])
+        effects.append("inductor model: (L + DCR) parallel to C_p = 1/((2 pi SRF)^2 L) and Rp")
+        ok = np.isfinite(value)
+        metrics = {"zero_phase_hz": inductor.zero_phase_frequency(value, dcr, cp)}
+        if search.inductive_to is not None:
+            known = np.isfinite(a["srf"])
+            if (~known & ok).any():
+                notes.append(f"{int((~known & ok).sum())} inductors without an SRF were left "
+                             "out: their self-resonance cannot be checked")
+            ok &= known & inductor.is_inductive_to(search.inductive_to, value, dcr, cp)
+            metrics["srf_margin"] = metrics["zero_phase_hz"] / search.inductive_to
+        if search.current is not None:
+            peak = search.current + (search.ripple or 0.0) / 2.0
+            ok &= (a["isat"] >= peak) & (a["irms"] >= search.current)
+            metrics["isat_margin"] = a["isat"] / peak
+        if search.min_q is not None:
+            q_min, f_q = search.min_q
+            q = inductor.q_factor(f_q, value, dcr, cp, a["rp"])
+            ok &= q >= q_min
+            metrics["q"] = q
+        if search.band:
+            ext = band_metrics.inductor_band(*search.band, value, dcr, cp, a["rp"])
+    considered = len(value)
+    order = "part number"
+    key = np.zeros(considered)
+    if search.band:
+        metrics.update(max_z_ohm=ext.max_z, f_max_hz=ext.f_max, min_z_ohm=ext.min_z,
+                       f_min_hz=ext.f_min)
+        if search.below is not None:
+            ok &= ext.max_z <= search.below
+        if search.above is not None:
+            ok &= ext.min_z >= search.above
+        if search.above is not None and search.below is None:
+            key, order = -ext.min_z, "highest band minimum |Z| first"
+        else:
+            key, order = ext.max_z, "lowest band maximum |Z| first"
+    elif search.kind == "inductor" and search.inductive_to is not None:
+        key, order = -metrics["srf_margin"], "largest zero-phase frequency / target first"
+    elif search.kind == "inductor" and search.current is not None:
+        key, order = -metrics["isat_margin"], "largest Isat margin first"
+    ok &= np.isfinite(key)
+    idx = np.flatnonzero(ok)
+    matches = len(idx)
+    idx = idx[np.argsort(key[idx], kind="stable")]
+    if search.limit and matches > search.limit:
+        cut = key[idx[search.limit - 1]]
+        idx = idx[key[idx] <= cut]  # keep ties at the cut so part number can break them
+    ids = a["id"][idx]
+    parts = store.parts_by_id(ids)
+    rows = []
+    for pos, part in zip(idx, parts, strict=True):
+        row = {k: v for k, v in part.items() if k not in ("bias_v", "bias_ratio")}
+        row["_rank"] = float(key[pos])
+        for name, arr in metrics.items():
+            row[name] = float(arr[pos])
+        if search.kind == "capacitor" and search.bias is not None:
+            row["c_eff_f"] = float(c_eff[pos])
+            row["bias_source"] = ("none", "measured curve", "estimated")[bias_src[pos]]
+        rows.append(row)
+    rows.sort(key=lambda r: (r["_rank"], r["part_number"]))
+    for r in rows:
+        del r["_rank"]
+    if search.limit:
+        rows = rows[:search.limit]
+    return FindResult(rows, matches, considered, order, effects, notes)

@@ -1,0 +1,223 @@
+"""Opening a store: path resolution, the per-user default store, schema checks.
+
+A store is one DuckDB file. Commands that only read open it read-only, so a team can share one
+catalog file. All SQL that carries user text binds it as parameters.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import duckdb
+import numpy as np
+
+from partsel.errors import PartNotFound, StoreError
+from partsel.store import schema
+
+ENV_VAR = "PARTSEL_STORE"
+
+
+def default_store_path() -> Path:
+    """The per-user store: $XDG_DATA_HOME/partsel/store.duckdb (~/.local/share by default)."""
+    base = os.environ.get("XDG_DATA_HOME") or str(Path.home() / ".local" / "share")
+    return Path(base) / "partsel" / "store.duckdb"
+
+
+@dataclass
+class Store:
+    """An open partsel store. Use as a context manager or call :meth:`close`."""
+
+    path: Path
+    con: duckdb.DuckDBPyConnection
+    read_only: bool
+    notices: list[str] = field(default_factory=list)
+
+    def __enter__(self) -> Store:
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
+
+    def close(self) -> None:
+        self.con.close()
+
+    # -- reading -------------------------------------------------------------------------------
+    def count(self, kind: str | None = None) -> int:
+        if kind is None:
+            return self.con.execute("SELECT count(*) FROM parts").fetchone()[0]
+        return self.con.execute("SELECT count(*) FROM parts WHERE kind = ?", [kind]).fetchone()[0]
+
+    def arrays(self, sql: str, params: Sequence[Any] = ()) -> dict[str, np.ndarray]:
+        """Run a query and return its columns as plain numpy arrays (NULL -> NaN or None)."""
+        raw = self.con.execute(sql, list(params)).fetchnumpy()
+        out: dict[str, np.ndarray] = {}
+        for name, col in raw.items():
+            if isinstance(col, np.ma.MaskedArray):
+                if col.dtype.kind in "fc":
+                    col = col.filled(np.nan)
+                elif col.dtype.kind in "iu" and np.ma.is_masked(col):
+                    col = col.astype(float).filled(np.nan)
+                elif col.dtype.kind in "iub":
+                    col = col.filled(0)
+                else:
+                    col = col.astype(object).filled(None)
+            out[name] = np.asarray(col)
+        return out
+
+    def frame(self, sql: str, params: Sequence[Any] = ()):
+        """Run a query and return a pandas DataFrame."""
+        return self.con.execute(sql, list(params)).df()
+
+    def find_part(self, part_number: str, maker: str | None = None) -> dict[str, Any]:
+        """One part as a dict of its stored columns (``extra`` decoded).
+
+        Matches the part number exactly, then case-insensitively. Raises PartNotFound with close
+        matches when there is none, or when several makers share the number and none was given.
+        """
+        rows = self._match(part_number, maker)
+        if not rows:
+            hint = self._suggest(part_number)
+            who = f" from maker '{maker}'" if maker else ""
+            raise PartNotFound(f"no part '{part_number}'{who} in the store {self.path}"
+                               + (f"; close matches: {', '.join(hint)}" if hint else
+                                  "; check the number or import its catalog"))
+        if len(rows) > 1:
+            makers = ", ".join(sorted(r["maker"] for r in rows))
+            raise PartNotFound(f"part number '{part_number}' is used by several makers "
+                               f"({makers}): add --maker to choose one")
+        return rows[0]
+
+    def _match(self, part_number: str, maker: str | None) -> list[dict[str, Any]]:
+        for cond in ("part_number = ?", "lower(part_number) = lower(?)"):
+            sql = f"SELECT * FROM parts WHERE {cond}"
+            params: list[Any] = [part_number]
+            if maker:
+                sql += " AND lower(maker) = lower(?)"
+                params.append(maker)
+            df = self.con.execute(sql, params).df()
+            if len(df):
+                return [_decode_row(r) for r in df.to_dict("records")]
+        return []
+
+    def _suggest(self, part_number: str, n: int = 3) -> list[str]:
+        rows = self.con.execute(
+            "SELECT part_number FROM parts ORDER BY jaro_winkler_similarity(lower(part_number), "
+            "lower(?)) DESC LIMIT ?", [part_number, n]).fetchall()
+        return [r[0] for r in rows]
+
+    def parts_by_id(self, ids: Iterable[int]) -> list[dict[str, Any]]:
+        """Rows for the given ids, in the order given."""
+        ids = [int(i) for i in ids]
+        if not ids:
+            return []
+        df = self.con.execute("SELECT * FROM parts WHERE list_contains(?, id)", [ids]).df()
+        by_id = {int(r["id"]): _decode_row(r) for r in df.to_dict("records")}
+        return [by_id[i] for i in ids if i in by_id]
+
+
+def _decode_row(row: dict[str, Any]) -> dict[str, Any]:
+    out = {}
+    for k, v in row.items():
+        if isinstance(v, float) and np.isnan(v):
+            v = None
+        elif v is not None and not isinstance(v, (str, list, np.ndarray)) and _isnat(v):
+            v = None
+        out[k] = v
+    extra = out.get("extra")
+    out["extra"] = json.loads(extra) if extra else {}
+    return out
+
+
+def _isnat(v: Any) -> bool:
+    try:
+        import pandas as pd
+        return bool(pd.isna(v))
+    except (TypeError, ValueError):
+        return False
+
+
+def _connect(path: Path, read_only: bool) -> duckdb.DuckDBPyConnection:
+    try:
+        return duckdb.connect(str(path), read_only=read_only)
+    except duckdb.Error as exc:
+        text = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
+        if "lock" in text.lower():
+            raise StoreError(f"the store {path} is in use by another process ({text}); "
+                             "close it there or open a copy") from None
+        raise StoreError(f"{path} is not a partsel store (DuckDB could not open it: {text}); "
+                         "give --store a .duckdb file made by partsel, or a new file name") from None
+
+
+def open_store(path: str | os.PathLike[str] | None = None, *, write: bool = False,
+               create: bool | None = None) -> Store:
+    """Open (and when needed create or migrate) a store.
+
+    ``path`` None means $PARTSEL_STORE, else the per-user default store, which is created on
+    first use and filled with the bundled demo catalog (a notice says so). An explicit path that
+    does not exist is created only when ``create`` is true (default: when ``write`` is true).
+    """
+    is_default = False
+    if path is None or str(path) == "":
+        env = os.environ.get(ENV_VAR)
+        if env:
+            path = env
+        else:
+            path = default_store_path()
+            is_default = True
+    p = Path(path).expanduser()
+    if create is None:
+        create = write or is_default
+    if p.is_dir():
+        raise StoreError(f"store path {p} is a directory: give a file name such as "
+                         f"{p / 'parts.duckdb'}")
+    if not p.exists():
+        if not create:
+            raise StoreError(f"no store at {p}: create one with 'partsel --store {p} import FILE' "
+                             f"or 'partsel --store {p} demo'")
+        try:
+            p.parent.mkdir(parents=True, exist_ok=True)
+        except OSError as exc:
+            raise StoreError(f"cannot create the store folder {p.parent}: {exc.strerror}; "
+                             "choose another --store path") from None
+        store = Store(p, _connect(p, read_only=False), read_only=False)
+        schema.migrate(store.con, None)
+        if is_default:
+            from partsel.demo import DEFAULT_PARTS, demo_catalog
+            from partsel.store.importer import insert_frame
+            insert_frame(store, demo_catalog(), source_file="demo catalog (invented parts)")
+            store.notices.append(
+                f"created a store at {p} with the bundled demo catalog ({DEFAULT_PARTS} invented "
+                f"parts); use --store PATH or {ENV_VAR} for your own catalog")
+        if not write:
+            store.close()
+            store = Store(p, _connect(p, read_only=True), read_only=True, notices=store.notices)
+        return store
+    con = _connect(p, read_only=not write)
+    try:
+        version = schema.current_version(con)
+    except duckdb.Error as exc:
+        con.close()
+        raise StoreError(f"{p} is not a partsel store ({exc}); give --store a file made by "
+                         "partsel") from None
+    if version is None:
+        con.close()
+        raise StoreError(f"{p} is a DuckDB database but not a partsel store (no partsel schema); "
+                         "give --store a file made by partsel, or a new file name")
+    if version > schema.SCHEMA_VERSION:
+        con.close()
+        raise StoreError(f"{p} was written by a newer partsel (schema {version}, this one reads "
+                         f"up to {schema.SCHEMA_VERSION}): upgrade partsel")
+    if version < schema.SCHEMA_VERSION:
+        if not write:
+            con.close()
+            con = _connect(p, read_only=False)
+        schema.migrate(con, version)
+        if not write:
+            con.close()
+            con = _connect(p, read_only=True)
+    return Store(p, con, read_only=not write)

@@ -1,0 +1,415 @@
+"""Catalog import: strict cell parsing, rule-of-thumb estimates, one transaction per file.
+
+:func:`parse_catalog` turns a frame of text cells into a frame of SI values and a list of
+problems (row, column, reason). :func:`import_catalog` refuses the whole file when there is any
+problem, and otherwise adds or replaces its parts in one transaction, so a failed import leaves
+the store as it was.
+"""
+
+from __future__ import annotations
+
+import json
+import re
+from collections.abc import Callable
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from partsel import rules, units
+from partsel.catalog import (BY_NAME, CAPACITOR_TECHNOLOGIES, COLUMNS, INDUCTOR_TECHNOLOGIES,
+                             KINDS, LIFECYCLES, MODEL_PARAMETERS, MOUNTINGS, NAMES, PROVENANCES,
+                             REQUIRED)
+from partsel.errors import CatalogError, PartselError
+from partsel.io.catalog import read_cells
+from partsel.store.db import Store
+
+MAX_LISTED = 20
+
+
+@dataclass(frozen=True)
+class Problem:
+    """One refused cell. ``row`` counts data rows from 1 (the header is not a row)."""
+
+    row: int
+    column: str
+    reason: str
+
+    def __str__(self) -> str:
+        where = f"row {self.row} (file line {self.row + 1})" if self.row else "header"
+        return f"{where}, column {self.column}: {self.reason}"
+
+
+@dataclass(frozen=True)
+class ImportSummary:
+    file: str
+    rows: int
+    added: int
+    replaced: int
+    refused: int
+    estimated: dict[str, int]
+
+    def text(self) -> str:
+        est = ", ".join(f"{k} for {v}" for k, v in self.estimated.items() if v)
+        return (f"{self.file}: {self.rows} rows read, {self.added} parts added, {self.replaced} "
+                f"replaced, {self.refused} refused"
+                + (f"; estimated by rule: {est}" if est else ""))
+
+
+ALIASES = {
+    "technology": {"ceramic": "mlcc", "aluminium": "aluminum", "thin film": "thin_film",
+                   "thin-film": "thin_film", "al_polymer": "polymer", "polymer_aluminum": "polymer",
+                   "wire_wound": "wirewound", "wire-wound": "wirewound"},
+    "mounting": {"through hole": "through_hole", "through-hole": "through_hole", "tht": "through_hole",
+                 "surface mount": "smd", "smt": "smd"},
+    "lifecycle": {"not recommended": "nrnd", "not_recommended": "nrnd", "eol": "obsolete",
+                  "discontinued": "obsolete", "production": "active"},
+    "kind": {"cap": "capacitor", "ind": "inductor"},
+}
+
+
+def normalise_header(name: str) -> str:
+    """'Rated Voltage' -> 'rated_voltage'; catalog names are matched in this form."""
+    return re.sub(r"[\s\-]+", "_", name.strip().lower())
+
+
+def _parse_unique(cells: pd.Series, parse: Callable[[str], Any], column: str,
+                  problems: list[Problem], row_numbers: np.ndarray) -> pd.Series:
+    """Parse each distinct non-empty text once; record a problem for each failing row."""
+    out = pd.Series([None] * len(cells), index=cells.index, dtype=object)
+    nonempty = cells != ""
+    parsed: dict[str, Any] = {}
+    failed: dict[str, str] = {}
+    for text in pd.unique(cells[nonempty]):
+        try:
+            parsed[text] = parse(text)
+        except PartselError as exc:
+            failed[text] = str(exc)
+    if failed:
+        bad = cells.isin(list(failed))
+        for i in np.flatnonzero(bad.to_numpy()):
+            problems.append(Problem(int(row_numbers[i]), column, failed[cells.iat[i]]))
+    out[nonempty] = cells[nonempty].map(parsed)
+    return out
+
+
+def _choice(column: str, allowed: tuple[str, ...]) -> Callable[[str], str]:
+    aliases = ALIASES.get(column, {})
+
+    def parse(text: str) -> str:
+        key = text.strip().lower().replace(" ", "_") if column != "lifecycle" else \
+            text.strip().lower()
+        key = aliases.get(text.strip().lower(), aliases.get(key, key)).replace(" ", "_")
+        if key not in allowed:
+            raise CatalogError(f"'{text}' is not a known {column}: use one of "
+                               + ", ".join(allowed))
+        return key
+    return parse
+
+
+def _dielectric(text: str) -> str:
+    from partsel.standards import eia198
+    return eia198.decode(text).code
+
+
+def _safety_class(text: str) -> str:
+    from partsel.standards import safety
+    code = text.strip().upper()
+    if code not in safety.SAFETY_CLASSES:
+        raise CatalogError(f"'{text}' is not an IEC 60384-14 class: use one of "
+                           + ", ".join(safety.SAFETY_CLASSES))
+    return code
+
+
+def _int_in(lo: int, hi: int | None, what: str) -> Callable[[str], int]:
+    def parse(text: str) -> int:
+        try:
+            number = float(text)
+        except ValueError:
+            raise CatalogError(f"'{text}' is not a whole number ({what})") from None
+        if not number.is_integer() or number < lo or (hi is not None and number > hi):
+            rng = f"{lo}..{hi}" if hi is not None else f">= {lo}"
+            raise CatalogError(f"'{text}' is not a whole number in {rng} ({what})")
+        return int(number)
+    return parse
+
+
+def _quantity(unit: str, what: str, lo: float | None = None, strict: bool = False
+              ) -> Callable[[str], float]:
+    def parse(text: str) -> float:
+        x = units.parse_quantity(text, unit, what=what)
+        if lo is not None and (x < lo or (strict and x == lo)):
+            raise CatalogError(f"'{text}' is out of range for {what}: must be "
+                               f"{'>' if strict else '>='} {lo:g}")
+        return x
+    return parse
+
+
+_CURVE_POINT = re.compile(r"^\s*(?P<v>[^:=]+?)\s*[:=]\s*(?P<r>[^:=]+?)\s*$")
+
+
+def parse_bias_curve(text: str) -> str:
+    """'0V:1, 3.3V:0.62, 6.3V:41%' -> canonical '0V:1, 3.3V:0.62, 6.3V:0.41'.
+
+    Voltages strictly ascending, ratios in (0, 1.5]; at least one point.
+    """
+    points = []
+    for chunk in re.split(r"[;,]", text):
+        if not chunk.strip():
+            continue
+        m = _CURVE_POINT.match(chunk)
+        if not m:
+            raise CatalogError(f"bias curve point '{chunk.strip()}' is not 'voltage:ratio' "
+                               "(write e.g. '0V:1, 3.3V:0.62')")
+        v = units.parse_quantity(m["v"], "V", what="bias voltage")
+        r = units.parse_percent(m["r"])
+        if not 0 < r <= 1.5:
+            raise CatalogError(f"bias curve ratio '{m['r']}' must lie in (0, 1.5]")
+        points.append((v, r))
+    if not points:
+        raise CatalogError("empty bias curve: write e.g. '0V:1, 3.3V:0.62'")
+    vs = [p[0] for p in points]
+    if any(b <= a for a, b in zip(vs, vs[1:], strict=False)) or vs[0] < 0:
+        raise CatalogError("bias curve voltages must be >= 0 and strictly ascending")
+    return ", ".join(f"{v!r}V:{r!r}" for v, r in points)
+
+
+def _parsers() -> dict[str, Callable[[str], Any]]:
+    return {
+        "kind": _choice("kind", KINDS),
+        "technology": _choice("technology", CAPACITOR_TECHNOLOGIES + INDUCTOR_TECHNOLOGIES),
+        "lifecycle": _choice("lifecycle", LIFECYCLES),
+        "mounting": _choice("mounting", MOUNTINGS),
+        "dielectric": _dielectric,
+        "safety_class": _safety_class,
+        "rated_voltage": _quantity("V", "rated_voltage", 0.0, strict=True),
+        "esr": _quantity("ohm", "esr", 0.0),
+        "esl": _quantity("H", "esl", 0.0),
+        "dcr": _quantity("ohm", "dcr", 0.0),
+        "srf": _quantity("Hz", "srf", 0.0, strict=True),
+        "rp": _quantity("ohm", "rp", 0.0, strict=True),
+        "isat": _quantity("A", "isat", 0.0, strict=True),
+        "irms": _quantity("A", "irms", 0.0, strict=True),
+        "height": _quantity("m", "height", 0.0, strict=True),
+        "temp_min": _quantity("degC", "temp_min"),
+        "temp_max": _quantity("degC", "temp_max"),
+        "tan_delta": lambda t: _fraction_in(t, "tan_delta", 0.0, 1.0),
+        "isat_drop": lambda t: _fraction_in(t, "isat_drop", 0.0, 1.0),
+        "price": _quantity("", "price", 0.0),
+        "stock": _int_in(0, None, "stock"),
+        "aec_q200_grade": _int_in(0, 4, "AEC-Q200 grade"),
+        "bias_curve": parse_bias_curve,
+    }
+
+
+def _fraction_in(text: str, what: str, lo: float, hi: float) -> float:
+    x = units.parse_percent(text)
+    if not lo <= x < hi:
+        raise CatalogError(f"'{text}' is out of range for {what}: must be in [{lo:g}, {hi:g})")
+    return x
+
+
+def parse_catalog(cells: pd.DataFrame) -> tuple[pd.DataFrame, list[Problem]]:
+    """Parse a frame of text cells into SI values; return it with every problem found."""
+    problems: list[Problem] = []
+    headers = [normalise_header(c) for c in cells.columns]
+    seen: dict[str, str] = {}
+    for raw, norm in zip(cells.columns, headers, strict=True):
+        if norm in seen:
+            problems.append(Problem(0, raw, f"duplicate column (same as '{seen[norm]}')"))
+        seen[norm] = raw
+    missing = [c for c in REQUIRED if c not in headers]
+    if missing:
+        problems.append(Problem(0, ", ".join(missing), "required column missing; the file has "
+                                + ", ".join(map(str, cells.columns))))
+    if problems:
+        return pd.DataFrame(), problems
+    cells = cells.set_axis(headers, axis=1)
+    n = len(cells)
+    rows = np.arange(1, n + 1)
+    out = pd.DataFrame(index=cells.index)
+    for name in ("part_number", "maker"):
+        col = cells[name]
+        for i in np.flatnonzero((col == "").to_numpy()):
+            problems.append(Problem(int(rows[i]), name, "empty: every part needs one"))
+        out[name] = col.where(col != "", None)
+    parsers = _parsers()
+    for name, parse in parsers.items():
+        if name in cells:
+            out[name] = _parse_unique(cells[name], parse, name, problems, rows)
+        else:
+            out[name] = None
+    kind = out["kind"]
+    for i in np.flatnonzero(kind.isna().to_numpy() & (cells["kind"] == "").to_numpy()):
+        problems.append(Problem(int(rows[i]), "kind", "empty: write capacitor or inductor"))
+    # The value's unit follows the row's kind: F for capacitors, H for inductors.
+    value_cells = cells["value"]
+    keyed = value_cells.where(value_cells == "", kind.fillna("?").astype(str) + "\x00" +
+                              value_cells)
+
+    def parse_value(key: str) -> float:
+        k, text = key.split("\x00", 1)
+        unit = {"capacitor": "F", "inductor": "H"}.get(k, "F|H")
+        what = {"F": "capacitance", "H": "inductance"}.get(unit, "value")
+        return _quantity(unit, what, 0.0, strict=True)(text)
+    out["value"] = _parse_unique(keyed, parse_value, "value", problems, rows)
+    for i in np.flatnonzero((value_cells == "").to_numpy()):
+        problems.append(Problem(int(rows[i]), "value", "empty: every part needs its "
+                                "capacitance or inductance"))
+    if "tolerance" in cells:
+        tol_keyed = cells["tolerance"].where(cells["tolerance"] == "", cells["tolerance"] + "\x00"
+                                             + out["value"].astype(str))
+
+        def parse_tol(key: str) -> float:
+            text, val = key.split("\x00", 1)
+            v = float(val) if val not in ("None", "nan") else None
+            return units.parse_tolerance(text, v)
+        out["tolerance"] = _parse_unique(tol_keyed, parse_tol, "tolerance", problems, rows)
+    else:
+        out["tolerance"] = None
+    out["case"] = cells["case"].where(cells["case"] != "", None) if "case" in cells else None
+    _check_rows(out, rows, problems)
+    _provenance(out, cells, rows, problems)
+    known = set(NAMES) | {p + "_source" for p in MODEL_PARAMETERS}
+    extras = [c for c in cells.columns if c not in known]
+    if extras:
+        sub = cells[extras]
+        out["extra"] = [json.dumps({k: v for k, v in rec.items() if v != ""}) for rec in
+                        sub.to_dict("records")]
+    else:
+        out["extra"] = None
+    problems.sort(key=lambda p: (p.row, NAMES.index(p.column) if p.column in NAMES else 99))
+    return out, problems
+
+
+def _check_rows(out: pd.DataFrame, rows: np.ndarray, problems: list[Problem]) -> None:
+    keys = out["maker"].astype(str).str.lower() + "\x00" + out["part_number"].astype(str)
+    dup = keys.duplicated(keep="first").to_numpy()
+    if dup.any():
+        first = {}
+        for i, k in enumerate(keys):
+            first.setdefault(k, rows[i])
+        for i in np.flatnonzero(dup):
+            problems.append(Problem(int(rows[i]), "part_number",
+                                    f"'{out['part_number'].iat[i]}' from "
+                                    f"'{out['maker'].iat[i]}' already appears in row "
+                                    f"{first[keys.iat[i]]}: keep one row per part"))
+    tmin = pd.to_numeric(out["temp_min"], errors="coerce")
+    tmax = pd.to_numeric(out["temp_max"], errors="coerce")
+    for i in np.flatnonzero((tmin >= tmax).to_numpy()):
+        problems.append(Problem(int(rows[i]), "temp_max", "temp_max must be above temp_min"))
+    kind = out["kind"]
+    tech = out["technology"]
+    cap_tech = tech.isin(CAPACITOR_TECHNOLOGIES)
+    ind_tech = tech.isin(INDUCTOR_TECHNOLOGIES)
+    wrong = ((kind == "capacitor") & ind_tech) | ((kind == "inductor") & cap_tech)
+    for i in np.flatnonzero(wrong.to_numpy()):
+        problems.append(Problem(int(rows[i]), "technology", f"'{tech.iat[i]}' is not a "
+                                f"{kind.iat[i]} technology"))
+
+
+def _provenance(out: pd.DataFrame, cells: pd.DataFrame, rows: np.ndarray,
+                problems: list[Problem]) -> None:
+    """Fill <param>_source; estimate missing capacitor ESR and ESL by rule of thumb."""
+    for p in MODEL_PARAMETERS:
+        col = f"{p}_source"
+        given = cells[col] if col in cells else pd.Series("", index=cells.index)
+        src = given.str.lower().where(given != "", "datasheet")
+        bad = ~src.isin(PROVENANCES)
+        for i in np.flatnonzero(bad.to_numpy()):
+            problems.append(Problem(int(rows[i]), col, f"'{given.iat[i]}' is not one of "
+                                    + ", ".join(PROVENANCES)))
+        out[col] = src.where(out[p].notna(), None)
+    cap = (out["kind"] == "capacitor").to_numpy()
+    tech = out["technology"].astype(object)
+    for p, estimate in (("esl", lambda: rules.estimate_esl(out["case"].astype(object), tech,
+                                                         out["mounting"].astype(object))),
+                        ("esr", lambda: rules.estimate_esr(tech))):
+        need = cap & out[p].isna().to_numpy()
+        if need.any():
+            est = estimate()
+            out.loc[need, p] = est[need]
+            out.loc[need, f"{p}_source"] = "estimated by rule"
+    if "lifecycle" in out:
+        out["lifecycle"] = out["lifecycle"].fillna("active")
+
+
+def check_catalog(path: str | Path) -> tuple[pd.DataFrame, list[Problem]]:
+    """Read and parse a catalog file without touching any store."""
+    return parse_catalog(read_cells(path))
+
+
+def _refusal(path: Path, problems: list[Problem]) -> CatalogError:
+    first = problems[0]
+    more = len(problems) - 1
+    tail = f"; and {more} more problem{'s' if more > 1 else ''} (list them with 'partsel " \
+           f"import --check {path.name}')" if more else ""
+    return CatalogError(f"{path.name} was not imported (nothing changed): {first}{tail}")
+
+
+def import_catalog(store: Store, path: str | Path) -> ImportSummary:
+    """Add or replace the parts of a catalog file, all or nothing."""
+    p = Path(path)
+    frame, problems = check_catalog(p)
+    if problems:
+        raise _refusal(p, problems)
+    estimated = {c: int((frame[f"{c}_source"] == "estimated by rule").sum()) for c in
+                 ("esr", "esl")}
+    added, replaced = insert_frame(store, frame, source_file=p.name)
+    return ImportSummary(p.name, len(frame), added, replaced, 0, estimated)
+
+
+_BIAS_V_SQL = "CAST(regexp_extract_all(bias_curve, '([0-9.eE+-]+)V:', 1) AS DOUBLE[])"
+_BIAS_R_SQL = "CAST(regexp_extract_all(bias_curve, ':([0-9.eE+-]+)', 1) AS DOUBLE[])"
+
+
+def insert_frame(store: Store, frame: pd.DataFrame, source_file: str,
+                 progress: Callable[[int, int], None] | None = None,
+                 chunk: int = 250_000) -> tuple[int, int]:
+    """Add or replace parts (keyed by maker and part number) in one transaction.
+
+    ``frame`` holds catalog columns in SI units, ``<param>_source`` columns, optional ``extra``
+    (a JSON object per row) and ``bias_curve`` in canonical text form. Returns (added, replaced).
+    ``progress(done, total)`` is called after each chunk of rows (all in the one transaction).
+    """
+    cols = list(NAMES) + [p + "_source" for p in MODEL_PARAMETERS]
+    df = frame.copy()
+    for c in cols + ["extra"]:
+        if c not in df:
+            df[c] = None
+    for c in COLUMNS:
+        if c.sql_type == "DOUBLE":
+            df[c.name] = pd.to_numeric(df[c.name], errors="coerce").astype(float)
+        elif c.sql_type in ("INTEGER", "BIGINT"):
+            df[c.name] = pd.to_numeric(df[c.name], errors="coerce").astype("Int64")
+        else:
+            df[c.name] = df[c.name].astype(object).where(df[c.name].notna(), None)
+    df = df[cols + ["extra"]]
+    con = store.con
+    quoted = ", ".join(f'"{c}"' for c in cols)
+    replaced = 0
+    con.execute("BEGIN TRANSACTION")
+    try:
+        for start in range(0, len(df), chunk):
+            con.register("incoming", df.iloc[start:start + chunk])
+            n_old = con.execute(
+                "SELECT count(*) FROM parts p SEMI JOIN incoming i "
+                "ON p.maker = i.maker AND p.part_number = i.part_number").fetchone()[0]
+            if n_old:
+                con.execute("DELETE FROM parts WHERE EXISTS (SELECT 1 FROM incoming i "
+                            "WHERE i.maker = parts.maker AND i.part_number = parts.part_number)")
+            replaced += n_old
+            con.execute(
+                f"INSERT INTO parts (id, {quoted}, bias_v, bias_ratio, extra, source_file, "
+                f"imported_at) SELECT nextval('part_ids'), {quoted}, {_BIAS_V_SQL}, "
+                f"{_BIAS_R_SQL}, extra, ?, now() FROM incoming", [source_file])
+            con.unregister("incoming")
+            if progress:
+                progress(min(start + chunk, len(df)), len(df))
+        con.execute("COMMIT")
+    except Exception:
+        con.execute("ROLLBACK")
+        raise
+    return len(df) - replaced, replaced

@@ -1,0 +1,77 @@
+"""Store schema and its migrations.
+
+The schema version lives in ``meta``. :data:`MIGRATIONS` maps each version to the statements that
+bring a store from the version before it; :func:`migrate` applies the missing ones in order, in
+one transaction. To change the schema, append a new version (never edit an old one) and add a
+test that opens a store of the previous version.
+"""
+
+from __future__ import annotations
+
+import duckdb
+
+from partsel.catalog import COLUMNS, MODEL_PARAMETERS
+
+
+def _q(name: str) -> str:
+    return f'"{name}"'
+
+
+def _parts_ddl() -> str:
+    cols = [f"{_q(c.name)} {c.sql_type}" for c in COLUMNS]
+    cols += [f"{_q(p + '_source')} VARCHAR" for p in MODEL_PARAMETERS]
+    cols += [
+        "bias_v DOUBLE[]",          # parsed bias_curve voltages [V], ascending
+        "bias_ratio DOUBLE[]",      # parsed bias_curve C(V)/C0 [1]
+        "extra VARCHAR",            # JSON object of columns the catalog format does not know
+        "source_file VARCHAR",
+        "imported_at TIMESTAMP",
+    ]
+    return "CREATE TABLE parts (\n  id BIGINT NOT NULL,\n  " + ",\n  ".join(cols) + "\n)"
+
+
+MIGRATIONS: dict[int, list[str]] = {
+    1: [
+        "CREATE TABLE meta (key VARCHAR PRIMARY KEY, value VARCHAR)",
+        _parts_ddl(),
+        "CREATE SEQUENCE part_ids START 1",
+        # Measured impedance sweeps, one row per sweep (issue: measured data).
+        """CREATE TABLE sweeps (
+            maker VARCHAR NOT NULL, part_number VARCHAR NOT NULL,
+            source_file VARCHAR, fixture VARCHAR, imported_at TIMESTAMP,
+            f DOUBLE[], z_re DOUBLE[], z_im DOUBLE[], note VARCHAR)""",
+        # Earlier models of a part, kept when a fit replaces them.
+        """CREATE TABLE model_history (
+            maker VARCHAR NOT NULL, part_number VARCHAR NOT NULL,
+            saved_at TIMESTAMP, reason VARCHAR, model VARCHAR)""",
+    ],
+}
+SCHEMA_VERSION = max(MIGRATIONS)
+
+
+def current_version(con: duckdb.DuckDBPyConnection) -> int | None:
+    """Schema version of an open store, or None when it has no partsel meta table."""
+    has_meta = con.execute(
+        "SELECT count(*) FROM information_schema.tables WHERE table_name = 'meta'").fetchone()[0]
+    if not has_meta:
+        return None
+    row = con.execute("SELECT value FROM meta WHERE key = 'schema_version'").fetchone()
+    return int(row[0]) if row else None
+
+
+def migrate(con: duckdb.DuckDBPyConnection, from_version: int | None) -> None:
+    """Apply every migration after ``from_version`` (None: a new, empty database)."""
+    start = (from_version or 0) + 1
+    if start > SCHEMA_VERSION:
+        return
+    con.execute("BEGIN TRANSACTION")
+    try:
+        for version in range(start, SCHEMA_VERSION + 1):
+            for stmt in MIGRATIONS[version]:
+                con.execute(stmt)
+        con.execute("INSERT OR REPLACE INTO meta VALUES ('schema_version', ?)",
+                    [str(SCHEMA_VERSION)])
+        con.execute("COMMIT")
+    except Exception:
+        con.execute("ROLLBACK")
+        raise
