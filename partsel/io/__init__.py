@@ -1,0 +1,1 @@
+"""File formats at the edge: catalogs, measured sweeps (CSV, Touchstone) and SPICE export."""
