@@ -15,6 +15,24 @@ import click
 import typer
 from typer.core import TyperGroup
 
+try:  # recent typer releases carry their own copy of click
+    from typer._click import exceptions as _typer_click_exc
+except ImportError:  # older typer uses click itself
+    _typer_click_exc = click.exceptions
+
+
+
+def _classes(name: str) -> tuple[type[BaseException], ...]:
+    found = {getattr(m, name) for m in (click.exceptions, _typer_click_exc, typer)
+             if isinstance(getattr(m, name, None), type)}
+    return tuple(found)
+
+
+_USAGE = _classes("UsageError")
+_CLICK = _classes("ClickException")
+_ABORT = _classes("Abort")
+_NOARGS = _classes("NoArgsIsHelpError")
+
 from partsel import __version__
 from partsel.errors import PartselError
 
@@ -28,17 +46,17 @@ class _Group(TyperGroup):
             rc = super().main(*args, **kwargs)
         except PartselError as exc:
             _fail(str(exc), exc.exit_code)
-        except click.exceptions.NoArgsIsHelpError as exc:
+        except _NOARGS as exc:
             click.echo(exc.ctx.get_help() if exc.ctx else "", err=True)
             sys.exit(2)
-        except click.UsageError as exc:
+        except _USAGE as exc:
             hint = ""
             if exc.ctx is not None and exc.ctx.command_path:
                 hint = f" (see '{exc.ctx.command_path} --help')"
             _fail(exc.format_message().replace("\n", " ") + hint, 2)
-        except click.ClickException as exc:
+        except _CLICK as exc:
             _fail(exc.format_message().replace("\n", " "), exc.exit_code or 1)
-        except click.exceptions.Abort:
+        except _ABORT:
             _fail("aborted", 1)
         except BrokenPipeError:
             sys.stderr.close()

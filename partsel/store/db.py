@@ -149,8 +149,8 @@ def _connect(path: Path, read_only: bool) -> duckdb.DuckDBPyConnection:
         if "lock" in text.lower():
             raise StoreError(f"the store {path} is in use by another process ({text}); "
                              "close it there or open a copy") from None
-        raise StoreError(f"{path} is not a partsel store (DuckDB could not open it: {text}); "
-                         "give --store a .duckdb file made by partsel, or a new file name") from None
+        raise StoreError(f"{path} is not a partsel store (not a DuckDB database file); give "
+                         "--store a .duckdb file made by partsel, or a new file name") from None
 
 
 def open_store(path: str | os.PathLike[str] | None = None, *, write: bool = False,
