@@ -1,0 +1,142 @@
+"""SPICE export: the subcircuits simulated by ngspice agree with the engine models."""
+
+from __future__ import annotations
+
+import math
+import shutil
+import subprocess
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from partsel.engine import capacitor, inductor
+from partsel.errors import ModelError
+from partsel.io.spice import capacitor_subckt, inductor_subckt, spice_name
+
+NGSPICE = Path("/usr/bin/ngspice")
+needs_ngspice = pytest.mark.skipif(not NGSPICE.exists() and shutil.which("ngspice") is None,
+                                   reason="ngspice is not installed")
+R_DC = 1e15  # a DC path for the operating point; its effect is added to the expectation
+
+
+def _ac(tmp_path: Path, subckt: str, name: str) -> tuple[np.ndarray, np.ndarray]:
+    """Drive 1 A AC into the subcircuit's pins and return (f, Z) from ngspice."""
+    out = tmp_path / "z.txt"
+    deck = "\n".join([
+        "* partsel test bench: 1 A AC into pins 1-0, so V(1) = Z",
+        subckt.rstrip(),
+        f"X1 1 0 {name}",
+        "I1 0 1 DC 0 AC 1",
+        f"RDC 1 0 {R_DC!r}",
+        ".ac dec 50 1k 1G",
+        ".control",
+        "set wr_singlescale",
+        "set numdgt=16",
+        "run",
+        f"wrdata {out} v(1)",
+        "quit",
+        ".endc",
+        ".end",
+    ]) + "\n"
+    cir = tmp_path / "bench.cir"
+    cir.write_text(deck)
+    exe = str(NGSPICE) if NGSPICE.exists() else shutil.which("ngspice")
+    proc = subprocess.run([exe, "-b", str(cir)], capture_output=True, text=True, timeout=120,
+                          cwd=tmp_path)
+    assert proc.returncode == 0, proc.stdout + proc.stderr
+    data = np.loadtxt(out)
+    assert data.shape == (301, 3)  # 6 decades x 50 points + 1 (ngspice .ac dec)
+    return data[:, 0], data[:, 1] + 1j * data[:, 2]
+
+
+def _with_rdc(z):
+    return 1.0 / (1.0 / z + 1.0 / R_DC)
+
+
+def _compare(z_spice, z_model):
+    # |Z| to 1e-6 relative and phase to 1e-6 rad (the brief's bound; ngspice solves in double)
+    np.testing.assert_allclose(np.abs(z_spice), np.abs(z_model), rtol=1e-6)
+    np.testing.assert_allclose(np.angle(z_spice), np.angle(z_model), rtol=0, atol=1e-6)
+
+
+@pytest.mark.ngspice
+@needs_ngspice
+@pytest.mark.parametrize("c, esr, esl", [(100e-9, 10e-3, 0.5e-9), (22e-6, 2e-3, 1.2e-9),
+                                         (1e-9, 0.0, 0.3e-9)])
+def test_capacitor_subckt_matches_engine(tmp_path, c, esr, esl):
+    text = capacitor_subckt("C-TEST/1", c, esr, esl)
+    f, z = _ac(tmp_path, text, spice_name("C-TEST/1"))
+    _compare(z, _with_rdc(capacitor.impedance(f, c, esr, esl)))  # engine series R-L-C
+
+
+@pytest.mark.ngspice
+@needs_ngspice
+def test_capacitor_with_tan_delta_exact_at_f_ref(tmp_path):
+    c, esr, esl, td, f_ref = 10e-6, 3e-3, 1e-9, 0.05, 1e6  # 1 MHz lies on the dec-50 grid
+    text = capacitor_subckt("CX", c, esr, esl, tan_delta=td, f_ref=f_ref)
+    f, z = _ac(tmp_path, text, "CX")
+    r_const = esr + td / (2 * math.pi * f_ref * c)  # derived: R_d = tan_delta / (omega C)
+    _compare(z, _with_rdc(capacitor.impedance(f, c, r_const, esl)))
+    k = int(np.argmin(np.abs(f / f_ref - 1)))
+    assert f[k] == pytest.approx(f_ref, rel=1e-12)
+    _compare(z[k:k + 1], _with_rdc(capacitor.impedance(f[k:k + 1], c, esr, esl, td)))
+    # away from f_ref the constant resistor and the dielectric loss differ
+    far = capacitor.impedance(f[0], c, esr, esl, td)
+    assert abs(abs(z[0]) / abs(far) - 1) > 1e-3
+
+
+@pytest.mark.ngspice
+@needs_ngspice
+@pytest.mark.parametrize("lval, dcr, srf, rp", [(10e-6, 50e-3, 30e6, 20e3),
+                                                (100e-9, 5e-3, 800e6, None),
+                                                (1e-3, 2.0, 1e6, 1e6)])
+def test_inductor_subckt_matches_engine(tmp_path, lval, dcr, srf, rp):
+    cp = float(inductor.winding_capacitance(lval, srf))
+    text = inductor_subckt("L 10u", lval, dcr, cp, rp)
+    f, z = _ac(tmp_path, text, spice_name("L 10u"))
+    expected = inductor.impedance(f, lval, dcr, cp, np.inf if rp is None else rp)
+    _compare(z, _with_rdc(expected))  # engine (L + R_s) || C_p || R_p
+
+
+def test_names_and_header():
+    assert spice_name("GRM-155 100n/16V") == "GRM_155_100n_16V"
+    assert spice_name("2.2uH") == "P2_2uH"
+    text = capacitor_subckt("AB-1 µ", 1e-7, 0.01, 5e-10,
+                            provenance={"value": "datasheet", "esl": "estimated by rule",
+                                        "esr": "measured fit"})
+    assert ".SUBCKT AB_1__ 1 2" in text and text.rstrip().endswith(".ENDS AB_1__")
+    assert "* part number: AB-1 µ" in text
+    assert "= 1e-07 F  (datasheet)" in text
+    assert "= 5e-10 H  (estimated by rule)" in text
+    assert "= 0.01 ohm  (measured fit)" in text
+    assert "exact at f_ref" not in text  # no loss note without tan_delta
+    lossy = capacitor_subckt("X", 1e-7, 0.01, 5e-10, tan_delta=0.02)
+    assert "exact at f_ref only" in lossy
+    # f_ref defaults to the SRF (derived: R = ESR + tan_delta/(2 pi f_ref C),
+    # SRF = 1/(2 pi sqrt(L C)))
+    srf = 1 / (2 * math.pi * math.sqrt(5e-10 * 1e-7))
+    r_line = next(ln for ln in lossy.splitlines() if ln.startswith("R1 "))
+    assert float(r_line.split()[3]) == pytest.approx(0.01 + 0.02 / (2 * math.pi * srf * 1e-7),
+                                                     rel=1e-14)
+
+
+def test_full_precision_values():
+    c = 1 / 3 * 1e-6
+    text = inductor_subckt("L1", c, 0.1 / 3, 0.0, 1e4 / 7)
+    values = [float(ln.split()[3]) for ln in text.splitlines() if ln[:2] in ("L1", "R1", "R2")]
+    assert values == [c, 0.1 / 3, 1e4 / 7]  # repr reads back as the same double
+    assert "C1 " not in text  # C_p = 0 leaves the capacitor out
+
+
+def test_bad_values():
+    with pytest.raises(ModelError):
+        capacitor_subckt("X", 0.0, 0.01, 1e-9)
+    with pytest.raises(ModelError):
+        capacitor_subckt("X", 1e-6, -0.01, 1e-9)
+    with pytest.raises(ModelError):
+        inductor_subckt("X", 1e-6, 0.1, 1e-12, rp=0.0)
+    with pytest.raises(ModelError):
+        capacitor_subckt("X", 1e-6, 0.01, 1e-9, provenance={"esr": "guess"})
+    with pytest.raises(ModelError):
+        spice_name("  ")
