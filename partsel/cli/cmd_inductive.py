@@ -1,0 +1,110 @@
+"""partsel inductive: check inductors against a target frequency and a current."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated, Any
+
+import typer
+
+from partsel.cli import options as opt
+from partsel.cli.app import app, echo, note, open_store_for
+from partsel.render import Col
+
+COLS = [Col("part_number", "part"), Col("value", "L", "H"), Col("srf", "SRF", "Hz"),
+        Col("zero_phase_hz", "f(phase=0)", "Hz"), Col("srf_ratio", "SRF/target", ""),
+        Col("l_eff_h", "L at target", "H"), Col("l_change", "dL", "%"),
+        Col("q_at_target", "Q", ""), Col("verdict", "verdict")]
+CURRENT_COLS = [Col("isat", "Isat", "A"), Col("isat_drop", "L drop", "%"),
+                Col("isat_margin", "Isat margin", ""), Col("irms", "Irms", "A"),
+                Col("irms_margin", "Irms margin", "")]
+
+# Row key -> JSON/CSV key (SI units in the name where the key alone does not say).
+JSON_KEYS = {
+    "part_number": "part_number", "maker": "maker", "verdict": "verdict", "reasons": "reasons",
+    "value": "value_h", "dcr": "dcr_ohm", "srf": "srf_hz", "rp": "rp_ohm",
+    "target_hz": "target_hz", "zero_phase_hz": "zero_phase_hz", "srf_ratio": "srf_ratio",
+    "srf_grade": "srf_grade", "l_eff_h": "l_eff_h", "l_change": "l_change",
+    "q_at_target": "q_at_target", "isat": "isat_a", "isat_drop": "isat_drop",
+    "irms": "irms_a", "i_peak_a": "i_peak_a", "i_rms_a": "i_rms_a",
+    "isat_margin": "isat_margin", "irms_margin": "irms_margin",
+}
+
+
+def _json_row(row: dict[str, Any]) -> dict[str, Any]:
+    return {JSON_KEYS[k]: v for k, v in row.items() if k in JSON_KEYS}
+
+
+def _csv_row(row: dict[str, Any]) -> dict[str, Any]:
+    out = _json_row(row)
+    out["reasons"] = "; ".join(row["reasons"])
+    return out
+
+
+@app.command("inductive")
+def inductive_cmd(
+    ctx: typer.Context,
+    parts: Annotated[list[str], typer.Argument(metavar="PART...",
+                                               help="Inductor part numbers.")],
+    to: str = typer.Option(..., "--to", metavar="F",
+                           help="Target frequency: the part must be inductive (Im Z > 0) from "
+                                "DC up to F, e.g. 100MHz."),
+    current: str = typer.Option(None, "--current", metavar="I",
+                                help="DC current, e.g. 1.2A: checks Isat and Irms."),
+    ripple: str = typer.Option(None, "--ripple", metavar="I",
+                               help="Peak-to-peak ripple current on top of --current "
+                                    "(triangular): Isat must carry I + ripple/2, Irms "
+                                    "sqrt(I^2 + ripple^2/12)."),
+    warn_below: float = typer.Option(2.0, "--warn-below", metavar="RATIO",
+                                     help="Warn when SRF / target is below RATIO."),
+    predictable_at: float = typer.Option(10.0, "--predictable-at", metavar="RATIO",
+                                         help="Call the inductance predictable from "
+                                              "SRF / target >= RATIO on (rule of thumb 10)."),
+    current_margin: float = typer.Option(1.2, "--current-margin", metavar="RATIO",
+                                         help="Warn when Isat or Irms exceed the need by less "
+                                              "than RATIO (1 = no warning)."),
+    min_q: str = typer.Option(None, "--min-q", metavar="Q",
+                              help="Fail parts whose Q at the target is below Q."),
+    plot: Annotated[Path | None, typer.Option(
+        "--plot", metavar="FILE.png",
+        help="Also draw |Z|, phase and each part's inductive range.")] = None,
+    maker: str = typer.Option(None, "--maker", help="Maker, when several share a number."),
+    fmt: str = opt.format_option(),
+) -> None:
+    """Check inductors: inductive up to a target frequency, SRF margin, L and Q there, currents.
+
+    Each part gets a verdict (pass, warn or fail) and every reason. The exit code is 0 when no
+    part fails (warnings alone exit 0), 1 when any part fails, 2 for bad input.
+
+    Example: partsel inductive PART1 PART2 --to 100MHz --current 1.2A --ripple 0.3A
+    """
+    from partsel import units
+    from partsel.jobs.inductive import Spec, check
+    from partsel.jobs.inductive import plot as draw
+
+    fmt = opt.check_format(fmt)
+    spec = Spec(target=units.parse_quantity(to, "Hz", what="--to"),
+                current=opt.quantity(current, "A", "--current"),
+                ripple=opt.quantity(ripple, "A", "--ripple"),
+                warn_below=warn_below, predictable_at=predictable_at,
+                current_margin=current_margin,
+                min_q=units.parse_number(min_q, "--min-q") if min_q is not None else None)
+    spec.validate()
+    with open_store_for(ctx) as store:
+        result = check(store, parts, spec, maker)
+    if fmt == "table":
+        cols = COLS[:-1] + (CURRENT_COLS if spec.current is not None else []) + COLS[-1:]
+        lines = [opt.emit(result.rows, cols, fmt), ""]
+        for r in result.rows:
+            lines.append(f"{r['part_number']}: {r['verdict']}")
+            lines.extend(f"  {reason}" for reason in r["reasons"])
+        echo("\n".join(lines))
+    else:
+        echo(opt.emit(result.rows, [], fmt, json_keys=_json_row if fmt == "json" else _csv_row))
+    if plot is not None:
+        note(f"plot written to {draw(result, plot)}")
+    counts = {v: sum(r["verdict"] == v for r in result.rows) for v in ("pass", "warn", "fail")}
+    note(f"target {units.format_quantity(spec.target, 'Hz')}: " +
+         ", ".join(f"{n} {v}" for v, n in counts.items()) + ". Model: " + "; ".join(result.effects))
+    if result.any_fail:
+        raise typer.Exit(code=1)

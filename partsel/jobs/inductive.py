@@ -1,0 +1,447 @@
+r"""The inductor check: does a part stay inductive up to a target frequency, and carry its current?
+
+For every part the check evaluates, at once over all parts (numpy, SI units):
+
+- the exact zero-phase frequency of the model (L + DCR) || C_p (|| R_p),
+  :math:`\omega_0^2 = 1/(L C_p) - (R_s/L)^2` (derived; R_p does not move it). The part is
+  inductive up to the target only when the target lies below it; this is the hard requirement
+  ("Inductive up to F" means Im Z(f) > 0 for every f <= F);
+- the ratio SRF / target of the catalog SRF, graded: below 1x the part fails, below
+  ``warn_below`` (2x) it warns, from ``predictable_at`` (10x) on the inductance is called
+  predictable (rule of thumb: SRF >= 10x the working frequency); in between it passes with a note.
+  The grades use the catalog SRF because the rule of thumb is stated for it; the model's
+  zero-phase frequency lies slightly below it when DCR is not negligible and decides the hard
+  requirement;
+- the apparent inductance Im Z / omega at the target and its change from nominal, which is
+  L/(1 - (f/SRF)^2) - L without losses (derived);
+- Q = Im Z / Re Z of the whole model at the target (omega L / R_s in the series form);
+- with a DC current I_dc and a peak-to-peak ripple I_pp (triangular, as in a switching
+  converter): the peak current I_dc + I_pp/2 against Isat (rule of thumb), and the RMS current
+  sqrt(I_dc^2 + I_pp^2/12) against Irms (derived: the RMS of a DC level plus a zero-mean
+  triangle of peak-to-peak I_pp). Margins are ratios rating / need.
+
+Every check adds one reason "<level>: <text>" with level fail, warn, note or ok. The verdict is
+fail when any reason fails, else warn when any warns, else pass. Parts without an SRF in the
+catalog get the verdict warn ("no SRF in the catalog: self-resonance cannot be checked"), and a
+rating the catalog lacks warns in the same way: an unknown is never a pass.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+
+from partsel.engine import inductor
+from partsel.errors import PartselError, QueryError
+from partsel.jobs.models import Models
+from partsel.store.db import Store
+from partsel.units import format_quantity
+
+VERDICTS = ("pass", "warn", "fail")
+OK, NOTE, WARN, FAIL = 0, 1, 2, 3
+LEVEL_WORDS = ("ok", "note", "warn", "fail")
+# SRF grades, by the ratio SRF / target (see the module docstring).
+GRADES = ("capacitive", "marginal", "usable", "predictable", "unknown")
+
+
+@dataclass(frozen=True)
+class Spec:
+    """What the parts must do. Quantities in SI units.
+
+    Parameters
+    ----------
+    target : float
+        The highest working frequency [Hz]; the part must be inductive from DC up to it.
+    current : float, optional
+        DC current [A].
+    ripple : float, optional
+        Peak-to-peak ripple current [A] on top of ``current`` (a triangle wave).
+    warn_below : float
+        SRF / target below this ratio warns (default 2).
+    predictable_at : float
+        SRF / target from this ratio on keeps the inductance predictable (default 10, rule of
+        thumb).
+    current_margin : float
+        Isat and Irms above the need by less than this ratio warn (default 1.2: 20 % headroom,
+        common practice, no source). 1 turns the warning off.
+    min_q : float, optional
+        Q at the target at least this [1].
+    """
+
+    target: float
+    current: float | None = None
+    ripple: float | None = None
+    warn_below: float = 2.0
+    predictable_at: float = 10.0
+    current_margin: float = 1.2
+    min_q: float | None = None
+
+    def validate(self) -> None:
+        if not (math.isfinite(self.target) and self.target > 0):
+            raise QueryError(f"the target frequency must be above 0 Hz, got "
+                             f"{format_quantity(self.target, 'Hz')}: give e.g. --to 100MHz")
+        for name, v in (("--current", self.current), ("--ripple", self.ripple)):
+            if v is not None and not (math.isfinite(v) and v >= 0):
+                raise QueryError(f"{name} must be 0 A or more, got {format_quantity(v, 'A')}")
+        if self.ripple is not None and self.current is None:
+            raise QueryError("--ripple needs --current: give the DC current too (0A for none)")
+        if not (math.isfinite(self.warn_below) and self.warn_below >= 1):
+            raise QueryError(f"--warn-below must be a ratio of 1 or more, got {self.warn_below:g}")
+        if not (math.isfinite(self.predictable_at) and self.predictable_at >= self.warn_below):
+            raise QueryError(f"--predictable-at ({self.predictable_at:g}) must be at least "
+                             f"--warn-below ({self.warn_below:g})")
+        if not (math.isfinite(self.current_margin) and self.current_margin >= 1):
+            raise QueryError(f"--current-margin must be a ratio of 1 or more, got "
+                             f"{self.current_margin:g}")
+        if self.min_q is not None and not (math.isfinite(self.min_q) and self.min_q > 0):
+            raise QueryError(f"--min-q must be a positive number, got {self.min_q:g}")
+
+    @property
+    def i_peak(self) -> float | None:
+        """I_dc + I_pp/2 [A]: the current Isat must carry (rule of thumb)."""
+        if self.current is None:
+            return None
+        return self.current + (self.ripple or 0.0) / 2.0
+
+    @property
+    def i_rms(self) -> float | None:
+        """sqrt(I_dc^2 + I_pp^2/12) [A]: RMS of DC plus a triangular ripple (derived)."""
+        if self.current is None:
+            return None
+        return math.sqrt(self.current**2 + (self.ripple or 0.0) ** 2 / 12.0)
+
+
+@dataclass
+class Metrics:
+    """Figures of P parts as arrays of shape (P,); NaN where unknown."""
+
+    zero_phase_hz: NDArray[np.float64]
+    srf_ratio: NDArray[np.float64]
+    grade: NDArray[np.int8]          # index into GRADES
+    l_eff_h: NDArray[np.float64]
+    l_change: NDArray[np.float64]    # L_eff / L - 1
+    q_at_target: NDArray[np.float64]
+    isat_margin: NDArray[np.float64]
+    irms_margin: NDArray[np.float64]
+    srf_level: NDArray[np.int8]      # OK, NOTE, WARN or FAIL per check
+    q_level: NDArray[np.int8]
+    isat_level: NDArray[np.int8]
+    irms_level: NDArray[np.int8]
+
+    @property
+    def verdict(self) -> NDArray[np.int8]:
+        """0 pass, 1 warn, 2 fail (index into VERDICTS)."""
+        worst = np.maximum.reduce([self.srf_level, self.q_level, self.isat_level,
+                                   self.irms_level])
+        return np.select([worst == FAIL, worst == WARN], [2, 1], 0).astype(np.int8)
+
+
+def _arr(x: ArrayLike) -> NDArray[np.float64]:
+    return np.atleast_1d(np.asarray(x, dtype=float))
+
+
+def evaluate(spec: Spec, value: ArrayLike, dcr: ArrayLike, srf: ArrayLike,
+             rp: ArrayLike = np.inf, isat: ArrayLike = np.nan,
+             irms: ArrayLike = np.nan) -> Metrics:
+    r"""Check P parts against ``spec``, all at once.
+
+    Parameters
+    ----------
+    spec : Spec
+        Target frequency, currents and thresholds.
+    value, dcr, srf, rp, isat, irms : array_like
+        L [H], DCR [ohm], catalog SRF [Hz], R_p [ohm], Isat [A], Irms [A]; NaN where the catalog
+        has no value (R_p NaN or inf means absent).
+
+    Returns
+    -------
+    Metrics
+        Zero-phase frequency :math:`\omega_0^2 = 1/(L C_p) - (R_s/L)^2` (derived), SRF / target
+        and its grade, L_eff = Im Z / omega at the target and L_eff/L - 1, Q = Im Z / Re Z at
+        the target, current margins, and the level of each check.
+    """
+    spec.validate()
+    lval, r_s, f_srf, r_p = np.broadcast_arrays(_arr(value), _arr(dcr), _arr(srf), _arr(rp))
+    if np.any(~(lval > 0)):
+        raise QueryError("every inductor needs a positive inductance (value) in the catalog")
+    n = lval.shape[0]
+    t = spec.target
+    has_srf = np.isfinite(f_srf) & (f_srf > 0)
+    has_dcr = np.isfinite(r_s)
+    r0 = np.where(has_dcr, r_s, 0.0)
+    cp = inductor.winding_capacitance(lval, np.where(has_srf, f_srf, np.nan))
+    f0 = np.where(has_srf, inductor.zero_phase_frequency(lval, r0, cp), np.nan)
+    ratio = np.where(has_srf, f_srf / t, np.nan)
+
+    inductive = f0 > t
+    grade = np.full(n, GRADES.index("unknown"), dtype=np.int8)
+    grade[has_srf] = np.select(
+        [~inductive, ratio < spec.warn_below, ratio < spec.predictable_at],
+        [0, 1, 2], 3)[has_srf]
+    srf_level = np.array([FAIL, WARN, NOTE, OK, WARN], dtype=np.int8)[grade]
+
+    z = inductor.impedance(t, lval, r0, cp, r_p)
+    w = 2.0 * np.pi * t
+    l_eff = np.where(has_srf, z.imag / w, np.nan)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        q = np.where(has_dcr, z.imag / z.real, np.nan)
+    q_level = np.full(n, OK, dtype=np.int8)
+    if spec.min_q is not None:
+        q_level = np.where(np.isnan(q), WARN, np.where(q >= spec.min_q, OK, FAIL)).astype(np.int8)
+
+    isat_m, isat_level = _margin(isat, spec.i_peak, spec.current_margin, n)
+    irms_m, irms_level = _margin(irms, spec.i_rms, spec.current_margin, n)
+    return Metrics(f0, ratio, grade, l_eff, l_eff / lval - 1.0, q, isat_m, irms_m,
+                   srf_level, q_level, isat_level, irms_level)
+
+
+def _margin(rating: ArrayLike, need: float | None, warn_under: float,
+            n: int) -> tuple[NDArray[np.float64], NDArray[np.int8]]:
+    """rating / need and its level: FAIL below 1, WARN below ``warn_under`` or when unknown."""
+    if need is None:
+        return np.full(n, np.nan), np.full(n, OK, dtype=np.int8)
+    rating = np.broadcast_to(_arr(rating), (n,))
+    with np.errstate(divide="ignore"):
+        m = np.where(np.isfinite(rating), rating / need if need > 0 else np.inf, np.nan)
+    level = np.select([np.isnan(m), m < 1.0, m < warn_under], [WARN, FAIL, WARN], OK)
+    return m, level.astype(np.int8)
+
+
+@dataclass
+class CheckResult:
+    """Rows (one per part, in the order asked) and the model behind them."""
+
+    spec: Spec
+    rows: list[dict[str, Any]]
+    models: Models
+    effects: list[str] = field(default_factory=list)
+
+    @property
+    def any_fail(self) -> bool:
+        return any(r["verdict"] == "fail" for r in self.rows)
+
+
+def _q(x: float, unit: str) -> str:
+    return format_quantity(x, unit)
+
+
+def _reasons(spec: Spec, part: dict[str, Any], m: Metrics, i: int) -> list[str]:
+    """Every reason of part ``i``, one line each, "<level>: <text>"."""
+    out: list[tuple[int, str]] = []
+    t = _q(spec.target, "Hz")
+    srf, f0, ratio = part.get("srf"), float(m.zero_phase_hz[i]), float(m.srf_ratio[i])
+    grade = GRADES[m.grade[i]]
+    change = f"L at the target {100 * float(m.l_change[i]):+.3g} % from nominal"
+    if grade == "unknown":
+        out.append((WARN, "no SRF in the catalog: self-resonance cannot be checked"))
+    elif grade == "capacitive":
+        if f0 == 0:
+            out.append((FAIL, "never inductive: DCR^2 >= L/Cp, so Im Z < 0 at every frequency"))
+        else:
+            out.append((FAIL, f"capacitive at the target: Im Z < 0 above {_q(f0, 'Hz')} "
+                              f"(zero-phase frequency; SRF {_q(srf, 'Hz')}), below {t}"))
+    elif grade == "marginal":
+        out.append((WARN, f"SRF only {ratio:.3g}x the target (below {spec.warn_below:g}x): "
+                          f"{change}"))
+    elif grade == "usable":
+        out.append((NOTE, f"SRF {ratio:.3g}x the target, below {spec.predictable_at:g}x: "
+                          f"inductance not predictable ({change})"))
+    else:
+        out.append((OK, f"SRF {ratio:.3g}x the target: inductance predictable ({change})"))
+    if grade not in ("unknown", "capacitive"):
+        out.append((OK, f"inductive up to the target: zero-phase frequency {_q(f0, 'Hz')}"))
+
+    q = float(m.q_at_target[i])
+    if np.isnan(q):
+        out.append((m.q_level[i] if spec.min_q is not None else NOTE,
+                    "no DCR in the catalog: Q at the target cannot be computed"))
+    else:
+        need = f" (at least {spec.min_q:g} required)" if spec.min_q is not None else ""
+        bound = "; an upper bound without the winding capacitance" if grade == "unknown" else ""
+        word = "only " if m.q_level[i] == FAIL else ""
+        out.append((int(m.q_level[i]), f"Q at the target {word}{q:.3g}{need}{bound}"))
+
+    if spec.current is not None:
+        drop = part.get("isat_drop")
+        drop_text = (f"L {drop:.0%} down at Isat" if drop is not None
+                     else "the catalog does not state the L drop at Isat")
+        out.append(_current_reason(
+            "Isat", part.get("isat"), spec.i_peak, "peak current I_dc + I_pp/2",
+            float(m.isat_margin[i]), int(m.isat_level[i]), spec.current_margin, drop_text))
+        need_text = ("RMS current sqrt(I_dc^2 + I_pp^2/12)" if spec.ripple else "DC current")
+        out.append(_current_reason(
+            "Irms", part.get("irms"), spec.i_rms, need_text, float(m.irms_margin[i]),
+            int(m.irms_level[i]), spec.current_margin, None))
+    order = sorted(range(len(out)), key=lambda k: -out[k][0])
+    return [f"{LEVEL_WORDS[out[k][0]]}: {out[k][1]}" for k in order]
+
+
+def _current_reason(name: str, rating: float | None, need: float | None, need_text: str,
+                    margin: float, level: int, wanted: float,
+                    extra: str | None) -> tuple[int, str]:
+    if rating is None:
+        what = "saturation" if name == "Isat" else "heating"
+        return level, f"no {name} in the catalog: {what} cannot be checked"
+    why = {FAIL: " (below 1: the rating does not cover the need)",
+           WARN: f" (below the {wanted:g} asked for)"}.get(level, "")
+    tail = f"; {extra}" if extra else ""
+    return level, (f"{name} {_q(rating, 'A')} for the {need_text} {_q(need, 'A')}: "
+                   f"margin {margin:.2f}{why}{tail}")
+
+
+def check_rows(parts: Sequence[dict[str, Any]], spec: Spec) -> CheckResult:
+    """Check part rows (dicts of catalog columns in SI units, as the store returns them).
+
+    Raises QueryError when a row is not an inductor.
+    """
+    spec.validate()
+    for p in parts:
+        if p.get("kind") != "inductor":
+            raise QueryError(f"{p.get('part_number')} is a {p.get('kind') or 'part of no kind'}, "
+                             "not an inductor: the inductor check takes inductors only (see "
+                             "'partsel show' for other parts)")
+    if not parts:
+        raise QueryError("no parts to check: give one or more inductor part numbers")
+
+    def col(key: str, default: float = np.nan) -> NDArray[np.float64]:
+        return np.array([default if p.get(key) is None else float(p[key]) for p in parts])
+
+    m = evaluate(spec, col("value"), col("dcr"), col("srf"), col("rp", np.inf), col("isat"),
+                 col("irms"))
+    verdict = m.verdict
+    rows = []
+    for i, p in enumerate(parts):
+        rows.append({
+            "part_number": p["part_number"], "maker": p.get("maker"),
+            "verdict": VERDICTS[verdict[i]], "reasons": _reasons(spec, p, m, i),
+            "value": p["value"], "dcr": p.get("dcr"), "srf": p.get("srf"), "rp": p.get("rp"),
+            "target_hz": spec.target, "zero_phase_hz": float(m.zero_phase_hz[i]),
+            "srf_ratio": float(m.srf_ratio[i]), "srf_grade": GRADES[m.grade[i]],
+            "l_eff_h": float(m.l_eff_h[i]), "l_change": float(m.l_change[i]),
+            "q_at_target": float(m.q_at_target[i]),
+            "isat": p.get("isat"), "isat_drop": p.get("isat_drop"), "irms": p.get("irms"),
+            "i_peak_a": spec.i_peak, "i_rms_a": spec.i_rms,
+            "isat_margin": float(m.isat_margin[i]), "irms_margin": float(m.irms_margin[i]),
+        })
+    effects = ["inductor model: (L + DCR) in parallel with Cp = 1/((2 pi SRF)^2 L) and Rp "
+               "where given"]
+    if spec.current is not None:
+        effects.append("currents: Isat against I_dc + I_pp/2; Irms against "
+                       "sqrt(I_dc^2 + I_pp^2/12) (DC plus triangular ripple)")
+    return CheckResult(spec, rows, Models.from_rows(parts), effects)
+
+
+def check(store: Store, part_numbers: Sequence[str], spec: Spec,
+          maker: str | None = None) -> CheckResult:
+    """Check stored parts by part number (see :func:`check_rows`).
+
+    Raises PartNotFound for an unknown number and QueryError for a part that is not an inductor.
+    """
+    spec.validate()
+    return check_rows([store.find_part(pn, maker) for pn in part_numbers], spec)
+
+
+def plot_band(result: CheckResult) -> tuple[float, float]:
+    """Frequencies to plot: two decades below the target (or the lowest zero-phase frequency)
+    to one decade above the highest of them."""
+    f0 = np.array([r["zero_phase_hz"] for r in result.rows], dtype=float)
+    known = f0[np.isfinite(f0) & (f0 > 0)]
+    lo = min(result.spec.target, *known) if known.size else result.spec.target
+    hi = max(result.spec.target, *known) if known.size else result.spec.target
+    return lo / 100.0, hi * 10.0
+
+
+def _plot_grid(m: Models, f1: float, f2: float, per_decade: int) -> NDArray[np.float64]:
+    """A log grid plus dense points across each |Z| peak, so that sharp resonances are drawn
+    at their true height: the peak's relative width is about 1/Q_r with
+    Q_r = |Z_peak| / sqrt(L/C_p) (derived, parallel resonance)."""
+    from partsel.jobs.show import log_grid
+
+    parts = [log_grid(f1, f2, per_decade)]
+    fp = inductor.peak_frequency(m.value, m.dcr, m.cp, m.rp)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        q_r = np.abs(inductor.impedance(fp, m.value, m.dcr, m.cp, m.rp)) / np.sqrt(m.value / m.cp)
+    for f_pk, q in zip(fp, q_r, strict=True):
+        if np.isfinite(f_pk) and f_pk > 0 and np.isfinite(q) and q > 0:
+            half = min(0.5, 20.0 / q)
+            parts.append(f_pk * (1.0 + half * np.linspace(-1.0, 1.0, 801) ** 3))
+    f = np.unique(np.concatenate(parts))
+    return f[(f >= f1) & (f <= f2)]
+
+
+def plot(result: CheckResult, path: str | Path, per_decade: int = 200) -> Path:
+    """Draw |Z| and phase of the checked parts with the target marked; save to ``path``.
+
+    Below the two curve panels, one strip per part shows where it is inductive: a solid bar from
+    the left edge to its zero-phase frequency (also marked on the |Z| curve), then a hatched grey
+    bar where it is capacitive (a dotted outline where the SRF is unknown). Accepts .png, .svg or
+    .pdf.
+    """
+    p = Path(path)
+    if p.suffix.lower() not in (".png", ".svg", ".pdf"):
+        raise PartselError(f"cannot write a plot to '{p.name}': give a .png, .svg or .pdf name")
+    import matplotlib
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    f1, f2 = plot_band(result)
+    f = _plot_grid(result.models, f1, f2, per_decade)
+    z = result.models.impedance(f)
+    n = len(result.rows)
+    fig, (ax_z, ax_p, ax_s) = plt.subplots(
+        3, 1, sharex=True, figsize=(9, 7 + 0.25 * n),
+        gridspec_kw={"height_ratios": [3, 1.4, 0.35 + 0.3 * n]})
+    colours = plt.rcParams["axes.prop_cycle"].by_key()["color"]
+    for i, row in enumerate(result.rows):
+        c = colours[i % len(colours)]
+        f0 = row["zero_phase_hz"]
+        label = f"{row['part_number']} ({row['verdict']})"
+        ax_z.loglog(f, np.abs(z[i]), color=c, lw=1.4, label=label)
+        phase = np.degrees(np.angle(z[i]))
+        ax_p.semilogx(f, phase, color=c, lw=1.4)
+        y = n - 1 - i
+        if np.isfinite(f0):
+            ax_z.plot([f0], [np.abs(result.models.impedance([f0])[i, 0])], marker="v", color=c,
+                      ms=6, ls="none")
+            ax_s.barh(y, f0 - f1, left=f1, height=0.6, color=c, alpha=0.8)
+            if f0 < f2:
+                ax_s.barh(y, f2 - f0, left=f0, height=0.6, color="0.85", hatch="///",
+                          edgecolor="0.5", lw=0)
+        else:
+            ax_s.barh(y, f2 - f1, left=f1, height=0.6, fill=False, ls=":", edgecolor=c)
+            ax_s.text(np.sqrt(f1 * f2), y, "no SRF in the catalog: range unknown", ha="center",
+                      va="center", fontsize=8, color=c)
+    t = result.spec.target
+    for ax in (ax_z, ax_p, ax_s):
+        ax.axvline(t, color="black", ls=(0, (6, 3)), lw=1.2,
+                   label=f"target {format_quantity(t, 'Hz')}" if ax is ax_z else None)
+        ax.grid(True, which="both", axis="x", alpha=0.3)
+    ax_z.grid(True, which="both", alpha=0.3)
+    ax_p.grid(True, which="both", alpha=0.3)
+    ax_p.axhline(0, color="0.3", lw=0.8)
+    ax_z.set_ylabel("|Z| [ohm]")
+    ax_p.set_ylabel("phase [deg]")
+    ax_p.set_ylim(-95, 95)
+    ax_p.set_yticks([-90, -45, 0, 45, 90])
+    ax_s.set_yticks(range(n), [r["part_number"] for r in reversed(result.rows)], fontsize=8)
+    ax_s.set_ylim(-0.6, n - 0.4)
+    ax_s.set_xlim(f1, f2)
+    ax_s.set_xlabel("frequency [Hz]   (bars: inductive from DC to the zero-phase frequency "
+                    "\u25bc; hatched: capacitive)")
+    ax_z.legend(fontsize=8, loc="best")
+    ax_z.set_title("Inductor check: |Z|, phase and inductive range")
+    fig.tight_layout()
+    try:
+        fig.savefig(p, dpi=120)
+    except OSError as exc:
+        raise PartselError(f"cannot write the plot {p}: {exc.strerror}; choose another path") \
+            from None
+    finally:
+        plt.close(fig)
+    return p
