@@ -37,7 +37,7 @@ def _json_row(row: dict[str, Any]) -> dict[str, Any]:
 
 def _csv_row(row: dict[str, Any]) -> dict[str, Any]:
     out = _json_row(row)
-    out["reasons"] = "; ".join(row["reasons"])
+    out["reasons"] = " | ".join(row["reasons"])
     return out
 
 
@@ -79,7 +79,7 @@ def inductive_cmd(
     Example: partsel inductive PART1 PART2 --to 100MHz --current 1.2A --ripple 0.3A
     """
     from partsel import units
-    from partsel.jobs.inductive import Spec, check
+    from partsel.jobs.inductive import Spec, check, plot_path
     from partsel.jobs.inductive import plot as draw
 
     fmt = opt.check_format(fmt)
@@ -90,6 +90,8 @@ def inductive_cmd(
                 current_margin=current_margin,
                 min_q=units.parse_number(min_q, "--min-q") if min_q is not None else None)
     spec.validate()
+    if plot is not None:
+        plot_path(plot)
     with open_store_for(ctx) as store:
         result = check(store, parts, spec, maker)
     if fmt == "table":

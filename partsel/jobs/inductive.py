@@ -357,6 +357,14 @@ def plot_band(result: CheckResult) -> tuple[float, float]:
     return lo / 100.0, hi * 10.0
 
 
+def plot_path(path: str | Path) -> Path:
+    """The plot file as a Path; raises PartselError unless it ends in .png, .svg or .pdf."""
+    p = Path(path)
+    if p.suffix.lower() not in (".png", ".svg", ".pdf"):
+        raise PartselError(f"cannot write a plot to '{p.name}': give a .png, .svg or .pdf name")
+    return p
+
+
 def _plot_grid(m: Models, f1: float, f2: float, per_decade: int) -> NDArray[np.float64]:
     """A log grid plus dense points across each |Z| peak, so that sharp resonances are drawn
     at their true height: the peak's relative width is about 1/Q_r with
@@ -383,9 +391,7 @@ def plot(result: CheckResult, path: str | Path, per_decade: int = 200) -> Path:
     bar where it is capacitive (a dotted outline where the SRF is unknown). Accepts .png, .svg or
     .pdf.
     """
-    p = Path(path)
-    if p.suffix.lower() not in (".png", ".svg", ".pdf"):
-        raise PartselError(f"cannot write a plot to '{p.name}': give a .png, .svg or .pdf name")
+    p = plot_path(path)
     import matplotlib
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
