@@ -145,3 +145,18 @@ def test_mangled_csv_raises_only_our_errors(cuts):
     except (FileFormatError, UnitError):
         return
     assert s.f.size >= 5 and np.all(np.diff(s.f) > 0) and np.all(np.isfinite(s.z))
+
+
+def test_committed_noisy_sweep_reads_and_fits():
+    # tests/data/README.md: 10 uF, ESR 3 mOhm, ESL 1 nH, tan_delta 0.05, 2 % noise, 401 points
+    from pathlib import Path
+
+    from partsel.engine.fit import fit_capacitor
+
+    s = read_sweep_csv(Path(__file__).parent / "data" / "sweeps" / "cap_10u_noisy.csv")
+    assert s.f.size == 401 and s.f[0] == 1e3 and s.f[-1] == pytest.approx(1e8, rel=1e-6)
+    r = fit_capacitor(s.f, s.z, tan_delta=True)
+    assert r.params["value"] == pytest.approx(10e-6, rel=0.02)       # within 2 %
+    assert r.params["esl"] == pytest.approx(1e-9, rel=0.05)          # within 5 %
+    assert r.params["esr"] == pytest.approx(3e-3, rel=0.10)          # within 10 %
+    assert r.params["tan_delta"] == pytest.approx(0.05, rel=0.15)    # within 15 %, 401 points

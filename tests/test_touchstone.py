@@ -10,7 +10,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from partsel.engine import capacitor
+from partsel.engine import capacitor, inductor
 from partsel.errors import FileFormatError, UnitError
 from partsel.io.touchstone import impedance_from, read_touchstone, write_touchstone
 
@@ -436,3 +436,24 @@ def test_mangled_files_raise_only_our_errors(cuts, ext):
     except (FileFormatError, UnitError):
         return
     assert np.all(np.isfinite(data.params)) and np.all(np.diff(data.f) > 0)
+
+
+# --- committed example files (tests/data/README.md says how they were made) ---------------------
+
+DATA = Path(__file__).parent / "data" / "touchstone"
+
+
+def test_committed_files_give_the_generating_parts():
+    shunt = read_touchstone(DATA / "cap_100n_shunt.s2p")
+    series = read_touchstone(DATA / "cap_100n_series_v2.ts")
+    refl = read_touchstone(DATA / "ind_10u_reflection.s1p")
+    assert (shunt.version, series.version, refl.version) == ("1.0", "2.0", "1.0")
+    # generating parameters, README: 100 nF / 10 mOhm / 0.8 nH; 10 uH / 50 mOhm / 30 MHz / 20 k
+    # DB and MA files pass through log10/degrees twice: allow 1e-9 relative
+    np.testing.assert_allclose(impedance_from(shunt, "shunt-thru"),
+                               capacitor.impedance(shunt.f, C, ESR, 0.8e-9), rtol=1e-9)
+    np.testing.assert_allclose(impedance_from(series, "series-thru"),
+                               capacitor.impedance(series.f, C, ESR, 0.8e-9), rtol=1e-9)
+    cp = float(inductor.winding_capacitance(10e-6, 30e6))
+    np.testing.assert_allclose(impedance_from(refl, "reflection"),
+                               inductor.impedance(refl.f, 10e-6, 50e-3, cp, 20e3), rtol=1e-9)
