@@ -395,6 +395,29 @@ def test_truncated_two_port_row():
         read_touchstone(text, name="t.s2p")
 
 
+def test_v2_information_block_wrapped_reference_and_noise_data(tmp_path):
+    # Touchstone 2.0: [Reference] values may continue on the next line; [Noise Data] follows
+    # the network data; an information block is skipped.
+    text = ("! 2-port with extras\n[Version] 2.0\n# MHz S MA R 50\n[Number of Ports] 2\n"
+            "[Two-Port Data Order] 12_21\n[Number of Frequencies] 2\n"
+            "[Number of Noise Frequencies] 1\n[Reference] 50\n75\n"
+            "[Begin Information]\nanything at all 1 2 3\n[End Information]\n"
+            "[Network Data]\n100 0.5 10 0.1 20 0.2 30 0.4 40\n200 0.6 -10 0.3 -20 0.2 -30 0.3 -40\n"
+            "[Noise Data]\n100 1.5 0.5 120 0.3\n[End]\n")
+    data = read_touchstone(text)
+    assert data.n_ports == 2 and data.version == "2.0"
+    np.testing.assert_allclose(data.z0, [50, 75])
+    np.testing.assert_allclose(data.f, [100e6, 200e6])
+    # 12_21: the second pair is S12 (0.1 at 20 deg), the third S21 (0.2 at 30 deg)
+    assert data.params[0, 0, 1] == pytest.approx(0.1 * np.exp(1j * np.deg2rad(20)))
+    assert data.params[0, 1, 0] == pytest.approx(0.2 * np.exp(1j * np.deg2rad(30)))
+    # scikit-rf 2.2 stops at the information block, so it reads the file without it
+    path = tmp_path / "extras.ts"
+    path.write_text(text.replace("[Begin Information]\nanything at all 1 2 3\n[End Information]\n",
+                                 ""))
+    np.testing.assert_allclose(data.params, _net(path).s, rtol=1e-12)
+
+
 def test_v2_structure_errors():
     head = "[Version] 2.0\n# Hz S RI R 50\n[Number of Ports] 1\n"
     with pytest.raises(FileFormatError, match=r"line 7\b.*2 of the 3"):
