@@ -18,6 +18,7 @@ from partsel.errors import QueryError
 from partsel.store.db import Store
 
 Kind = Literal["capacitor", "inductor"]
+REL_SLACK = 1e-12
 
 
 @dataclass
@@ -205,10 +206,12 @@ def find(store: Store, search: Search) -> FindResult:
     if search.band:
         metrics.update(max_z_ohm=ext.max_z, f_max_hz=ext.f_max, min_z_ohm=ext.min_z,
                        f_min_hz=ext.f_min)
+        # "at or below" with a relative slack of 1e-12: a part exactly at the limit is not lost
+        # to the last bit of floating-point rounding
         if search.below is not None:
-            ok &= ext.max_z <= search.below
+            ok &= ext.max_z <= search.below * (1 + REL_SLACK)
         if search.above is not None:
-            ok &= ext.min_z >= search.above
+            ok &= ext.min_z >= search.above * (1 - REL_SLACK)
         if search.above is not None and search.below is None:
             key, order = -ext.min_z, "highest band minimum |Z| first"
         else:

@@ -64,8 +64,10 @@ class Store:
                     col = col.astype(float).filled(np.nan)
                 elif col.dtype.kind in "iub":
                     col = col.filled(0)
-                else:
-                    col = col.astype(object).filled(None)
+                else:  # filled(None) would use the default fill value, not None
+                    data = np.asarray(col.data, dtype=object).copy()
+                    data[np.ma.getmaskarray(col)] = None
+                    col = data
             out[name] = np.asarray(col)
         return out
 

@@ -246,8 +246,8 @@ def parse_catalog(cells: pd.DataFrame) -> tuple[pd.DataFrame, list[Problem]]:
         problems.append(Problem(int(rows[i]), "kind", "empty: write capacitor or inductor"))
     # The value's unit follows the row's kind: F for capacitors, H for inductors.
     value_cells = cells["value"]
-    keyed = value_cells.where(value_cells == "", kind.fillna("?").astype(str) + "\x00" +
-                              value_cells)
+    keyed = pd.Series([t if t == "" else f"{k}\x00{t}" for t, k in
+                       zip(value_cells, kind, strict=True)], index=cells.index)
 
     def parse_value(key: str) -> float:
         k, text = key.split("\x00", 1)
@@ -259,8 +259,9 @@ def parse_catalog(cells: pd.DataFrame) -> tuple[pd.DataFrame, list[Problem]]:
         problems.append(Problem(int(rows[i]), "value", "empty: every part needs its "
                                 "capacitance or inductance"))
     if "tolerance" in cells:
-        tol_keyed = cells["tolerance"].where(cells["tolerance"] == "", cells["tolerance"] + "\x00"
-                                             + out["value"].astype(str))
+        tol_keyed = pd.Series([t if t == "" else f"{t}\x00{v}" for t, v in
+                               zip(cells["tolerance"], out["value"], strict=True)],
+                              index=cells.index)
 
         def parse_tol(key: str) -> float:
             text, val = key.split("\x00", 1)
