@@ -344,6 +344,9 @@ def test_caution():
     assert not safety.needs_caution(None, 60.0)  # at the limit is still safe extra-low voltage
     assert not safety.needs_caution("", None)
     assert not safety.needs_caution(None, float("nan"))
+    assert not safety.needs_caution(float("nan"), None)  # missing cells of a data frame
+    assert safety.may_replace("X2", float("nan")) == (True, "the original part has no "
+                                                      "safety class")
 
 
 # ---------------------------------------------------------------- AEC-Q200

@@ -66,14 +66,16 @@ def lookup(safety_class: str) -> SafetyClass:
     return SAFETY_CLASSES[key]
 
 
-def _blank(value: str | None) -> bool:
-    return value is None or not value.strip()
+def _blank(value: object) -> bool:
+    """No class given: None, blank text, or a missing value from a data frame (NaN, NA)."""
+    return not isinstance(value, str) or not value.strip()
 
 
 def may_replace(candidate: str | None, original: str | None) -> tuple[bool, str]:
     """Whether a part of class ``candidate`` may replace one of class ``original``, and why.
 
-    None or blank means the part has no safety class. See the module docstring for the order.
+    None, blank or a missing value means the part has no safety class. See the module
+    docstring for the order.
     """
     if _blank(original):
         return True, "the original part has no safety class"
@@ -111,5 +113,8 @@ def needs_caution(safety_class: str | None, rated_voltage: float | None) -> bool
     """True for a part with any safety class or rated above :data:`HAZARDOUS_VOLTAGE`."""
     if not _blank(safety_class):
         return True
-    return (rated_voltage is not None and not math.isnan(rated_voltage)
-            and rated_voltage > HAZARDOUS_VOLTAGE)
+    try:
+        volts = float(rated_voltage)  # type: ignore[arg-type]
+    except (TypeError, ValueError):  # None or a data frame's missing value
+        return False
+    return not math.isnan(volts) and volts > HAZARDOUS_VOLTAGE
