@@ -634,8 +634,8 @@ def _tantalum(rng: Rng, m: int) -> Block:
 # --- inductors ----------------------------------------------------------------------------------
 
 class _RfSpec(NamedTuple):
-    """One chip inductor technology: per-case tables and power-law fits (own fits of the rule of
-    thumb points in the shared domain notes section 3 and of common practice).
+    """One chip inductor technology: per-case tables and power-law fits (our own fits of common
+    practice, no source; the model is that of the shared domain notes section 3).
 
     SRF = srf0 * (L / l0)^srf_exp * size factor; DCR = dcr0 * (L / l0)^dcr_exp * size factor;
     Irms = sqrt(P_case / DCR) (a fixed loss for the allowed temperature rise).
@@ -665,8 +665,8 @@ class _RfSpec(NamedTuple):
     price: float
 
 
-# Thin film 1 nH ~ 10 GHz, multilayer 100 nH ~ 1 GHz, wirewound 1 uH ~ 300 MHz (rule of thumb
-# points from the task brief); exponents -0.55 are our fits (pure L*Cp would give -0.5).
+# Thin film 1 nH ~ 10 GHz, multilayer 100 nH ~ 1 GHz, wirewound 1 uH ~ 300 MHz (common practice,
+# no source); exponents -0.55 are our fits (a fixed Cp would give -0.5, SRF = 1/(2 pi sqrt(L Cp))).
 _MULTILAYER = _RfSpec(
     "M", "F", (QM, BN), ("0201", "0402", "0603", "0805"), (0.1, 0.35, 0.35, 0.2),
     (1e-9, 1e-9, 1e-9, 47e-9), (47e-9, 270e-9, 2.2e-6, 4.7e-6), 100e-9, 1e9, -0.55,
@@ -741,7 +741,7 @@ def _power(rng: Rng, m: int) -> Block:
     value = _IND_GRID.value[gi]
     rel = value / 10e-6
     size = _PWR_SIZE[pkg] / 4.0
-    # SRF: 10 uH ~ 20-40 MHz, 100 uH ~ 5 MHz (rule of thumb points from the task brief; our fit
+    # SRF: 10 uH ~ 20-40 MHz, 100 uH ~ 5 MHz (common practice, no source; our fit
     # 30 MHz * (L/10 uH)^-0.78, lower in larger packages). Some datasheets omit the SRF.
     srf = 30e6 * rel**-0.78 * size**-0.3 * _jitter(rng, m, 0.12)
     srf = np.where(rng.random(m) < 0.05, np.nan, srf)
@@ -815,10 +815,26 @@ def _aec_grades(rng: Rng, tmin: NDArray[np.float64],
 def generate(n: int, seed: int = SEED) -> pd.DataFrame:
     """An invented catalog of ``n`` capacitors and inductors, identical for the same n and seed.
 
-    Columns: every name of :data:`partsel.catalog.NAMES` in that order (SI base units, NaN or
-    None for unknown), then ``<param>_source`` for each model parameter ("datasheet",
-    "estimated by rule" or None), ``electrolyte`` ("mno2"/"polymer" for tantalum) and
-    ``rated_voltage_ac`` (AC rating of mains safety parts; their ``rated_voltage`` is its peak).
+    Parameters
+    ----------
+    n : int
+        Number of parts (>= 1). About 65 % MLCC, 10 % bulk capacitors, 25 % inductors.
+    seed : int
+        Seed of the numpy random generator.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Every name of :data:`partsel.catalog.NAMES` in that order (SI base units; NaN or None
+        for unknown), then ``<param>_source`` for each model parameter ("datasheet",
+        "estimated by rule" or None when the value is unknown), ``electrolyte`` ("mno2" or
+        "polymer", tantalum only) and ``rated_voltage_ac`` (AC rating of mains safety parts,
+        whose ``rated_voltage`` holds its peak). Part numbers are unique.
+
+    Raises
+    ------
+    QueryError
+        When ``n`` is not a whole number >= 1.
     """
     if isinstance(n, bool) or not isinstance(n, int | np.integer) or n < 1:
         raise QueryError(f"number of demo parts must be a whole number >= 1, got {n!r}; "
