@@ -366,6 +366,21 @@ _BIAS_V_SQL = "CAST(regexp_extract_all(bias_curve, '([0-9.eE+-]+)V:', 1) AS DOUB
 _BIAS_R_SQL = "CAST(regexp_extract_all(bias_curve, ':([0-9.eE+-]+)', 1) AS DOUBLE[])"
 
 
+def _extra_json(sub: pd.DataFrame) -> pd.Series:
+    """One JSON object per row of the given columns, leaving out empty cells (vectorised)."""
+    joined = pd.Series("", index=sub.index, dtype=object)
+    for col in sub.columns:
+        values = sub[col]
+        present = (values.notna() & (values.astype(str) != "")).to_numpy()
+        uniq = pd.unique(values[present])
+        codes = {v: json.dumps(v.item() if hasattr(v, "item") else v) for v in uniq}
+        piece = np.where(present, json.dumps(str(col)) + ": " +
+                         values.map(codes).astype(str), "")
+        sep = np.where((joined.to_numpy() != "") & present, ", ", "")
+        joined = joined + sep + piece
+    return ("{" + joined + "}").where(joined != "", None)
+
+
 def insert_frame(store: Store, frame: pd.DataFrame, source_file: str,
                  progress: Callable[[int, int], None] | None = None,
                  chunk: int = 250_000) -> tuple[int, int]:
@@ -377,6 +392,9 @@ def insert_frame(store: Store, frame: pd.DataFrame, source_file: str,
     """
     cols = list(NAMES) + [p + "_source" for p in MODEL_PARAMETERS]
     df = frame.copy()
+    unknown = [c for c in df.columns if c not in cols and c != "extra"]
+    if unknown and "extra" not in df:
+        df["extra"] = _extra_json(df[unknown])
     for c in cols + ["extra"]:
         if c not in df:
             df[c] = None
