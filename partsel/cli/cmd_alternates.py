@@ -1,0 +1,287 @@
+"""partsel alternates / bom: substitutes for a part, and a parts-list check."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated, Any
+
+import typer
+
+from partsel.cli import options as opt
+from partsel.cli.app import app, echo, note, open_store_for
+from partsel.errors import FileFormatError
+from partsel.render import Col
+
+_FIGURES = {
+    "capacitor": [Col("value", "C", "F"), Col("case", "case"), Col("dielectric", "diel."),
+                  Col("technology", "tech."), Col("rated_voltage", "rated", "V"),
+                  Col("esr", "ESR", "ohm"), Col("esl", "ESL", "H")],
+    "inductor": [Col("value", "L", "H"), Col("case", "case"), Col("technology", "tech."),
+                 Col("dcr", "DCR", "ohm"), Col("srf", "SRF", "Hz"), Col("isat", "Isat", "A"),
+                 Col("irms", "Irms", "A")],
+}
+_TAIL = [Col("distance_db", "dist. dB", ""), Col("max_diff_db", "max dB", ""),
+         Col("price", "price", ""), Col("stock", "stock", "")]
+# Catalog fields carried into JSON/CSV rows, under names that say their SI unit.
+_JSON_FIELDS = {
+    "part_number": "part_number", "maker": "maker", "kind": "kind", "technology": "technology",
+    "case": "case", "dielectric": "dielectric", "mounting": "mounting", "value": "value",
+    "tolerance": "tolerance", "rated_voltage": "rated_voltage_v", "esr": "esr_ohm",
+    "esl": "esl_h", "tan_delta": "tan_delta", "dcr": "dcr_ohm", "srf": "srf_hz",
+    "isat": "isat_a", "irms": "irms_a", "height": "height_m", "temp_min": "temp_min_degc",
+    "temp_max": "temp_max_degc", "safety_class": "safety_class",
+    "aec_q200_grade": "aec_q200_grade", "lifecycle": "lifecycle", "price": "price",
+    "stock": "stock",
+}
+
+
+def _row(rank: int, cand: Any, kind: str) -> dict[str, Any]:
+    """A candidate as one output row: catalog fields, figures and the rule outcomes."""
+    out: dict[str, Any] = {"rank": rank}
+    for key, name in _JSON_FIELDS.items():
+        if not (kind == "inductor" and key in ("esr", "esl", "tan_delta", "dielectric")) and \
+                not (kind == "capacitor" and key in ("dcr", "srf", "isat", "irms")):
+            out[name] = cand.part.get(key)
+    out.update(distance_db=cand.distance_db, max_diff_db=cand.max_diff_db,
+               f_max_diff_hz=cand.f_max_diff_hz)
+    if kind == "capacitor":
+        out.update(value_at_bias=cand.value_eff, bias_source=cand.bias_source)
+        if cand.esr_ratio is not None:
+            out["esr_ratio"] = cand.esr_ratio
+    out["rules"] = [{"rule": r.rule, "passed": r.passed, "detail": r.detail}
+                    for r in cand.rules]
+    return out
+
+
+def _passes(cand: Any) -> str:
+    failed = cand.failed
+    if not failed:
+        return f"all {len(cand.rules)}"
+    return "; ".join(f"{r.rule}: {r.detail}" for r in failed)
+
+
+@app.command("alternates")
+def alternates_cmd(
+    ctx: typer.Context,
+    part: str = typer.Argument(..., metavar="PART", help="Part number of the original."),
+    maker: str = typer.Option(None, "--maker", help="Maker, when several share the number."),
+    case: Annotated[list[str] | None, typer.Option(
+        "--case", help="Allowed case codes (default: the original's), e.g. 0402,0603.")] = None,
+    band: str = typer.Option(None, "--band", metavar="F1..F2",
+                             help="Band of the curve rules and distance (default: capacitors "
+                                  "SRF/30..SRF*10, inductors SRF/100..SRF/3 of the original)."),
+    within: str = typer.Option("6dB", "--within", metavar="DB|off",
+                               help="|Z| within this many dB of the original's at every "
+                                    "frequency of the band; 'off' ranks only."),
+    esr_window: str = typer.Option(None, "--esr-window", metavar="LOW..HIGH",
+                                   help="Capacitors: ESR over the original's, at the original's "
+                                        "SRF, within these ratios, e.g. 0.5..2 (circuits that "
+                                        "need a minimum ESR)."),
+    bias: str = typer.Option(None, "--bias", metavar="V",
+                             help="Capacitors: DC bias for the effective capacitance of both "
+                                  "parts (default: --working-voltage)."),
+    value_within: str = typer.Option(None, "--value-within", metavar="PCT",
+                                     help="Value (at the bias) within this of the original's "
+                                          "(default: the original's tolerance)."),
+    working_voltage: str = typer.Option(None, "--working-voltage", metavar="V",
+                                        help="Capacitors: instead of 'rated at least the "
+                                             "original's', the rating derated by technology "
+                                             "must reach V (MnO2 tantalum 50 %, polymer "
+                                             "80-90 %)."),
+    srf_above: str = typer.Option(None, "--srf-above", metavar="F",
+                                  help="Inductors: SRF at least F instead of at least the "
+                                       "original's."),
+    lifecycle: Annotated[list[str] | None, typer.Option(
+        "--lifecycle", help="Accepted lifecycle states of a candidate (default active), e.g. "
+                            "active,nrnd.")] = None,
+    in_stock: bool = typer.Option(False, "--in-stock", help="Only candidates with stock > 0."),
+    explain: bool = typer.Option(False, "--explain",
+                                 help="Also list near misses and the one rule each failed."),
+    limit: int = opt.limit_option(10),
+    fmt: str = opt.format_option(),
+) -> None:
+    """Substitutes for a part: same form, fit and function, ranked by impedance.
+
+    Ranked by the curve distance: the RMS over the band of 20*log10(|Z_cand|/|Z_orig|) on a
+    log frequency axis (distance_db), then price, then stock. Every row says which rules it
+    passes.
+
+    Examples:
+
+      partsel alternates <part number> --explain
+
+      partsel alternates <part number> --working-voltage 3.3V --esr-window 0.5..2 --within 3dB
+    """
+    from partsel import units
+    from partsel.jobs.alternates import Criteria, alternates
+
+    fmt = opt.check_format(fmt)
+    within_db = None if within.strip().lower() == "off" else units.parse_db(within, "--within")
+    crit = Criteria(
+        cases=opt.split_list(case),
+        band=units.parse_band(band) if band else None,
+        within_db=within_db,
+        esr_window=units.parse_ratio_window(esr_window) if esr_window else None,
+        bias=opt.quantity(bias, "V", "--bias"),
+        value_within=units.parse_percent(value_within, "--value-within")
+        if value_within else None,
+        working_voltage=opt.quantity(working_voltage, "V", "--working-voltage"),
+        srf_above=opt.quantity(srf_above, "Hz", "--srf-above"),
+        lifecycles=tuple(s.lower() for s in opt.split_list(lifecycle)) or ("active",),
+        in_stock=in_stock, explain=explain, limit=limit)
+    with open_store_for(ctx) as store:
+        res = alternates(store, part, maker, crit)
+    kind = res.original["kind"]
+    rows = [_row(i, c, kind) for i, c in enumerate(res.candidates, 1)]
+    misses = [_row(i, c, kind) for i, c in enumerate(res.near_misses, 1)]
+    if fmt == "json":
+        echo(_json(res, rows, misses if explain else None))
+    elif fmt == "csv":
+        for r, c in zip(rows + misses, res.candidates + res.near_misses, strict=True):
+            r["result"] = "candidate" if not c.failed else "near miss"
+            r["passes"] = " ".join(x.rule for x in c.rules if x.passed)
+            r["fails"] = " ".join(x.rule for x in c.failed)
+            del r["rules"]
+        echo(opt.emit(rows + misses, [], "csv"))
+    else:
+        echo(_table(res, kind))
+    _notes(res, fmt)
+
+
+def _json(res: Any, rows: list[dict[str, Any]], misses: list[dict[str, Any]] | None) -> str:
+    from partsel.render import to_json
+    o = res.original
+    payload = {
+        "original": {name: o.get(key) for key, name in _JSON_FIELDS.items()},
+        "original_value_at_bias": res.original_value_eff,
+        "band_hz": list(res.band), "order": res.order,
+        "rules_checked": res.rules, "skipped": res.skipped, "effects": res.effects,
+        "notes": res.notes, "cautions": res.cautions,
+        "passing": res.passing, "pass_form_and_fit": res.fit, "rows": rows}
+    if misses is not None:
+        payload["near_misses"] = misses
+    return to_json(payload)
+
+
+def _table(res: Any, kind: str) -> str:
+    from partsel.render import cell, table
+    figures = _FIGURES[kind]
+    cols = [Col("rank", "#"), Col("part_number", "part"), Col("maker", "maker"), *figures]
+    if kind == "capacitor" and any(c.bias_source != "none" for c in res.candidates):
+        cols.insert(4, Col("value_eff", "C at bias", "F"))
+    cols += [*_TAIL, Col("passes", "passes")]
+    unit = "F" if kind == "capacitor" else "H"
+    o = res.original
+    head = (f"Original: {o['part_number']} ({o['maker']}), "
+            f"{cell(o.get('value'), Col('v', 'v', unit))} {o.get('case') or ''} "
+            f"{o.get('dielectric') or o.get('technology') or ''}, "
+            f"{o.get('lifecycle') or 'active'}")
+
+    def flat(i: int, c: Any, extra: dict[str, Any]) -> dict[str, Any]:
+        return {**c.part, "rank": i, "value_eff": c.value_eff, "distance_db": c.distance_db,
+                "max_diff_db": c.max_diff_db, **extra}
+    rows = [flat(i, c, {"passes": _passes(c)}) for i, c in enumerate(res.candidates, 1)]
+    out = [head, "", table(rows, cols) if rows else "(no candidate passes every rule)"]
+    if res.near_misses:
+        miss_cols = [c for c in cols if c.key != "passes"]
+        miss_cols += [Col("rule", "failed rule"), Col("why", "why")]
+        misses = [flat(i, c, {"rule": c.failed[0].rule, "why": c.failed[0].detail})
+                  for i, c in enumerate(res.near_misses, 1)]
+        out += ["", "Near misses (one rule failed):", table(misses, miss_cols)]
+    return "\n".join(out)
+
+
+def _notes(res: Any, fmt: str) -> None:
+    shown = len(res.candidates)
+    note(f"{res.passing} candidate(s) pass all {len(res.rules)} rules ({res.fit} pass form and "
+         f"fit); showing {shown}, ranked by {res.order}.")
+    note("Rules: " + ", ".join(res.rules) + ("; skipped: " + "; ".join(res.skipped)
+                                             if res.skipped else ""))
+    note("Model: " + "; ".join(res.effects))
+    for n in res.notes:
+        note(f"Note: {n}")
+    if fmt == "table":
+        for c in res.cautions:
+            note(c)
+
+
+@app.command("bom")
+def bom_cmd(
+    ctx: typer.Context,
+    file: Annotated[Path, typer.Argument(
+        metavar="FILE", help="Parts list (CSV): part_number, and optionally maker, quantity, "
+                             "working_voltage.")],
+    alternates: int = typer.Option(3, "--alternates", min=0, max=20,
+                                   help="Alternates listed for each line that needs action."),
+    out: Annotated[Path | None, typer.Option(
+        "--out", metavar="FILE", help="Write the report to FILE instead of the screen.")] = None,
+    fmt: str = opt.format_option(),
+) -> None:
+    """Check a parts list: is every part known, active and in stock, and what can replace it.
+
+    A line needs action when its part is unknown, obsolete, not recommended for new designs
+    (nrnd), out of stock, rated below the line's working voltage, or when the line cannot be
+    read. Exit code 0: nothing needs action; 1: some line needs action; 2: the file cannot be
+    read at all.
+
+    Example: partsel bom parts_list.csv --format csv --out report.csv
+    """
+    from partsel.jobs.bom import check_bom, read_parts_list
+
+    fmt = opt.check_format(fmt)
+    lines = read_parts_list(file)
+    with open_store_for(ctx) as store:
+        report = check_bom(store, lines, alternates=alternates)
+    text = _bom_text(report, fmt)
+    if out is not None:
+        try:
+            out.write_text(text + "\n", encoding="utf-8")
+        except OSError as exc:
+            raise FileFormatError(f"cannot write the report to {out}: {exc.strerror}; choose "
+                                  "another --out path") from None
+        note(f"report written to {out}")
+    else:
+        echo(text)
+    for line in report.lines:
+        if line.error:
+            note(f"{file.name} line {line.line}: {line.error}")
+    note(f"{len(report.lines)} line(s): {report.needs_action} need action")
+    if fmt == "table":
+        for c in report.cautions:
+            note(c)
+    if report.needs_action:
+        raise typer.Exit(1)
+
+
+_BOM_COLS = [Col("line", "line"), Col("part_number", "part"), Col("maker", "maker"),
+             Col("quantity", "qty", ""), Col("status", "status"), Col("lifecycle", "life"),
+             Col("stock", "stock", ""), Col("action", "action"), Col("alternates", "alternates")]
+
+
+def _bom_text(report: Any, fmt: str) -> str:
+    from partsel.render import table, to_json
+    if fmt == "json":
+        return to_json({"lines": [ln.as_dict() for ln in report.lines],
+                        "needs_action": report.needs_action, "cautions": report.cautions})
+    rows = []
+    for ln in report.lines:
+        d = ln.as_dict()
+        if ln.status == "malformed":
+            action = f"fix the line: {ln.error}"
+        elif ln.status != "found":
+            action = ln.note or ln.status
+        else:
+            action = "; ".join(ln.reasons)
+        d["action"] = action
+        d["alternates"] = "; ".join(
+            f"{a['part_number']} ({a['maker']}, {a['distance_db']:.2f} dB)"
+            for a in ln.alternates) or (ln.note if ln.status == "found" else None)
+        rows.append(d)
+    if fmt == "csv":
+        keys = ["line", "part_number", "maker", "quantity", "working_voltage_v", "status",
+                "found_maker", "lifecycle", "stock", "needs_action", "action", "error",
+                "alternates"]
+        return opt.emit([{k: r.get(k) for k in keys} for r in rows], [], "csv")
+    for r in rows:
+        r["maker"] = r["found_maker"] or r["maker"]
+    return table(rows, _BOM_COLS) if rows else "(the parts list has no lines)"
