@@ -15,10 +15,13 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from hypothesis import assume, given, settings
+from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 
+from partsel.engine import inductor
 from partsel.errors import PartNotFound, QueryError
-from partsel.jobs.inductive import Spec, check, check_rows, evaluate, plot
+from partsel.jobs.inductive import GRADES, Spec, check, check_rows, evaluate, plot
 from partsel.store import open_store
 
 TWO_PI = 2 * np.pi
@@ -180,6 +183,40 @@ def test_min_q_at_the_target():
     assert row["verdict"] == "fail" and "at least 13 required" in reasons_at(row, "fail")[0]
     row = check_rows([ind("NODCR", 1e-6, 500e6)], Spec(target=1e6, min_q=13)).rows[0]
     assert np.isnan(row["q_at_target"]) and row["verdict"] == "warn"
+
+
+@settings(max_examples=300, deadline=None)
+@given(lval=st.floats(1e-9, 1e-3), srf=st.floats(1e5, 1e10), r_frac=st.floats(0.0, 2.0),
+       log_ratio=st.floats(-3.0, 3.0))
+def test_fail_grade_is_the_phase_sign_on_a_grid(lval, srf, r_frac, log_ratio):
+    # definition (design notes): inductive up to F means Im Z(f) > 0 for every f <= F;
+    # checked on a dense grid of the circuit-theory impedance
+    cp = 1 / ((TWO_PI * srf) ** 2 * lval)   # derived: Cp from the SRF
+    assume(abs(r_frac - 1) > 1e-6)
+    r = r_frac * np.sqrt(lval / cp)
+    target = srf * 10**log_ratio
+    m = evaluate(Spec(target=target), lval, r, srf)
+    f0 = m.zero_phase_hz[0]
+    assume(abs(f0 / target - 1) > 1e-9)
+    f = np.geomspace(target * 1e-6, target, 4001)
+    inductive = bool(np.all(inductor.impedance(f, lval, r, cp).imag > 0))
+    assert (GRADES[m.grade[0]] != "capacitive") == inductive
+    assert (m.verdict[0] == 2) == (not inductive)
+
+
+def test_evaluate_is_vectorised_over_parts():
+    rng = np.random.default_rng(11)
+    lval = 10 ** rng.uniform(-8, -4, 50)
+    srf = 10 ** rng.uniform(6, 9, 50)
+    dcr = 10 ** rng.uniform(-2, 1, 50)
+    isat = rng.uniform(0.5, 3, 50)
+    spec = Spec(target=20e6, current=1.0, ripple=0.2, min_q=10)
+    together = evaluate(spec, lval, dcr, srf, isat=isat, irms=isat)
+    for i in range(50):
+        one = evaluate(spec, lval[i], dcr[i], srf[i], isat=isat[i], irms=isat[i])
+        for name in ("zero_phase_hz", "srf_ratio", "l_eff_h", "q_at_target", "isat_margin",
+                     "irms_margin", "grade", "verdict"):
+            assert_allclose(getattr(one, name)[0], getattr(together, name)[i], rtol=1e-15)
 
 
 # --- currents ---------------------------------------------------------------------------------

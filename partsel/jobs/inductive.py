@@ -186,11 +186,11 @@ def evaluate(spec: Spec, value: ArrayLike, dcr: ArrayLike, srf: ArrayLike,
         [0, 1, 2], 3)[has_srf]
     srf_level = np.array([FAIL, WARN, NOTE, OK, WARN], dtype=np.int8)[grade]
 
-    z = inductor.impedance(t, lval, r0, cp, r_p)
-    w = 2.0 * np.pi * t
-    l_eff = np.where(has_srf, z.imag / w, np.nan)
-    with np.errstate(divide="ignore", invalid="ignore"):
+    # a lossless part evaluated exactly at its SRF has Y = 0: Z is infinite there, not an error
+    with np.errstate(all="ignore"):
+        z = inductor.impedance(t, lval, r0, cp, r_p)
         q = np.where(has_dcr, z.imag / z.real, np.nan)
+    l_eff = np.where(has_srf, z.imag / (2.0 * np.pi * t), np.nan)
     q_level = np.full(n, OK, dtype=np.int8)
     if spec.min_q is not None:
         q_level = np.where(np.isnan(q), WARN, np.where(q >= spec.min_q, OK, FAIL)).astype(np.int8)
@@ -398,7 +398,11 @@ def plot(result: CheckResult, path: str | Path, per_decade: int = 200) -> Path:
 
     f1, f2 = plot_band(result)
     f = _plot_grid(result.models, f1, f2, per_decade)
-    z = result.models.impedance(f)
+    m = result.models
+    f0s = np.array([r["zero_phase_hz"] for r in result.rows], dtype=float)
+    with np.errstate(all="ignore"):
+        z = m.impedance(f)
+        z_f0 = np.abs(inductor.impedance(np.where(f0s > 0, f0s, 1.0), m.value, m.dcr, m.cp, m.rp))
     n = len(result.rows)
     fig, (ax_z, ax_p, ax_s) = plt.subplots(
         3, 1, sharex=True, figsize=(9, 7 + 0.25 * n),
@@ -413,8 +417,8 @@ def plot(result: CheckResult, path: str | Path, per_decade: int = 200) -> Path:
         ax_p.semilogx(f, phase, color=c, lw=1.4)
         y = n - 1 - i
         if np.isfinite(f0):
-            ax_z.plot([f0], [np.abs(result.models.impedance([f0])[i, 0])], marker="v", color=c,
-                      ms=6, ls="none")
+            if np.isfinite(z_f0[i]) and f0 > 0:
+                ax_z.plot([f0], [z_f0[i]], marker="v", color=c, ms=6, ls="none")
             ax_s.barh(y, f0 - f1, left=f1, height=0.6, color=c, alpha=0.8)
             if f0 < f2:
                 ax_s.barh(y, f2 - f0, left=f0, height=0.6, color="0.85", hatch="///",
