@@ -257,9 +257,7 @@ def _near_a_limit(parts, target, current, ripple, q_min) -> bool:
     return False
 
 
-# --- changes asked of find (see the report of the inductor-check issue) ------------------------
-@pytest.mark.xfail(strict=True, reason="find: --min-q divides by Re Z = 0 for a part without "
-                   "DCR (a RuntimeWarning, and Q = +-inf passes or fails by the sign of zero)")
+# --- find: lossless parts, ripple needs a current, Irms against the RMS with ripple -----------
 def test_min_q_leaves_out_parts_without_dcr(make_store):
     store = make_store([ind("NODCR", srf="1GHz", isat="5A", irms="5A"),
                         ind("DCR", srf="1GHz", dcr="0.1ohm", isat="5A", irms="5A")])
@@ -269,14 +267,11 @@ def test_min_q_leaves_out_parts_without_dcr(make_store):
     assert any("DCR" in n for n in res.notes)
 
 
-@pytest.mark.xfail(strict=True, reason="find: --ripple without --current is silently ignored")
 def test_ripple_without_current_is_refused(store):
     with open_store(store) as s, pytest.raises(QueryError, match="--ripple"):
         find(s, Search("inductor", inductive_to=30e6, ripple=0.5))
 
 
-@pytest.mark.xfail(strict=True, reason="find: Irms is compared with the DC current, not with "
-                   "the RMS of DC plus ripple sqrt(I^2 + I_pp^2/12) that 'inductive' uses")
 def test_irms_covers_the_rms_with_ripple(make_store):
     # derived: sqrt(1^2 + 0.6^2/12) = 1.0149 A > 1.0 A
     store = make_store([ind("R100", srf="1GHz", dcr="10mohm", isat="5A", irms="1A")])

@@ -67,6 +67,8 @@ class Search:
                              "search 'inductor' instead")
         if self.kind == "inductor" and (self.bias is not None or self.mount_l is not None):
             raise QueryError("--bias and --mount-l apply to capacitors")
+        if self.ripple is not None and self.current is None:
+            raise QueryError("--ripple needs --current: the ripple rides on a DC current")
         if self.value_min and self.value_max and self.value_min > self.value_max:
             raise QueryError("the value range runs backwards: write the lower value first")
 
@@ -175,8 +177,8 @@ def find(store: Store, search: Search) -> FindResult:
             ext = band_metrics.capacitor_band(*search.band, c_eff, np.nan_to_num(esr),
                                               np.nan_to_num(l_tot), td)
     else:
-        a = store.arrays(f"SELECT id, value, coalesce(dcr, 0.0) AS dcr, srf, rp, isat, irms "
-                         f"FROM parts WHERE {where} ORDER BY id", params)
+        a = store.arrays(f"SELECT id, value, dcr AS dcr_raw, coalesce(dcr, 0.0) AS dcr, srf, rp, "
+                         f"isat, irms FROM parts WHERE {where} ORDER BY id", params)
         value, dcr = a["value"], a["dcr"]
         cp = inductor.winding_capacitance(value, a["srf"])
         effects.append("inductor model: (L + DCR) parallel to C_p = 1/((2 pi SRF)^2 L) and Rp")
@@ -190,13 +192,23 @@ def find(store: Store, search: Search) -> FindResult:
             ok &= known & inductor.is_inductive_to(search.inductive_to, value, dcr, cp)
             metrics["srf_margin"] = metrics["zero_phase_hz"] / search.inductive_to
         if search.current is not None:
-            peak = search.current + (search.ripple or 0.0) / 2.0
-            ok &= (a["isat"] >= peak) & (a["irms"] >= search.current)
+            # peak of DC + triangular ripple against Isat; RMS of the same waveform,
+            # sqrt(I^2 + I_pp^2/12) (derived), against Irms
+            ripple = search.ripple or 0.0
+            peak = search.current + ripple / 2.0
+            rms = np.sqrt(search.current**2 + ripple**2 / 12.0)
+            ok &= (a["isat"] >= peak) & (a["irms"] >= rms)
             metrics["isat_margin"] = a["isat"] / peak
+            metrics["irms_margin"] = a["irms"] / rms
         if search.min_q is not None:
             q_min, f_q = search.min_q
-            q = inductor.q_factor(f_q, value, dcr, cp, a["rp"])
-            ok &= q >= q_min
+            lossless = ~(a["dcr_raw"] > 0) & ~np.isfinite(a["rp"])
+            if (lossless & ok).any():
+                notes.append(f"{int((lossless & ok).sum())} inductors without a DCR (or Rp) were "
+                             "left out: their Q cannot be computed")
+            with np.errstate(divide="ignore", invalid="ignore"):
+                q = inductor.q_factor(f_q, value, dcr, cp, a["rp"])
+            ok &= ~lossless & (q >= q_min)
             metrics["q"] = q
         if search.band:
             ext = band_metrics.inductor_band(*search.band, value, dcr, cp, a["rp"])

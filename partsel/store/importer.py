@@ -323,18 +323,27 @@ def _provenance(out: pd.DataFrame, cells: pd.DataFrame, rows: np.ndarray,
             problems.append(Problem(int(rows[i]), col, f"'{given.iat[i]}' is not one of "
                                     + ", ".join(PROVENANCES)))
         out[col] = src.where(out[p].notna(), None)
-    cap = (out["kind"] == "capacitor").to_numpy()
-    tech = out["technology"].astype(object)
-    for p, estimate in (("esl", lambda: rules.estimate_esl(out["case"].astype(object), tech,
-                                                         out["mounting"].astype(object))),
-                        ("esr", lambda: rules.estimate_esr(tech))):
-        need = cap & out[p].isna().to_numpy()
-        if need.any():
-            est = estimate()
-            out.loc[need, p] = est[need]
-            out.loc[need, f"{p}_source"] = "estimated by rule"
+    fill_estimates(out)
     if "lifecycle" in out:
         out["lifecycle"] = out["lifecycle"].fillna("active")
+
+
+def fill_estimates(frame: pd.DataFrame) -> None:
+    """Estimate missing capacitor ESR and ESL by rule of thumb, in place, and label them."""
+    cap = (frame["kind"] == "capacitor").to_numpy()
+    if not cap.any():
+        return
+    tech = frame["technology"].astype(object)
+    case = frame["case"].astype(object) if "case" in frame else pd.Series(None, index=frame.index)
+    mounting = frame["mounting"].astype(object) if "mounting" in frame else \
+        pd.Series(None, index=frame.index)
+    for p, estimate in (("esl", lambda: rules.estimate_esl(case, tech, mounting)),
+                        ("esr", lambda: rules.estimate_esr(tech))):
+        need = cap & pd.to_numeric(frame[p], errors="coerce").isna().to_numpy()
+        if need.any():
+            est = estimate()
+            frame.loc[need, p] = est[need]
+            frame.loc[need, f"{p}_source"] = "estimated by rule"
 
 
 def check_catalog(path: str | Path) -> tuple[pd.DataFrame, list[Problem]]:
@@ -392,6 +401,8 @@ def insert_frame(store: Store, frame: pd.DataFrame, source_file: str,
     """
     cols = list(NAMES) + [p + "_source" for p in MODEL_PARAMETERS]
     df = frame.copy()
+    if "esr" in df and "esl" in df:
+        fill_estimates(df)
     unknown = [c for c in df.columns if c not in cols and c != "extra"]
     if unknown and "extra" not in df:
         df["extra"] = _extra_json(df[unknown])
