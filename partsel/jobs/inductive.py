@@ -259,7 +259,7 @@ def _reasons(spec: Spec, part: dict[str, Any], m: Metrics, i: int) -> list[str]:
 
     q = float(m.q_at_target[i])
     if np.isnan(q):
-        out.append((m.q_level[i] if spec.min_q is not None else NOTE,
+        out.append((int(m.q_level[i]) if spec.min_q is not None else NOTE,
                     "no DCR in the catalog: Q at the target cannot be computed"))
     else:
         need = f" (at least {spec.min_q:g} required)" if spec.min_q is not None else ""
@@ -272,7 +272,8 @@ def _reasons(spec: Spec, part: dict[str, Any], m: Metrics, i: int) -> list[str]:
         drop_text = (f"L {drop:.0%} down at Isat" if drop is not None
                      else "the catalog does not state the L drop at Isat")
         out.append(_current_reason(
-            "Isat", part.get("isat"), spec.i_peak, "peak current I_dc + I_pp/2",
+            "Isat", part.get("isat"), spec.i_peak,
+            "peak current I_dc + I_pp/2" if spec.ripple else "DC current",
             float(m.isat_margin[i]), int(m.isat_level[i]), spec.current_margin, drop_text))
         need_text = ("RMS current sqrt(I_dc^2 + I_pp^2/12)" if spec.ripple else "DC current")
         out.append(_current_reason(
@@ -306,6 +307,9 @@ def check_rows(parts: Sequence[dict[str, Any]], spec: Spec) -> CheckResult:
             raise QueryError(f"{p.get('part_number')} is a {p.get('kind') or 'part of no kind'}, "
                              "not an inductor: the inductor check takes inductors only (see "
                              "'partsel show' for other parts)")
+        if not (p.get("value") or 0) > 0:
+            raise QueryError(f"{p.get('part_number')} has no positive inductance in the "
+                             "catalog: give its value (e.g. 10uH) and import it again")
     if not parts:
         raise QueryError("no parts to check: give one or more inductor part numbers")
 
