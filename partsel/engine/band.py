@@ -63,6 +63,26 @@ def capacitor_band(f1: float, f2: float, value: ArrayLike, esr: ArrayLike, esl: 
     return _pick(cand, z)
 
 
+def capacitor_band_max(f1: float, f2: float, value: ArrayLike, esr: ArrayLike,
+                       esl: ArrayLike, tan_delta: ArrayLike = 0.0
+                       ) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+    """Band maximum of |Z| of the series R-L-C model and where it occurs: (max_z, f_max).
+
+    By the convexity of |Z|^2 in ln f the maximum sits at a band edge, so two evaluations in real
+    arithmetic suffice; this is the fast path of the band search.
+    """
+    _check_band(f1, f2)
+    c = np.asarray(value, dtype=float)
+
+    def edge(f: float) -> NDArray[np.float64]:
+        w = 2.0 * np.pi * f
+        inv = 1.0 / (w * c)
+        return np.hypot(esr + tan_delta * inv, w * np.asarray(esl, dtype=float) - inv)
+
+    z1, z2 = edge(f1), edge(f2)
+    return np.maximum(z1, z2), np.where(z2 > z1, f2, f1)
+
+
 def inductor_band(f1: float, f2: float, value: ArrayLike, dcr: ArrayLike, cp: ArrayLike,
                   rp: ArrayLike = np.inf) -> BandExtrema:
     """Max and min of |Z| of the inductor model over [f1, f2], per part."""

@@ -116,23 +116,21 @@ def _where(search: Search) -> tuple[str, list[Any]]:
     return " AND ".join(conds), params
 
 
-def _c_effective(store: Store, where: str, params: list[Any], value: np.ndarray,
-                 bias: float, effects: list[str]) -> tuple[np.ndarray, np.ndarray]:
+def _c_effective(a: dict[str, np.ndarray], bias: float,
+                 effects: list[str]) -> tuple[np.ndarray, np.ndarray]:
     """Capacitance at the working DC bias: the part's own curve, else the rule-of-thumb
     estimate (class I and non-ceramic parts keep their value). Returns (C, source code) with
     source 0 = none needed, 1 = measured curve, 2 = estimate."""
-    cols = store.arrays(
-        f"SELECT technology, dielectric, \"case\", rated_voltage, bias_v, bias_ratio "
-        f"FROM parts WHERE {where} ORDER BY id", params)
-    mlcc = cols["technology"] == "mlcc"
-    has_curve = np.array([v is not None and len(v) > 0 for v in cols["bias_v"]], dtype=bool)
+    value = a["value"]
+    mlcc = a["technology"] == "mlcc"
+    has_curve = np.array([v is not None and len(v) > 0 for v in a["bias_v"]], dtype=bool)
     ratio = np.ones_like(value)
     source = np.zeros(value.shape, dtype=np.int8)
     if has_curve.any():
-        k = max(len(v) for v in cols["bias_v"][has_curve])
+        k = max(len(v) for v in a["bias_v"][has_curve])
         cv = np.full((int(has_curve.sum()), k), np.nan)
         cr = np.full_like(cv, np.nan)
-        for i, (v, r) in enumerate(zip(cols["bias_v"][has_curve], cols["bias_ratio"][has_curve],
+        for i, (v, r) in enumerate(zip(a["bias_v"][has_curve], a["bias_ratio"][has_curve],
                                        strict=True)):
             cv[i, :len(v)] = v
             cr[i, :len(r)] = r
@@ -140,8 +138,8 @@ def _c_effective(store: Store, where: str, params: list[Any], value: np.ndarray,
         source[has_curve] = 1
     est = mlcc & ~has_curve
     if est.any():
-        r = ceramic.estimate_bias_ratio(bias, cols["rated_voltage"][est], value[est],
-                                        cols["case"][est], cols["dielectric"][est])
+        r = ceramic.estimate_bias_ratio(bias, a["rated_voltage"][est], value[est],
+                                        a["case"][est], a["dielectric"][est])
         changed = r < 1.0
         idx = np.flatnonzero(est)
         ratio[idx] = r
@@ -159,26 +157,35 @@ def find(store: Store, search: Search) -> FindResult:
     effects: list[str] = []
     notes: list[str] = []
     if search.kind == "capacitor":
-        a = store.arrays(f"SELECT id, value, esr, esl, coalesce(tan_delta, 0.0) AS tan_delta "
-                         f"FROM parts WHERE {where} ORDER BY id", params)
+        cols = "id, value, esr, esl, coalesce(tan_delta, 0.0) AS tan_delta"
+        if search.bias is not None:
+            cols += ", technology, dielectric, \"case\", rated_voltage, bias_v, bias_ratio"
+        # one query, so every column comes back in the same row order
+        a = store.arrays(f"SELECT {cols} FROM parts WHERE {where}", params)
         value, esr, esl, td = a["value"], a["esr"], a["esl"], a["tan_delta"]
         effects.append("series R-L-C model: ESR(f) = esr + tan_delta/(2 pi f C)")
         c_eff = value
         bias_src = None
         if search.bias is not None:
-            c_eff, bias_src = _c_effective(store, where, params, value, search.bias, effects)
+            c_eff, bias_src = _c_effective(a, search.bias, effects)
         l_tot = esl
         if search.mount_l:
             l_tot = esl + search.mount_l
             effects.append(f"mounting inductance {search.mount_l * 1e9:g} nH added to each ESL")
         ok = np.isfinite(value) & np.isfinite(esr) & np.isfinite(esl)
-        metrics: dict[str, np.ndarray] = {"srf_hz": capacitor.srf(c_eff, l_tot)}
+        metrics: dict[str, np.ndarray] = {}
         if search.band:
-            ext = band_metrics.capacitor_band(*search.band, c_eff, np.nan_to_num(esr),
-                                              np.nan_to_num(l_tot), td)
+            esr0, l0 = np.nan_to_num(esr), np.nan_to_num(l_tot)
+            if search.above is None:
+                # fast path: the maximum alone decides and ranks; the rest is computed for the
+                # rows shown
+                max_z, f_max = band_metrics.capacitor_band_max(*search.band, c_eff, esr0, l0, td)
+                ext = band_metrics.BandExtrema(max_z, f_max, max_z, f_max)
+            else:
+                ext = band_metrics.capacitor_band(*search.band, c_eff, esr0, l0, td)
     else:
         a = store.arrays(f"SELECT id, value, dcr AS dcr_raw, coalesce(dcr, 0.0) AS dcr, srf, rp, "
-                         f"isat, irms FROM parts WHERE {where} ORDER BY id", params)
+                         f"isat, irms FROM parts WHERE {where}", params)
         value, dcr = a["value"], a["dcr"]
         cp = inductor.winding_capacitance(value, a["srf"])
         effects.append("inductor model: (L + DCR) parallel to C_p = 1/((2 pi SRF)^2 L) and Rp")
@@ -239,6 +246,16 @@ def find(store: Store, search: Search) -> FindResult:
     if search.limit and matches > search.limit:
         cut = key[idx[search.limit - 1]]
         idx = idx[key[idx] <= cut]  # keep ties at the cut so part number can break them
+    if search.kind == "capacitor":
+        sub = idx
+        metrics["srf_hz"] = np.full(considered, np.nan)
+        metrics["srf_hz"][sub] = capacitor.srf(c_eff[sub], l_tot[sub])
+        if search.band and search.above is None:
+            full = band_metrics.capacitor_band(*search.band, c_eff[sub], esr0[sub], l0[sub],
+                                               td[sub])
+            for name, arr in (("min_z_ohm", full.min_z), ("f_min_hz", full.f_min)):
+                metrics[name] = np.full(considered, np.nan)
+                metrics[name][sub] = arr
     ids = a["id"][idx]
     parts = store.parts_by_id(ids)
     rows = []

@@ -101,9 +101,11 @@ class Store:
             if maker:
                 sql += " AND lower(maker) = lower(?)"
                 params.append(maker)
-            df = self.con.execute(sql, params).df()
-            if len(df):
-                return [_decode_row(r) for r in df.to_dict("records")]
+            cur = self.con.execute(sql, params)
+            names = [d[0] for d in cur.description]
+            rows = cur.fetchall()
+            if rows:
+                return [_decode_row(dict(zip(names, r, strict=True))) for r in rows]
         return []
 
     def _suggest(self, part_number: str, n: int = 3) -> list[str]:
@@ -117,8 +119,12 @@ class Store:
         ids = [int(i) for i in ids]
         if not ids:
             return []
-        df = self.con.execute("SELECT * FROM parts WHERE list_contains(?, id)", [ids]).df()
-        by_id = {int(r["id"]): _decode_row(r) for r in df.to_dict("records")}
+        cur = self.con.execute("SELECT * FROM parts WHERE list_contains(?, id)", [ids])
+        names = [d[0] for d in cur.description]
+        by_id = {}
+        for rec in cur.fetchall():
+            row = _decode_row(dict(zip(names, rec, strict=True)))
+            by_id[int(row["id"])] = row
         return [by_id[i] for i in ids if i in by_id]
 
 
@@ -127,20 +133,10 @@ def _decode_row(row: dict[str, Any]) -> dict[str, Any]:
     for k, v in row.items():
         if isinstance(v, float) and np.isnan(v):
             v = None
-        elif v is not None and not isinstance(v, (str, list, np.ndarray)) and _isnat(v):
-            v = None
         out[k] = v
     extra = out.get("extra")
     out["extra"] = json.loads(extra) if extra else {}
     return out
-
-
-def _isnat(v: Any) -> bool:
-    try:
-        import pandas as pd
-        return bool(pd.isna(v))
-    except (TypeError, ValueError):
-        return False
 
 
 def _connect(path: Path, read_only: bool) -> duckdb.DuckDBPyConnection:
