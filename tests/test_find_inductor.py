@@ -73,6 +73,7 @@ def test_all_criteria_together(store):
     assert_allclose(a["zero_phase_hz"], f0, rtol=1e-12)
     assert_allclose(a["srf_margin"], f0 / 30e6, rtol=1e-12)
     assert_allclose(a["isat_margin"], 2.0, rtol=1e-12)    # rule of thumb: Isat / (I + ripple/2)
+    assert_allclose(a["irms_margin"], 1.5, rtol=1e-12)    # Irms / I_dc without ripple
     assert_allclose(a["q"], q_closed_form(10e6, 10e-6, 0.05, 400e6), rtol=1e-9)
     assert any("without an SRF were left out" in n for n in res.notes)
 
@@ -237,7 +238,8 @@ def test_find_equals_brute_force(make_store, parts, target, current, ripple, q_m
         w = TWO_PI * f
         z = 1 / (1 / (r + 1j * w * lval) + 1j * w * cp)    # (L + R) || Cp, circuit theory
         ok = bool(np.all(z.imag > 0))
-        ok &= isat >= current + ripple / 2 and irms >= current   # rule of thumb
+        # rule of thumb: Isat >= I + I_pp/2; derived: Irms >= RMS of DC + triangular ripple
+        ok &= isat >= current + ripple / 2 and irms >= np.sqrt(current**2 + ripple**2 / 12)
         ok &= q_closed_form(target / 3, lval, r, srf) >= q_min
         if ok:
             w0 = np.sqrt(1 / (lval * cp) - (r / lval) ** 2)    # derived: zero-phase frequency
@@ -251,7 +253,8 @@ def _near_a_limit(parts, target, current, ripple, q_min) -> bool:
         w2 = 1 / (lval * cp) - (r / lval) ** 2
         f0 = np.sqrt(max(w2, 0.0)) / TWO_PI
         q = q_closed_form(target / 3, lval, r, srf)
-        for a, b in ((f0, target), (isat, current + ripple / 2), (irms, current), (q, q_min)):
+        i_rms = np.sqrt(current**2 + ripple**2 / 12)
+        for a, b in ((f0, target), (isat, current + ripple / 2), (irms, i_rms), (q, q_min)):
             if abs(a - b) <= 1e-6 * abs(b):
                 return True
     return False
