@@ -160,6 +160,10 @@ def _check_against_grid(f1, f2, ext, zfun, sharp):
 def test_capacitor_band_matches_dense_grid(c, lser, r, td, f1, span):
     f2 = f1 * span
     ext = band.capacitor_band(f1, f2, c, r, lser, td)
+    fast_max, fast_f = band.capacitor_band_max(f1, f2, c, r, lser, td)
+    assert_allclose(fast_max, ext.max_z, rtol=1e-12)
+    assert fast_f == ext.f_max or np.isclose(np.abs(capacitor.impedance(f1, c, r, lser, td)),
+                                             np.abs(capacitor.impedance(f2, c, r, lser, td)))
     zfun = lambda f: capacitor.impedance(f, c, r, lser, td)  # noqa: E731
     _check_against_grid(f1, f2, ext, zfun, sharp=capacitor.resonance_q(c, r, lser) > 1e3)
 
