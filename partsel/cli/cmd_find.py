@@ -149,6 +149,7 @@ def find_cmd(
         kw["in_stock"] = True
     kw.setdefault("limit", limit)
     search = Search(**kw)
+    search.validate()
     if search.band is None and search.inductive_to is None and search.current is None:
         raise QueryError("nothing to search for: give --below/--above with --band, or "
                          "--inductive-to (see 'partsel find --help')")
