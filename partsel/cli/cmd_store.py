@@ -12,32 +12,56 @@ from partsel.cli.app import app, echo, is_terminal, note, open_store_for
 @app.command("import")
 def import_cmd(
     ctx: typer.Context,
-    file: Path = typer.Argument(..., metavar="FILE",
-                                help="Catalog file: .csv, .xlsx or .parquet with one header row."),
+    file_name: str = typer.Argument(..., metavar="FILE",
+                                    help="Catalog file: .csv, .xlsx or .parquet with one header "
+                                         "row."),
     check: bool = typer.Option(False, "--check",
                                help="Dry run: list every problem with row and column, write "
                                     "nothing."),
+    mapping: str = typer.Option(None, "--map", metavar="MAP.toml",
+                                help="Column mapping for a file with its own column names, "
+                                     "units and words (TOML; see below)."),
 ) -> None:
     """Add or replace parts from a catalog file, all or nothing.
 
-    Parts are keyed by maker and part number; a part already in the store is replaced. A file
-    with any bad cell changes nothing, and the error names its row, column and reason.
+    Parts are keyed by maker and part number; a part already in the store is replaced (a part
+    whose data did not change is left as it is, and a model fitted to a measured sweep is kept).
+    A file with any bad cell changes nothing, and the error names its row, column and reason.
+
+    A file with other column names and units is read through a mapping (TOML):
+
+    \b
+      [columns]
+      part_number = "Mfr Part No."
+      value = { column = "Capacitance", unit = "uF" }
+      lifecycle = { column = "Status", values = { Active = "active", EOL = "obsolete" } }
+
+    \b
+      [constants]
+      kind = "capacitor"
 
     Example: partsel --store parts.duckdb import catalog.csv
-    """
-    from partsel.store.importer import check_catalog, import_catalog
 
+    Example: partsel import export.xlsx --map export.toml --check
+    """
+    from partsel.io.mapping import read_mapping
+    from partsel.store.importer import check_catalog, import_catalog, refused_rows
+
+    file = Path(file_name)
+    mapped = read_mapping(mapping) if mapping is not None else None
     if check:
-        frame, problems = check_catalog(file)
+        frame, problems = check_catalog(file, mapped)
         for p in problems:
             echo(f"{file.name}: {p}")
         if problems:
-            note(f"{file.name}: {len(problems)} problem(s); nothing was written")
+            rows = len(frame) if len(frame) else None
+            refused = f"{refused_rows(problems, rows)} of {rows} rows refused; " if rows else ""
+            note(f"{file.name}: {len(problems)} problem(s); {refused}nothing was written")
             raise typer.Exit(1)
         echo(f"{file.name}: {len(frame)} rows, no problems (nothing was written)")
         return
     with open_store_for(ctx, write=True) as store:
-        summary = import_catalog(store, file)
+        summary = import_catalog(store, file, mapped)
     echo(summary.text())
 
 
@@ -68,7 +92,8 @@ def demo_cmd(
         if show:
             def progress(done: int, total: int) -> None:
                 note(f"  stored {done}/{total}")
-        added, replaced = insert_frame(store, frame, source_file=f"demo --parts {n} --seed {seed}",
-                                       progress=progress)
+        added, replaced, *_ = insert_frame(store, frame,
+                                           source_file=f"demo --parts {n} --seed {seed}",
+                                           progress=progress)
         total = store.count()
     echo(f"demo: {added} parts added, {replaced} replaced; the store now holds {total} parts")

@@ -7,14 +7,21 @@ Every cell comes back as a stripped string ('' for empty) so that one strict par
 from __future__ import annotations
 
 import csv
+import re
 from pathlib import Path
 
+import numpy as np
 import pandas as pd
 
 from partsel.errors import CatalogError
 
 SUFFIXES = {".csv": "csv", ".txt": "csv", ".tsv": "csv", ".xlsx": "xlsx", ".xlsm": "xlsx",
             ".parquet": "parquet", ".pq": "parquet"}
+
+
+def normalise_header(name: str) -> str:
+    """'Rated Voltage' -> 'rated_voltage'; catalog names are matched in this form."""
+    return re.sub(r"[\s\-]+", "_", name.strip().lower())
 
 
 def file_type(path: Path) -> str:
@@ -40,9 +47,6 @@ def read_cells(path: str | Path) -> pd.DataFrame:
             df = pd.read_excel(p, dtype=str, keep_default_na=False, engine="openpyxl")
         else:
             df = pd.read_parquet(p)
-            df = df.astype(object).where(df.notna(), "")
-            df = df.map(lambda v: v if isinstance(v, str) else repr(v) if isinstance(v, float)
-                        else str(v))
     except CatalogError:
         raise
     except UnicodeDecodeError as exc:
@@ -56,8 +60,39 @@ def read_cells(path: str | Path) -> pd.DataFrame:
         raise CatalogError(f"cannot read {p.name} as {kind.upper()}: {first}") from None
     if df.columns.size == 0:
         raise CatalogError(f"{p.name} has no header row: the first row names the columns")
-    df.columns = [str(c).strip() for c in df.columns]
-    return df.map(lambda v: v.strip() if isinstance(v, str) else "" if v is None else str(v))
+    names = [str(c).strip() for c in df.columns]
+    out = pd.concat([_as_text(df.iloc[:, i]) for i in range(len(names))], axis=1)
+    out.columns = names
+    return out
+
+
+def _text_of(v: object) -> str:
+    if isinstance(v, bool | np.bool_ | list | tuple | np.ndarray | dict):
+        return str(v)
+    if v is None or (not isinstance(v, str) and bool(pd.isna(v))):
+        return ""
+    if isinstance(v, str):
+        return v.strip()
+    if isinstance(v, float | np.floating):
+        return repr(float(v))  # the shortest text that reads back to the same double
+    if isinstance(v, int | np.integer):
+        return str(int(v))
+    return str(v).strip()
+
+
+def _as_text(col: pd.Series) -> pd.Series:
+    """Cells as stripped strings, '' for missing; each distinct value is converted once."""
+    obj = col.astype(object)
+    present = obj.notna().to_numpy()
+    try:
+        conv = {v: _text_of(v) for v in pd.unique(obj[present])}
+    except TypeError:  # unhashable cells (lists in a Parquet column)
+        return obj.map(_text_of).astype(object)
+    if present.all() and all(isinstance(k, str) and k == v for k, v in conv.items()):
+        return obj
+    out = pd.Series("", index=col.index, dtype=object)
+    out[present] = obj[present].map(conv)
+    return out
 
 
 def _read_csv(p: Path) -> pd.DataFrame:

@@ -8,22 +8,33 @@ the store as it was.
 
 from __future__ import annotations
 
+import functools
 import json
 import re
 from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import Any, NamedTuple
 
 import numpy as np
 import pandas as pd
 
 from partsel import rules, units
-from partsel.catalog import (BY_NAME, CAPACITOR_TECHNOLOGIES, COLUMNS, INDUCTOR_TECHNOLOGIES,
-                             KINDS, LIFECYCLES, MODEL_PARAMETERS, MOUNTINGS, NAMES, PROVENANCES,
-                             REQUIRED)
+from partsel.catalog import (
+    CAPACITOR_TECHNOLOGIES,
+    COLUMNS,
+    INDUCTOR_TECHNOLOGIES,
+    KINDS,
+    LIFECYCLES,
+    MODEL_PARAMETERS,
+    MOUNTINGS,
+    NAMES,
+    PROVENANCES,
+    REQUIRED,
+)
 from partsel.errors import CatalogError, PartselError
-from partsel.io.catalog import read_cells
+from partsel.io.catalog import normalise_header, read_cells
+from partsel.io.mapping import Mapping, apply_mapping
 from partsel.store.db import Store
 
 MAX_LISTED = 20
@@ -44,35 +55,50 @@ class Problem:
 
 @dataclass(frozen=True)
 class ImportSummary:
+    """What an import did. ``replaced`` counts parts the store already held, ``unchanged`` those
+    of them whose data was the same (left as they were); ``kept_fits`` parts whose measured-fit
+    model was kept over the file's model."""
+
     file: str
     rows: int
     added: int
     replaced: int
     refused: int
     estimated: dict[str, int]
+    unchanged: int = 0
+    kept_fits: int = 0
 
     def text(self) -> str:
         est = ", ".join(f"{k} for {v}" for k, v in self.estimated.items() if v)
+        same = f" ({self.unchanged} of them unchanged)" if self.unchanged else ""
+        fits = (f"; kept the measured-fit model of {self.kept_fits} part"
+                f"{'s' if self.kept_fits != 1 else ''} (undo with 'partsel fit PART --undo')"
+                if self.kept_fits else "")
         return (f"{self.file}: {self.rows} rows read, {self.added} parts added, {self.replaced} "
-                f"replaced, {self.refused} refused"
-                + (f"; estimated by rule: {est}" if est else ""))
+                f"replaced{same}, {self.refused} refused"
+                + (f"; estimated by rule: {est}" if est else "") + fits)
+
+
+class InsertCounts(NamedTuple):
+    """Parts added, replaced (already in the store; ``unchanged`` of them had the same data and
+    were left alone) and parts whose measured-fit model was kept."""
+
+    added: int
+    replaced: int
+    unchanged: int
+    kept_fits: int
 
 
 ALIASES = {
     "technology": {"ceramic": "mlcc", "aluminium": "aluminum", "thin film": "thin_film",
                    "thin-film": "thin_film", "al_polymer": "polymer", "polymer_aluminum": "polymer",
                    "wire_wound": "wirewound", "wire-wound": "wirewound"},
-    "mounting": {"through hole": "through_hole", "through-hole": "through_hole", "tht": "through_hole",
-                 "surface mount": "smd", "smt": "smd"},
+    "mounting": {"through hole": "through_hole", "through-hole": "through_hole",
+                 "tht": "through_hole", "surface mount": "smd", "smt": "smd"},
     "lifecycle": {"not recommended": "nrnd", "not_recommended": "nrnd", "eol": "obsolete",
                   "discontinued": "obsolete", "production": "active"},
     "kind": {"cap": "capacitor", "ind": "inductor"},
 }
-
-
-def normalise_header(name: str) -> str:
-    """'Rated Voltage' -> 'rated_voltage'; catalog names are matched in this form."""
-    return re.sub(r"[\s\-]+", "_", name.strip().lower())
 
 
 def _parse_unique(cells: pd.Series, parse: Callable[[str], Any], column: str,
@@ -150,6 +176,20 @@ def _quantity(unit: str, what: str, lo: float | None = None, strict: bool = Fals
 _CURVE_POINT = re.compile(r"^\s*(?P<v>[^:=]+?)\s*[:=]\s*(?P<r>[^:=]+?)\s*$")
 
 
+@functools.lru_cache(maxsize=65536)
+def _bias_voltage(text: str) -> float:
+    # Cached: the same point texts recur in thousands of curves of one catalog.
+    return units.parse_quantity(text, "V", what="bias voltage")
+
+
+@functools.lru_cache(maxsize=65536)
+def _bias_ratio(text: str) -> float:
+    r = units.parse_percent(text)
+    if not 0 < r <= 1.5:
+        raise CatalogError(f"bias curve ratio '{text}' must lie in (0, 1.5]")
+    return r
+
+
 def parse_bias_curve(text: str) -> str:
     """'0V:1, 3.3V:0.62, 6.3V:41%' -> canonical '0V:1, 3.3V:0.62, 6.3V:0.41'.
 
@@ -163,11 +203,7 @@ def parse_bias_curve(text: str) -> str:
         if not m:
             raise CatalogError(f"bias curve point '{chunk.strip()}' is not 'voltage:ratio' "
                                "(write e.g. '0V:1, 3.3V:0.62')")
-        v = units.parse_quantity(m["v"], "V", what="bias voltage")
-        r = units.parse_percent(m["r"])
-        if not 0 < r <= 1.5:
-            raise CatalogError(f"bias curve ratio '{m['r']}' must lie in (0, 1.5]")
-        points.append((v, r))
+        points.append((_bias_voltage(m["v"]), _bias_ratio(m["r"])))
     if not points:
         raise CatalogError("empty bias curve: write e.g. '0V:1, 3.3V:0.62'")
     vs = [p[0] for p in points]
@@ -276,9 +312,7 @@ def parse_catalog(cells: pd.DataFrame) -> tuple[pd.DataFrame, list[Problem]]:
     known = set(NAMES) | {p + "_source" for p in MODEL_PARAMETERS}
     extras = [c for c in cells.columns if c not in known]
     if extras:
-        sub = cells[extras]
-        out["extra"] = [json.dumps({k: v for k, v in rec.items() if v != ""}) for rec in
-                        sub.to_dict("records")]
+        out["extra"] = _extra_json(cells[extras])
     else:
         out["extra"] = None
     problems.sort(key=lambda p: (p.row, NAMES.index(p.column) if p.column in NAMES else 99))
@@ -346,29 +380,66 @@ def fill_estimates(frame: pd.DataFrame) -> None:
             frame.loc[need, f"{p}_source"] = "estimated by rule"
 
 
-def check_catalog(path: str | Path) -> tuple[pd.DataFrame, list[Problem]]:
-    """Read and parse a catalog file without touching any store."""
-    return parse_catalog(read_cells(path))
+def check_catalog(path: str | Path, mapping: Mapping | None = None
+                  ) -> tuple[pd.DataFrame, list[Problem]]:
+    """Read and parse a catalog file (through a column mapping, when given) without touching
+    any store. Problems in mapped columns name the file's column as well."""
+    frame, problems, _ = _checked(Path(path), mapping)
+    return frame, problems
 
 
-def _refusal(path: Path, problems: list[Problem]) -> CatalogError:
+def _checked(p: Path, mapping: Mapping | None) -> tuple[pd.DataFrame, list[Problem], int]:
+    cells = read_cells(p)
+    if mapping is not None:
+        cells = apply_mapping(cells, mapping, p.name)
+    frame, problems = parse_catalog(cells)
+    if mapping is not None:
+        problems = [_annotated(q, mapping) for q in problems]
+    return frame, problems, len(cells)
+
+
+def _annotated(problem: Problem, mapping: Mapping) -> Problem:
+    shown = []
+    for name in (c.strip() for c in problem.column.split(",")):
+        how = mapping.source_of(name)
+        shown.append(f"{name} (from {how})" if how else name)
+    return Problem(problem.row, ", ".join(shown), problem.reason)
+
+
+def refused_rows(problems: list[Problem], rows: int) -> int:
+    """Rows with at least one problem; a header problem refuses every row."""
+    if any(q.row == 0 for q in problems):
+        return rows
+    return len({q.row for q in problems})
+
+
+def _refusal(path: Path, problems: list[Problem], rows: int) -> CatalogError:
     first = problems[0]
     more = len(problems) - 1
     tail = f"; and {more} more problem{'s' if more > 1 else ''} (list them with 'partsel " \
            f"import --check {path.name}')" if more else ""
-    return CatalogError(f"{path.name} was not imported (nothing changed): {first}{tail}")
+    refused = refused_rows(problems, rows)
+    return CatalogError(f"{path.name} was not imported (nothing changed; {refused} of {rows} "
+                        f"rows refused): {first}{tail}")
 
 
-def import_catalog(store: Store, path: str | Path) -> ImportSummary:
-    """Add or replace the parts of a catalog file, all or nothing."""
+def import_catalog(store: Store, path: str | Path, mapping: Mapping | None = None
+                   ) -> ImportSummary:
+    """Add or replace the parts of a catalog file, all or nothing.
+
+    Parts are keyed by maker and part number. A part whose data is the same as the stored one
+    is left as it is (same id, same import date); a stored model that came from a measured fit
+    is kept over the file's datasheet or estimated model (see :func:`insert_frame`).
+    """
     p = Path(path)
-    frame, problems = check_catalog(p)
+    frame, problems, rows = _checked(p, mapping)
     if problems:
-        raise _refusal(p, problems)
+        raise _refusal(p, problems, rows)
     estimated = {c: int((frame[f"{c}_source"] == "estimated by rule").sum()) for c in
                  ("esr", "esl")}
-    added, replaced = insert_frame(store, frame, source_file=p.name)
-    return ImportSummary(p.name, len(frame), added, replaced, 0, estimated)
+    counts = insert_frame(store, frame, source_file=p.name)
+    return ImportSummary(p.name, len(frame), counts.added, counts.replaced, 0, estimated,
+                         counts.unchanged, counts.kept_fits)
 
 
 _BIAS_V_SQL = "CAST(regexp_extract_all(bias_curve, '([0-9.eE+-]+)V:', 1) AS DOUBLE[])"
@@ -392,12 +463,17 @@ def _extra_json(sub: pd.DataFrame) -> pd.Series:
 
 def insert_frame(store: Store, frame: pd.DataFrame, source_file: str,
                  progress: Callable[[int, int], None] | None = None,
-                 chunk: int = 250_000) -> tuple[int, int]:
+                 chunk: int = 250_000) -> InsertCounts:
     """Add or replace parts (keyed by maker and part number) in one transaction.
 
     ``frame`` holds catalog columns in SI units, ``<param>_source`` columns, optional ``extra``
-    (a JSON object per row) and ``bias_curve`` in canonical text form. Returns (added, replaced).
+    (a JSON object per row) and ``bias_curve`` in canonical text form.
     ``progress(done, total)`` is called after each chunk of rows (all in the one transaction).
+
+    A stored part whose model parameters came from a measured fit keeps them (and their
+    provenance) unless the incoming row is itself a measured fit: a measurement of the part
+    beats its datasheet. A stored part whose data equals the incoming row is left untouched (its
+    id and import date stay). Returns :class:`InsertCounts`; ``added, replaced, *_ = ...``.
     """
     cols = list(NAMES) + [p + "_source" for p in MODEL_PARAMETERS]
     df = frame.copy()
@@ -416,30 +492,59 @@ def insert_frame(store: Store, frame: pd.DataFrame, source_file: str,
             df[c.name] = pd.to_numeric(df[c.name], errors="coerce").astype("Int64")
         else:
             df[c.name] = df[c.name].astype(object).where(df[c.name].notna(), None)
+    for c in [p + "_source" for p in MODEL_PARAMETERS] + ["extra"]:
+        df[c] = df[c].astype(object).where(df[c].notna(), None)
     df = df[cols + ["extra"]]
     con = store.con
     quoted = ", ".join(f'"{c}"' for c in cols)
-    replaced = 0
+    totals = np.zeros(4, dtype=np.int64)
     con.execute("BEGIN TRANSACTION")
     try:
         for start in range(0, len(df), chunk):
             con.register("incoming", df.iloc[start:start + chunk])
-            n_old = con.execute(
-                "SELECT count(*) FROM parts p SEMI JOIN incoming i "
-                "ON p.maker = i.maker AND p.part_number = i.part_number").fetchone()[0]
-            if n_old:
-                con.execute("DELETE FROM parts WHERE EXISTS (SELECT 1 FROM incoming i "
-                            "WHERE i.maker = parts.maker AND i.part_number = parts.part_number)")
-            replaced += n_old
+            con.execute(_STAGE_SQL)
+            n_old, same, kept = con.execute(
+                "SELECT count(old_id), count(*) FILTER (same), count(*) FILTER (kept_fit) "
+                "FROM staged").fetchone()
+            if n_old > same:
+                con.execute("DELETE FROM parts WHERE id IN (SELECT old_id FROM staged WHERE "
+                            "old_id IS NOT NULL AND NOT same)")
             con.execute(
                 f"INSERT INTO parts (id, {quoted}, bias_v, bias_ratio, extra, source_file, "
                 f"imported_at) SELECT nextval('part_ids'), {quoted}, {_BIAS_V_SQL}, "
-                f"{_BIAS_R_SQL}, extra, ?, now() FROM incoming", [source_file])
+                f"{_BIAS_R_SQL}, extra, ?, now() FROM staged WHERE NOT same", [source_file])
+            con.execute("DROP TABLE staged")
             con.unregister("incoming")
+            n = min(chunk, len(df) - start)
+            totals += (n - n_old, n_old, same, kept)
             if progress:
                 progress(min(start + chunk, len(df)), len(df))
         con.execute("COMMIT")
     except Exception:
         con.execute("ROLLBACK")
         raise
-    return len(df) - replaced, replaced
+    return InsertCounts(*(int(x) for x in totals))
+
+
+def _stage_sql() -> str:
+    """SQL that stages the rows of ``incoming`` against ``parts``: a stored measured fit wins
+    over an incoming model that is not one; ``same`` marks rows equal to the stored part."""
+    fitted = "p.{0}_source = 'measured fit' AND i.{0}_source IS DISTINCT FROM 'measured fit'"
+    keep = ", ".join(
+        f'CASE WHEN {fitted.format(m)} THEN p."{m}" ELSE i."{m}" END AS "{m}", '
+        f'CASE WHEN {fitted.format(m)} THEN p."{m}_source" ELSE i."{m}_source" END '
+        f'AS "{m}_source"' for m in MODEL_PARAMETERS)
+    kept = " OR ".join(f"({fitted.format(m)})" for m in MODEL_PARAMETERS)
+    compared = list(NAMES) + [m + "_source" for m in MODEL_PARAMETERS] + ["extra"]
+    same = " AND ".join(f'm."{c}" IS NOT DISTINCT FROM p."{c}"' for c in compared)
+    return (
+        "CREATE TEMP TABLE staged AS "
+        "WITH merged AS ("
+        f"  SELECT i.* REPLACE ({keep}), p.id AS old_id, coalesce({kept}, false) AS kept_fit "
+        "  FROM incoming i LEFT JOIN parts p "
+        "  ON p.maker = i.maker AND p.part_number = i.part_number) "
+        f"SELECT m.*, coalesce(p.id IS NOT NULL AND {same}, false) AS same "
+        "FROM merged m LEFT JOIN parts p ON p.id = m.old_id")
+
+
+_STAGE_SQL = _stage_sql()
