@@ -75,7 +75,7 @@ def test_all_criteria_together(store):
     assert_allclose(a["isat_margin"], 2.0, rtol=1e-12)    # rule of thumb: Isat / (I + ripple/2)
     assert_allclose(a["irms_margin"], 1.5, rtol=1e-12)    # Irms / I_dc without ripple
     assert_allclose(a["q"], q_closed_form(10e6, 10e-6, 0.05, 400e6), rtol=1e-9)
-    assert any("without an SRF were left out" in n for n in res.notes)
+    assert any("without an SRF left out" in n for n in res.notes)
 
 
 def test_cli_all_criteria(cli, store):
@@ -85,8 +85,9 @@ def test_cli_all_criteria(cli, store):
     assert names(rows) == ["GOOD_A", "GOOD_B"]
     assert {"part_number", "maker", "zero_phase_hz", "srf_margin", "isat_margin", "q"} \
         <= set(rows[0])
-    assert "2 of " in r.stderr and "largest zero-phase frequency / target first" in r.stderr
-    assert "1 inductors without an SRF were left out" in r.stderr
+    assert "2 of " in r.stderr
+    assert "best worst-case margin first (zero-phase f / target, Isat, Irms, Q)" in r.stderr
+    assert "1 inductor without an SRF left out" in r.stderr
     table = cli("--store", store, "find", "inductor", *ALL)
     assert table.exit_code == 0
     assert "Q@10 MHz" in table.stdout.splitlines()[0]
@@ -145,11 +146,11 @@ def test_ripple_raises_the_isat_need(make_store):
                         ind("I135", srf="1GHz", dcr="10mohm", isat="1.35A", irms="5A")])
     with open_store(store) as s:
         without = find(s, Search("inductor", current=1.0, limit=0))
-        assert names(without.rows) == ["I135", "I125"]   # largest Isat margin first
+        assert names(without.rows) == ["I135", "I125"]   # best worst-case margin first
         res = find(s, Search("inductor", current=1.0, ripple=0.6, limit=0))
     assert names(res.rows) == ["I135"]
     assert_allclose(res.rows[0]["isat_margin"], 1.35 / 1.3, rtol=1e-12)
-    assert res.order == "largest Isat margin first"
+    assert res.order == "best worst-case margin first (Isat, Irms)"
 
 
 def test_irms_against_the_dc_current(make_store):
@@ -243,7 +244,11 @@ def test_find_equals_brute_force(make_store, parts, target, current, ripple, q_m
         ok &= q_closed_form(target / 3, lval, r, srf) >= q_min
         if ok:
             w0 = np.sqrt(1 / (lval * cp) - (r / lval) ** 2)    # derived: zero-phase frequency
-            expected.append((-w0 / TWO_PI / target, row["part_number"]))
+            # best worst-case margin first: each margin is 1 where the part just passes
+            worst = min(w0 / TWO_PI / target, isat / (current + ripple / 2),
+                        irms / np.sqrt(current**2 + ripple**2 / 12),
+                        q_closed_form(target / 3, lval, r, srf) / q_min)
+            expected.append((-worst, row["part_number"]))
     assert names(got.rows) == [pn for _, pn in sorted(expected)]
 
 

@@ -31,7 +31,8 @@ JSON_KEYS = {
     "tan_delta": "tan_delta", "dcr": "dcr_ohm", "srf": "srf_hz", "srf_hz": "srf_hz",
     "rp": "rp_ohm", "isat": "isat_a", "irms": "irms_a", "max_z_ohm": "max_z_ohm",
     "f_max_hz": "f_max_hz", "min_z_ohm": "min_z_ohm", "f_min_hz": "f_min_hz",
-    "zero_phase_hz": "zero_phase_hz", "srf_margin": "srf_margin", "isat_margin": "isat_margin",
+    "zero_phase_hz": "zero_phase_hz", "srf_margin": "srf_margin", "srf_ratio": "srf_ratio",
+    "isat_margin": "isat_margin", "irms_margin": "irms_margin",
     "q": "q", "c_eff_f": "c_eff_f", "bias_source": "bias_source", "lifecycle": "lifecycle",
     "price": "price", "stock": "stock", "esr_source": "esr_source", "esl_source": "esl_source",
 }
@@ -66,7 +67,8 @@ def find_cmd(
     inductive_to: str = typer.Option(None, "--inductive-to", metavar="F",
                                      help="Inductors: Im Z > 0 from DC up to F."),
     value: str = typer.Option(None, "--value", metavar="V|V1..V2",
-                              help="Nominal value or range, e.g. 10uH or 1uF..10uF."),
+                              help="Nominal value or range, e.g. 10uH or 1uF..10uF (the "
+                                   "catalog value; the part's tolerance is not applied)."),
     min_voltage: str = typer.Option(None, "--min-voltage", metavar="V",
                                     help="Rated voltage at least V."),
     case: list[str] = typer.Option(None, "--case", help="EIA case code(s), e.g. 0402,0603."),
@@ -92,6 +94,10 @@ def find_cmd(
                                help="Inductors: peak-to-peak ripple current."),
     min_q: str = typer.Option(None, "--min-q", metavar="Q@F",
                               help="Inductors: Q at least Q at frequency F, e.g. 30@10MHz."),
+    srf_ratio: float = typer.Option(1.0, "--srf-ratio", metavar="R",
+                                    help="Inductors: catalog SRF at least R x the "
+                                         "--inductive-to frequency (10 keeps L predictable, "
+                                         "rule of thumb)."),
     limit: int = opt.limit_option(),
     fmt: str = opt.format_option(),
 ) -> None:
@@ -147,6 +153,8 @@ def find_cmd(
             kw[k] = v
     if in_stock:
         kw["in_stock"] = True
+    if srf_ratio != 1.0:
+        kw["srf_ratio"] = srf_ratio
     kw.setdefault("limit", limit)
     search = Search(**kw)
     search.validate()

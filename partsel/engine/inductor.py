@@ -47,8 +47,9 @@ def admittance(f: ArrayLike, value: ArrayLike, dcr: ArrayLike, cp: ArrayLike,
 
 def impedance(f: ArrayLike, value: ArrayLike, dcr: ArrayLike, cp: ArrayLike,
               rp: ArrayLike = np.inf) -> NDArray[np.complex128]:
-    """Complex impedance Z(f) [ohm]."""
-    return 1.0 / admittance(f, value, dcr, cp, rp)
+    """Complex impedance Z(f) [ohm] (inf where a lossless part sits exactly at its SRF)."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return 1.0 / admittance(f, value, dcr, cp, rp)
 
 
 def srf(value: ArrayLike, cp: ArrayLike) -> NDArray[np.float64]:
@@ -93,7 +94,8 @@ def q_factor(f: ArrayLike, value: ArrayLike, dcr: ArrayLike, cp: ArrayLike,
              rp: ArrayLike = np.inf) -> NDArray[np.float64]:
     """Q = Im Z / Re Z of the whole model [1]; equals omega L / R_s when C_p = 0, R_p absent."""
     z = impedance(f, value, dcr, cp, rp)
-    return z.imag / z.real
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return z.imag / z.real
 
 
 def peak_frequency(value: ArrayLike, dcr: ArrayLike, cp: ArrayLike,

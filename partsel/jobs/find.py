@@ -44,6 +44,7 @@ class Search:
     current: float | None = None        # inductors: DC current [A]
     ripple: float | None = None         # inductors: peak-to-peak ripple current [A]
     min_q: tuple[float, float] | None = None  # inductors: (Q, at frequency [Hz])
+    srf_ratio: float = 1.0              # inductors: catalog SRF at least this x inductive_to
     limit: int = 20                     # 0 = all
 
     def validate(self) -> None:
@@ -67,6 +68,10 @@ class Search:
                              "search 'inductor' instead")
         if self.kind == "inductor" and (self.bias is not None or self.mount_l is not None):
             raise QueryError("--bias and --mount-l apply to capacitors")
+        if not (np.isfinite(self.srf_ratio) and self.srf_ratio >= 1.0):
+            raise QueryError(f"--srf-ratio must be 1 or more, got {self.srf_ratio:g}")
+        if self.srf_ratio > 1.0 and self.inductive_to is None:
+            raise QueryError("--srf-ratio needs --inductive-to: it is a multiple of that frequency")
         if self.ripple is not None and self.current is None:
             raise QueryError("--ripple needs --current: the ripple rides on a DC current")
         if self.value_min and self.value_max and self.value_min > self.value_max:
@@ -111,9 +116,11 @@ def _where(search: Search) -> tuple[str, list[Any]]:
                 params.append(list(values))
     if search.in_stock:
         conds.append("stock > 0")
-    if search.current is not None:
-        conds.append("isat IS NOT NULL AND irms IS NOT NULL")
     return " AND ".join(conds), params
+
+
+def _count(n: int, word: str) -> str:
+    return f"{n} {word}{'' if n == 1 else 's'}"
 
 
 def _c_effective(a: dict[str, np.ndarray], bias: float,
@@ -194,13 +201,21 @@ def find(store: Store, search: Search) -> FindResult:
         if search.inductive_to is not None:
             known = np.isfinite(a["srf"])
             if (~known & ok).any():
-                notes.append(f"{int((~known & ok).sum())} inductors without an SRF were left "
-                             "out: their self-resonance cannot be checked")
+                notes.append(f"{_count(int((~known & ok).sum()), 'inductor')} without an SRF "
+                             "left out: their self-resonance cannot be checked")
             ok &= known & inductor.is_inductive_to(search.inductive_to, value, dcr, cp)
             metrics["srf_margin"] = metrics["zero_phase_hz"] / search.inductive_to
+            metrics["srf_ratio"] = a["srf"] / search.inductive_to
+            if search.srf_ratio > 1.0:
+                ok &= metrics["srf_ratio"] >= search.srf_ratio
         if search.current is not None:
             # peak of DC + triangular ripple against Isat; RMS of the same waveform,
             # sqrt(I^2 + I_pp^2/12) (derived), against Irms
+            unrated = ~(np.isfinite(a["isat"]) & np.isfinite(a["irms"]))
+            if (unrated & ok).any():
+                notes.append(f"{_count(int((unrated & ok).sum()), 'inductor')} without Isat or "
+                             "Irms left out: the current cannot be checked")
+            ok &= ~unrated
             ripple = search.ripple or 0.0
             peak = search.current + ripple / 2.0
             rms = np.sqrt(search.current**2 + ripple**2 / 12.0)
@@ -211,8 +226,8 @@ def find(store: Store, search: Search) -> FindResult:
             q_min, f_q = search.min_q
             lossless = ~(a["dcr_raw"] > 0) & ~np.isfinite(a["rp"])
             if (lossless & ok).any():
-                notes.append(f"{int((lossless & ok).sum())} inductors without a DCR (or Rp) were "
-                             "left out: their Q cannot be computed")
+                notes.append(f"{_count(int((lossless & ok).sum()), 'inductor')} without a DCR "
+                             "(or Rp) left out: their Q cannot be computed")
             with np.errstate(divide="ignore", invalid="ignore"):
                 q = inductor.q_factor(f_q, value, dcr, cp, a["rp"])
             ok &= ~lossless & (q >= q_min)
@@ -235,10 +250,23 @@ def find(store: Store, search: Search) -> FindResult:
             key, order = -ext.min_z, "highest band minimum |Z| first"
         else:
             key, order = ext.max_z, "lowest band maximum |Z| first"
-    elif search.kind == "inductor" and search.inductive_to is not None:
-        key, order = -metrics["srf_margin"], "largest zero-phase frequency / target first"
-    elif search.kind == "inductor" and search.current is not None:
-        key, order = -metrics["isat_margin"], "largest Isat margin first"
+    elif search.kind == "inductor" and (search.inductive_to or search.current or search.min_q):
+        # best margin first: the worst of the margins asked for, each normalised so that 1 is
+        # "just passes" (zero-phase frequency over srf_ratio x target, Isat and Irms over the
+        # need, Q over the minimum)
+        margins, names = [], []
+        if search.inductive_to is not None:
+            margins.append(metrics["srf_margin"] / search.srf_ratio)
+            names.append("zero-phase f / target")
+        if search.current is not None:
+            margins += [metrics["isat_margin"], metrics["irms_margin"]]
+            names += ["Isat", "Irms"]
+        if search.min_q is not None:
+            with np.errstate(divide="ignore", invalid="ignore"):
+                margins.append(metrics["q"] / search.min_q[0])
+            names.append("Q")
+        key = -np.minimum.reduce(margins)
+        order = "best worst-case margin first (" + ", ".join(names) + ")"
     ok &= np.isfinite(key)
     idx = np.flatnonzero(ok)
     matches = len(idx)
