@@ -173,3 +173,17 @@ def test_cli_find_outputs_and_errors(cli, make_store):
     r = cli("--store", store, "find", "capacitor", "--below", "0.5ohm", "--band", "1MHz..30MHz",
             "--format", "csv")
     assert r.exit_code == 0 and r.stdout.splitlines()[0].startswith("part_number,maker")
+
+
+def test_srf_ratio_floor(make_store):
+    # rule of thumb (shared domain notes section 3): SRF >= 10x the working frequency keeps L
+    # predictable; --srf-ratio keeps only parts whose catalog SRF is that far above the target
+    rows = [{"part_number": n, "maker": "Testco", "kind": "inductor", "value": "1uH",
+             "srf": srf, "dcr": "0.1ohm"} for n, srf in (("X2", "40MHz"), ("X12", "240MHz"))]
+    store = make_store(rows)
+    with open_store(store) as s:
+        assert [r["part_number"] for r in find(s, Search("inductor", inductive_to=20e6)).rows] \
+            == ["X12", "X2"]
+        got = find(s, Search("inductor", inductive_to=20e6, srf_ratio=10.0))
+    assert [r["part_number"] for r in got.rows] == ["X12"]
+    assert got.rows[0]["srf_ratio"] == pytest.approx(12.0)
