@@ -13,6 +13,8 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from scipy import integrate
 
 from partsel.errors import PartNotFound, QueryError
@@ -463,3 +465,31 @@ def test_cli_within_off_and_help(make_store, cli):
     h = cli("alternates", "--help")
     assert h.exit_code == 0 and "20*log10(|Z_cand|/|Z_orig|)" in h.stdout
     assert "Example" in h.stdout
+
+
+# ------------------------------------------------------------------------- DC-bias curves in SQL
+
+curves = st.lists(st.tuples(st.floats(0.01, 5.0), st.floats(0.05, 1.5)), min_size=1,
+                  max_size=8)
+
+
+@settings(max_examples=60, deadline=None)
+@given(points=curves, v0=st.floats(0.0, 2.0), voltage=st.floats(-60.0, 60.0))
+def test_curve_ratio_in_sql_equals_the_engine(points, v0, voltage):
+    """The store's interpolation of a stored curve equals the engine's (the reference)."""
+    import duckdb
+
+    from partsel.engine import ceramic
+    from partsel.jobs.alternates import curve_ratio_sql
+    bv = list(np.cumsum([v0] + [p[0] for p in points[1:]]))   # ascending voltages
+    br = [p[1] for p in points]
+    k_sql, ratio_sql = curve_ratio_sql()
+    con = duckdb.connect()
+    got = con.execute(f"SELECT {ratio_sql} FROM (SELECT bias_v, bias_ratio, {k_sql} AS bias_k "
+                      "FROM (SELECT CAST(? AS DOUBLE[]) AS bias_v, CAST(? AS DOUBLE[]) AS "
+                      "bias_ratio))", [voltage, voltage, bv, br]).fetchone()[0]
+    # NaN-padded as the engine expects (it reads a second column even for one point)
+    cv, cr = np.full((1, 9), np.nan), np.full((1, 9), np.nan)
+    cv[0, :len(bv)], cr[0, :len(br)] = bv, br
+    ref = ceramic.bias_ratio_from_curve(voltage, cv, cr)[0]
+    assert got == pytest.approx(float(ref), rel=1e-12, abs=1e-15)

@@ -46,7 +46,7 @@ trapezoid rule in ln f on a log grid of :data:`PER_DECADE` points per decade, re
 the |Z| extremum of both parts (the series resonance of a capacitor, the peak of an inductor;
 see :func:`band_grid`) so that a narrow resonance is neither stepped over nor under-weighted.
 The largest |d| (the ``curve`` rule) is taken on the same points. Ties in distance break by
-price (lowest first), then stock (highest first), then part number.
+price (lowest first), then stock (highest first), then the order the parts were stored.
 
 Default band (our choice): capacitors SRF/30 .. SRF*10 of the original at the working bias,
 which holds the capacitive region (C sets |Z|), the resonance (ESR) and the inductive region
@@ -298,29 +298,39 @@ def _all_dielectric_codes() -> list[str]:
     return codes
 
 
+def curve_ratio_sql(voltage_param: str = "?") -> tuple[str, str]:
+    """SQL for C(V)/C0 from a part's stored curve (NULL without one), as two expressions.
+
+    The first, ``bias_k``, picks the curve segment (1-based index of its lower point) and
+    must be computed in a subquery below the second, the ratio itself. Both take the voltage
+    as a bound parameter. The same interpolation as
+    :func:`partsel.engine.ceramic.bias_ratio_from_curve` (linear between points, the end
+    ratios held beyond them), done in the store so that the curves need not be fetched.
+    """
+    v = f"abs({voltage_param})"
+    k = (f"least(greatest(len(list_filter(bias_v, lambda x: x <= {v})), 1), "
+         f"len(bias_v) - 1)")
+    ratio = (f"CASE WHEN len(bias_v) = 1 THEN bias_ratio[1] WHEN len(bias_v) >= 2 THEN "
+             f"bias_ratio[bias_k] + least(greatest(({v} - bias_v[bias_k]) / "
+             f"(bias_v[bias_k + 1] - bias_v[bias_k]), 0), 1) * "
+             f"(bias_ratio[bias_k + 1] - bias_ratio[bias_k]) END")
+    return k, ratio
+
+
 def bias_ratio(voltage: float, technology: NDArray, dielectric: NDArray, case: NDArray,
-               rated_voltage: NDArray, value: NDArray, bias_v: NDArray,
-               bias_ratio_curve: NDArray) -> tuple[NDArray[np.float64], NDArray[np.int8]]:
+               rated_voltage: NDArray, value: NDArray,
+               curve_ratio: NDArray) -> tuple[NDArray[np.float64], NDArray[np.int8]]:
     """C(V)/C0 per part at a DC voltage, vectorised, and its source (0 none, 1 curve, 2 estimate).
 
-    Same policy as :func:`partsel.jobs.models.bias_ratios`: the part's measured curve wins;
-    MLCCs without one get the rule-of-thumb estimate of :mod:`partsel.engine.ceramic`; other
-    parts keep their value.
+    Same policy as :func:`partsel.jobs.models.bias_ratios`: the part's measured curve wins
+    (``curve_ratio``, NaN for parts without one); MLCCs without one get the rule-of-thumb
+    estimate of :func:`partsel.engine.ceramic.estimate_bias_ratio`; other parts keep their
+    value.
     """
-    n = len(value)
-    ratio = np.ones(n)
-    source = np.zeros(n, dtype=np.int8)
-    has_curve = np.array([len(v) > 0 for v in bias_v], dtype=bool)
-    if has_curve.any():
-        k = max(len(v) for v in bias_v[has_curve])
-        cv = np.full((int(has_curve.sum()), k), np.nan)
-        cr = np.full_like(cv, np.nan)
-        for i, (v, r) in enumerate(zip(bias_v[has_curve], bias_ratio_curve[has_curve],
-                                       strict=True)):
-            cv[i, :len(v)] = v
-            cr[i, :len(r)] = r
-        ratio[has_curve] = ceramic.bias_ratio_from_curve(voltage, cv, cr)
-        source[has_curve] = 1
+    curve_ratio = np.asarray(curve_ratio, dtype=float)
+    has_curve = np.isfinite(curve_ratio)
+    ratio = np.where(has_curve, curve_ratio, 1.0)
+    source = has_curve.astype(np.int8)
     est = (technology == "mlcc") & ~has_curve
     if est.any():
         r = ceramic.estimate_bias_ratio(voltage, rated_voltage[est].astype(float), value[est],
@@ -329,6 +339,18 @@ def bias_ratio(voltage: float, technology: NDArray, dielectric: NDArray, case: N
         ratio[idx] = r
         source[idx[r < 1.0]] = 2
     return ratio, source
+
+
+def _own_curve_ratio(row: dict[str, Any], voltage: float) -> float:
+    """C(V)/C0 from the original's own curve by the engine (NaN without one)."""
+    bv, br = row.get("bias_v"), row.get("bias_ratio")
+    if bv is None or len(bv) == 0:
+        return float("nan")
+    # padded to two columns: the engine indexes a second point even for a one-point curve
+    cv = np.full((1, max(2, len(bv))), np.nan)
+    cr = np.full_like(cv, np.nan)
+    cv[0, :len(bv)], cr[0, :len(br)] = bv, br
+    return float(ceramic.bias_ratio_from_curve(voltage, cv, cr)[0])
 
 
 BIAS_SOURCES = ("none", "measured curve", "estimated")
@@ -653,6 +675,17 @@ def alternates(store: Store, part_number: str, maker: str | None = None,
     return alternates_for(store, _find(store, part_number, maker), criteria or Criteria())
 
 
+def _rows_by_id(store: Store, ids: list[int]) -> dict[int, dict[str, Any]]:
+    """The catalog columns of the given parts, as plain values (unknown = None), by id."""
+    if not ids:
+        return {}
+    a = store.arrays(f"SELECT {', '.join(_select(c) for c in _FETCH if c not in _LISTS)} FROM "
+                     f"(SELECT *, {_ELECTROLYTE_SQL} AS electrolyte FROM parts WHERE "
+                     f"list_contains(?, id))", [ids])
+    return {int(a["id"][i]): {k: _cell(k, v[i]) for k, v in a.items()}
+            for i in range(len(a["id"]))}
+
+
 def _find(store: Store, part_number: str, maker: str | None) -> dict[str, Any]:
     """The original's row: an exact match read without pandas (it keeps the command fast);
     anything else (case-insensitive match, several makers, not found) goes through
@@ -688,8 +721,8 @@ def alternates_for(store: Store, original: dict[str, Any],
 
     oc = _column_arrays(o)
     o_ratio, o_src = (bias_ratio(bias, oc["technology"], oc["dielectric"], oc["case"],
-                                 oc["rated_voltage"], oc["value"], oc["bias_v"],
-                                 oc["bias_ratio"]) if bias is not None
+                                 oc["rated_voltage"], oc["value"],
+                                 np.array([_own_curve_ratio(o, bias)])) if bias is not None
                       else (np.ones(1), np.zeros(1, dtype=np.int8)))
     o_eff = float(o["value"]) * float(o_ratio[0])
     window = criteria.value_within
@@ -715,19 +748,28 @@ def alternates_for(store: Store, original: dict[str, Any],
     lo, hi = o_eff * (1 - window), o_eff * (1 + window)
     if bias is not None:
         lo, hi = lo / _RATIO_HIGH, hi / _RATIO_LOW
-    rule_cols = ", ".join(f"coalesce({r.expr}, false) AS r_{r.name}" for r in rules)
+    rule_cols = "".join(f", coalesce({r.expr}, false) AS r_{r.name}" for r in rules)
     if criteria.explain:
         outer = " + ".join(f"CAST(NOT r_{r.name} AS INTEGER)" for r in rules) + " <= 1"
     else:
         outer = " AND ".join(f"r_{r.name}" for r in rules) or "TRUE"
-    # the curves are costly to fetch and needed only for the DC-bias layer
-    fetch = [c for c in _FETCH if bias is not None or c not in _LISTS]
-    sql = (f"SELECT {', '.join(_select(c) for c in fetch)}"
-           f"{''.join(f', r_{r.name}' for r in rules)} FROM (SELECT *, {_ELECTROLYTE_SQL} AS "
-           f"electrolyte{', ' + rule_cols if rule_cols else ''} FROM parts WHERE "
-           f"{' AND '.join(where)}) WHERE {outer} ORDER BY id")
-    params = [p for r in rules for p in r.params] + [kind, int(o["id"]), lo * (1 - _EPS),
-                                                      hi * (1 + _EPS)]
+    # Only what ranking and the function rules need is fetched for every survivor; the shown
+    # rows are fetched in full afterwards (text columns cost more than the whole search).
+    fetch = ["id", "value", "esr", "esl", "tan_delta", "dcr", "srf", "rp", "price", "stock",
+             "rated_voltage"]
+    if bias is not None:
+        fetch += ["technology", "dielectric", "case"]
+    # C(V)/C0 from the stored curves is interpolated by the store: fetching the curves of
+    # thousands of candidates would cost more than the whole search.
+    k_sql, ratio_sql = curve_ratio_sql() if bias is not None else ("NULL", "NULL")
+    sql = (f"SELECT {', '.join(_select(c) for c in fetch)}, curve_ratio"
+           f"{''.join(f', r_{r.name}' for r in rules)} FROM ("
+           f"SELECT *, {ratio_sql} AS curve_ratio{rule_cols} FROM ("
+           f"SELECT *, {_ELECTROLYTE_SQL} AS electrolyte, {k_sql} AS bias_k FROM parts "
+           f"WHERE {' AND '.join(where)})) WHERE {outer} ORDER BY id")
+    bias_params = [bias] if bias is not None else []
+    params = [*bias_params, *(p for r in rules for p in r.params), *bias_params, kind,
+              int(o["id"]), lo * (1 - _EPS), hi * (1 + _EPS)]
     a = store.arrays(sql, params)
     n = len(a["id"])
 
@@ -737,11 +779,11 @@ def alternates_for(store: Store, original: dict[str, Any],
         fails += ~ok
     fit = int(np.count_nonzero(fails == 0))
 
-    # function rules, all candidates at once
+    # function rules, all candidates at once; the costly curve only where it can matter
     value = a["value"].astype(float)
     if bias is not None:
         ratio, src = bias_ratio(bias, a["technology"], a["dielectric"], a["case"],
-                                a["rated_voltage"], value, a["bias_v"], a["bias_ratio"])
+                                a["rated_voltage"], value, a["curve_ratio"])
         effects.append(
             f"DC bias {_q(bias, 'V')}: original {BIAS_SOURCES[int(o_src[0])]}; candidates: "
             f"measured curve for {int(np.count_nonzero(src == 1))}, rule-of-thumb estimate "
@@ -750,16 +792,8 @@ def alternates_for(store: Store, original: dict[str, Any],
         ratio, src = np.ones(n), np.zeros(n, dtype=np.int8)
     v_eff = value * ratio
     dev = v_eff / o_eff - 1.0
-    value_ok = np.abs(dev) <= window + _EPS
-
+    func_ok: dict[str, NDArray[np.bool_]] = {"value": np.abs(dev) <= window + _EPS}
     mc = _models(a, v_eff, is_cap)
-    rms, worst, f_worst = _distances(mo, mc, band)
-    effects.append(f"curve distance: RMS of 20 log10(|Z_cand|/|Z_orig|) over the band, "
-                   f"trapezoid rule in ln f on {PER_DECADE} points per decade refined around "
-                   "each part's |Z| extremum")
-    func_ok: dict[str, NDArray[np.bool_]] = {"value": value_ok}
-    if criteria.within_db is not None:
-        func_ok["curve"] = worst <= criteria.within_db + _EPS
     esr_ratio = None
     f0 = float(mo.srf()[0])
     if criteria.esr_window is not None:
@@ -772,15 +806,26 @@ def alternates_for(store: Store, original: dict[str, Any],
         func_ok["esr"] = (esr_ratio >= e_lo * (1 - _EPS)) & (esr_ratio <= e_hi * (1 + _EPS))
     for ok in func_ok.values():
         fails += ~ok
+    rms, worst, f_worst = np.full(n, np.inf), np.full(n, np.inf), np.full(n, np.nan)
+    need = np.flatnonzero(fails <= (1 if criteria.explain else 0))
+    sub = Models(*(getattr(mc, k)[need] for k in Models.__dataclass_fields__))
+    rms[need], worst[need], f_worst[need] = _distances(mo, sub, band)
+    effects.append(f"curve distance: RMS of 20 log10(|Z_cand|/|Z_orig|) over the band, "
+                   f"trapezoid rule in ln f on {PER_DECADE} points per decade refined around "
+                   "each part's |Z| extremum")
+    if criteria.within_db is not None:
+        func_ok["curve"] = worst <= criteria.within_db + _EPS
+        fails += ~func_ok["curve"]
+    value_ok = func_ok["value"]
 
     names = [r.name for r in rules] + list(func_ok)
     if criteria.within_db is None:
         skipped.append("curve: turned off (the distance still ranks)")
 
     def describe(i: int) -> Candidate:
-        c = {k: _cell(k, a[k][i]) for k in fetch if k not in _LISTS}
-        results = [RuleResult(r.name, bool(sql_ok[r.name][i]), r.detail(c, bool(sql_ok[r.name][i])))
-                   for r in rules]
+        c = full[int(a["id"][i])]
+        results = [RuleResult(r.name, bool(ok[i]), r.detail(c, bool(ok[i])))
+                   for r, ok in ((r, sql_ok[r.name]) for r in rules)]
         unit = "F" if is_cap else "H"
         at_bias = f" at {_q(bias, 'V')} ({BIAS_SOURCES[int(src[i])]})" if bias is not None else ""
         o_at = f" ({BIAS_SOURCES[int(o_src[0])]})" if bias is not None else ""
@@ -788,16 +833,16 @@ def alternates_for(store: Store, original: dict[str, Any],
             "value", bool(value_ok[i]),
             f"{_q(float(v_eff[i]), unit)}{at_bias} vs original {_q(o_eff, unit)}{o_at}: "
             f"{100 * dev[i]:+.1f} %, window ±{_pct(window)} ({window_why})"))
-        if "curve" in func_ok:
-            results.append(RuleResult(
-                "curve", bool(func_ok["curve"][i]),
-                f"largest |Z| difference {worst[i]:.2f} dB at {_q(float(f_worst[i]), 'Hz')} "
-                f"{'<=' if func_ok['curve'][i] else '>'} {criteria.within_db:g} dB"))
         if esr_ratio is not None:
             results.append(RuleResult(
                 "esr", bool(func_ok["esr"][i]),
                 f"ESR at {_q(f0, 'Hz')} is {esr_ratio[i]:.3g} x the original's, window "
                 f"{criteria.esr_window[0]:g}..{criteria.esr_window[1]:g}"))
+        if "curve" in func_ok:
+            results.append(RuleResult(
+                "curve", bool(func_ok["curve"][i]),
+                f"largest |Z| difference {worst[i]:.2f} dB at {_q(float(f_worst[i]), 'Hz')} "
+                f"{'<=' if func_ok['curve'][i] else '>'} {criteria.within_db:g} dB"))
         return Candidate(c, float(rms[i]), float(worst[i]), float(f_worst[i]), float(v_eff[i]),
                          BIAS_SOURCES[int(src[i])],
                          None if esr_ratio is None else float(esr_ratio[i]), results)
@@ -807,12 +852,12 @@ def alternates_for(store: Store, original: dict[str, Any],
         price = np.where(np.isfinite(a["price"][idx].astype(float)),
                          a["price"][idx].astype(float), np.inf)
         stock = np.nan_to_num(a["stock"][idx].astype(float), nan=-1.0)
-        keys = sorted(zip(rms[idx], price, -stock, a["part_number"][idx], idx, strict=True))
-        return [int(k[-1]) for k in keys]
+        return [int(i) for i in idx[np.lexsort((a["id"][idx], -stock, price, rms[idx]))]]
 
     passing = ranked(fails == 0)
     near = ranked(fails == 1) if criteria.explain else []
     limit = criteria.limit or None
+    full = _rows_by_id(store, [int(a["id"][i]) for i in passing[:limit] + near[:limit]])
     cands = [describe(i) for i in passing[:limit]]
     misses = [describe(i) for i in near[:limit]]
 
