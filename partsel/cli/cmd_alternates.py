@@ -271,11 +271,12 @@ def _bom_text(report: Any, fmt: str) -> str:
         elif ln.status != "found":
             action = ln.note or ln.status
         else:
-            action = "; ".join(ln.reasons)
+            action = "; ".join(ln.reasons) or "none"
         d["action"] = action
         d["alternates"] = "; ".join(
-            f"{a['part_number']} ({a['maker']}, {a['distance_db']:.2f} dB)"
-            for a in ln.alternates) or (ln.note if ln.status == "found" else None)
+            f"{a['part_number']} ({a['distance_db']:.2f} dB)" if fmt == "table" else
+            f"{a['part_number']} ({a['maker']})" for a in ln.alternates) or (
+            ln.note if ln.status == "found" else None)
         rows.append(d)
     if fmt == "csv":
         keys = ["line", "part_number", "maker", "quantity", "working_voltage_v", "status",
