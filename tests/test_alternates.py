@@ -138,6 +138,17 @@ def test_working_voltage_uses_the_derated_rating(make_store):
     assert "x 0.5" in t16.failed[0].detail and "8 V" in t16.failed[0].detail
 
 
+def test_original_below_its_working_voltage_is_noted(make_store):
+    tant = {"technology": "tantalum", "dielectric": "", "case": "3528-21", "value": "10uF",
+            "esr": "1", "esl": "2nH", "height": "2.1mm"}
+    rows = [cap("ORIG", rated_voltage="16V", **tant), cap("T35", rated_voltage="35V", **tant)]
+    res = run(make_store(rows), working_voltage=10.0)
+    # domain notes s. 7: a 16 V MnO2 tantalum is usable to 8 V, below the working 10 V
+    assert res.notes == ["the original itself is rated 16 V (MnO2 tantalum derated to 50 %): "
+                         "below the working voltage 10 V"]
+    assert names(res.candidates) == {"T35"}
+
+
 # ------------------------------------------------------------------------- fit: temperature, AEC
 
 # AEC-Q200 Rev E grades -> operating range [degC]
@@ -260,10 +271,15 @@ def test_class_ii_candidate_out_of_tolerance_at_bias_is_refused(make_store):
     assert res.original_value_eff == pytest.approx(0.8e-6, rel=1e-12)
 
 
-def test_working_voltage_is_the_default_bias(make_store):
+def test_working_voltage_is_the_default_bias(make_store, cli):
     rows = [cap("ORIG", bias_curve="0V:1, 5V:0.8"), cap("DROPS", bias_curve="0V:1, 5V:0.6")]
-    res = run(make_store(rows), working_voltage=5.0, within_db=None, explain=True)
+    store = make_store(rows)
+    res = run(store, working_voltage=5.0, within_db=None, explain=True)
     assert failed(res) == {"DROPS": ["value"]}
+    assert (res.bias, res.original_bias_source) == (5.0, "measured curve")
+    r = cli("--store", store, "alternates", "ORIG", "--working-voltage", "5V", "--explain")
+    # derived: 1 uF x 0.8 at 5 V
+    assert "1 uF (800 nF at 5 V, measured curve)" in r.stdout.splitlines()[0]
 
 
 def test_value_window_without_bias(make_store):

@@ -66,7 +66,8 @@ def alternates_cmd(
     part: str = typer.Argument(..., metavar="PART", help="Part number of the original."),
     maker: str = typer.Option(None, "--maker", help="Maker, when several share the number."),
     case: Annotated[list[str] | None, typer.Option(
-        "--case", help="Allowed case codes (default: the original's), e.g. 0402,0603.")] = None,
+        "--case", metavar="CODES",
+        help="Allowed case codes (default: the original's), e.g. 0402,0603.")] = None,
     band: str = typer.Option(None, "--band", metavar="F1..F2",
                              help="Band of the curve rules and distance (default: capacitors "
                                   "SRF/30..SRF*10, inductors SRF/100..SRF/3 of the original)."),
@@ -92,8 +93,9 @@ def alternates_cmd(
                                   help="Inductors: SRF at least F instead of at least the "
                                        "original's."),
     lifecycle: Annotated[list[str] | None, typer.Option(
-        "--lifecycle", help="Accepted lifecycle states of a candidate (default active), e.g. "
-                            "active,nrnd.")] = None,
+        "--lifecycle", metavar="STATES",
+        help="Accepted lifecycle states of a candidate (default active), e.g. active,nrnd.")
+    ] = None,
     in_stock: bool = typer.Option(False, "--in-stock", help="Only candidates with stock > 0."),
     explain: bool = typer.Option(False, "--explain",
                                  help="Also list near misses and the one rule each failed."),
@@ -153,7 +155,8 @@ def _json(res: Any, rows: list[dict[str, Any]], misses: list[dict[str, Any]] | N
     o = res.original
     payload = {
         "original": {name: o.get(key) for key, name in _JSON_FIELDS.items()},
-        "original_value_at_bias": res.original_value_eff,
+        "original_value_at_bias": res.original_value_eff, "bias_v": res.bias,
+        "original_bias_source": res.original_bias_source,
         "band_hz": list(res.band), "order": res.order,
         "rules_checked": res.rules, "skipped": res.skipped, "effects": res.effects,
         "notes": res.notes, "cautions": res.cautions,
@@ -167,19 +170,24 @@ def _table(res: Any, kind: str) -> str:
     from partsel.render import cell, table
     figures = _FIGURES[kind]
     cols = [Col("rank", "#"), Col("part_number", "part"), Col("maker", "maker"), *figures]
-    if kind == "capacitor" and any(c.bias_source != "none" for c in res.candidates):
-        cols.insert(4, Col("value_eff", "C at bias", "F"))
+    if kind == "capacitor" and any(c.bias_source != "none"
+                                   for c in res.candidates + res.near_misses):
+        cols[4:4] = [Col("value_eff", "C at bias", "F"), Col("bias_source", "from")]
     cols += [*_TAIL, Col("passes", "passes")]
     unit = "F" if kind == "capacitor" else "H"
     o = res.original
+    at_bias = ""
+    if res.bias is not None:
+        at_bias = (f" ({cell(res.original_value_eff, Col('v', 'v', unit))} at "
+                   f"{cell(res.bias, Col('b', 'b', 'V'))}, {res.original_bias_source})")
     head = (f"Original: {o['part_number']} ({o['maker']}), "
-            f"{cell(o.get('value'), Col('v', 'v', unit))} {o.get('case') or ''} "
+            f"{cell(o.get('value'), Col('v', 'v', unit))}{at_bias} {o.get('case') or ''} "
             f"{o.get('dielectric') or o.get('technology') or ''}, "
             f"{o.get('lifecycle') or 'active'}")
 
     def flat(i: int, c: Any, extra: dict[str, Any]) -> dict[str, Any]:
-        return {**c.part, "rank": i, "value_eff": c.value_eff, "distance_db": c.distance_db,
-                "max_diff_db": c.max_diff_db, **extra}
+        return {**c.part, "rank": i, "value_eff": c.value_eff, "bias_source": c.bias_source,
+                "distance_db": c.distance_db, "max_diff_db": c.max_diff_db, **extra}
     rows = [flat(i, c, {"passes": _passes(c)}) for i, c in enumerate(res.candidates, 1)]
     out = [head, "", table(rows, cols) if rows else "(no candidate passes every rule)"]
     if res.near_misses:

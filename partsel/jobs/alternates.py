@@ -236,6 +236,8 @@ class AlternatesResult:
     cautions: list[str] = field(default_factory=list)
     order: str = ("curve distance (RMS dB difference of |Z| over the band), then price, "
                   "then stock")
+    bias: float | None = None            # DC bias applied to capacitors [V]
+    original_bias_source: str = "none"   # "none", "measured curve" or "estimated"
 
 
 # --- helpers ------------------------------------------------------------------------------------
@@ -379,9 +381,9 @@ def band_grid(band: tuple[float, float], f_star: NDArray[np.float64]) -> NDArray
 
     :data:`PER_DECADE` log-spaced points per decade over the band, plus :data:`REFINE_POINTS`
     log-spaced points over f* / (1 + s) .. f* x (1 + s), s = :data:`REFINE_SPAN`, centred on
-    each frequency of ``f_star``
-    (P, k) (the |Z| extrema of the two parts), clipped to the band, so that a resonance
-    narrower than the base spacing is resolved (spacing 0.1 %: Q up to a few hundred).
+    each frequency of ``f_star`` (P, k) (the |Z| extrema of the two parts) and clipped to the
+    band, so that a resonance narrower than the base spacing is resolved (steps of 0.1 %:
+    series Q up to a few hundred).
     """
     base = log_grid(band[0], band[1], PER_DECADE)
     span = np.log1p(REFINE_SPAN)
@@ -436,8 +438,6 @@ def _models(cols: dict[str, NDArray], value: NDArray, is_cap: bool) -> Models:
 
 def _cell(name: str, v: Any) -> Any:
     """A fetched cell as a plain Python value; unknown is None."""
-    if name in _LISTS:
-        return None
     if hasattr(v, "item"):
         v = v.item()
     if (isinstance(v, float) and np.isnan(v)) or (name in _TEXT and v == ""):
@@ -453,10 +453,7 @@ def _column_arrays(row: dict[str, Any]) -> dict[str, NDArray]:
         v = values.get(name)
         if name in _TEXT:
             out[name] = np.array(["" if v is None else str(v)], dtype=object)
-        elif name in _LISTS:
-            out[name] = np.empty(1, dtype=object)
-            out[name][0] = np.asarray([] if v is None else v, dtype=float)
-        else:
+        elif name not in _LISTS:
             out[name] = np.array([np.nan if v is None else float(v)])
     return out
 
@@ -744,33 +741,10 @@ def alternates_for(store: Store, original: dict[str, Any],
                    "inductor model (L + DCR) || C_p || R_p, C_p from the SRF")
 
     rules, skipped = _form_fit_rules(o, criteria)
-    where = ["kind = ?", "id <> ?", "value BETWEEN ? AND ?"]
     lo, hi = o_eff * (1 - window), o_eff * (1 + window)
     if bias is not None:
         lo, hi = lo / _RATIO_HIGH, hi / _RATIO_LOW
-    rule_cols = "".join(f", coalesce({r.expr}, false) AS r_{r.name}" for r in rules)
-    if criteria.explain:
-        outer = " + ".join(f"CAST(NOT r_{r.name} AS INTEGER)" for r in rules) + " <= 1"
-    else:
-        outer = " AND ".join(f"r_{r.name}" for r in rules) or "TRUE"
-    # Only what ranking and the function rules need is fetched for every survivor; the shown
-    # rows are fetched in full afterwards (text columns cost more than the whole search).
-    fetch = ["id", "value", "esr", "esl", "tan_delta", "dcr", "srf", "rp", "price", "stock",
-             "rated_voltage"]
-    if bias is not None:
-        fetch += ["technology", "dielectric", "case"]
-    # C(V)/C0 from the stored curves is interpolated by the store: fetching the curves of
-    # thousands of candidates would cost more than the whole search.
-    k_sql, ratio_sql = curve_ratio_sql() if bias is not None else ("NULL", "NULL")
-    sql = (f"SELECT {', '.join(_select(c) for c in fetch)}, curve_ratio"
-           f"{''.join(f', r_{r.name}' for r in rules)} FROM ("
-           f"SELECT *, {ratio_sql} AS curve_ratio{rule_cols} FROM ("
-           f"SELECT *, {_ELECTROLYTE_SQL} AS electrolyte, {k_sql} AS bias_k FROM parts "
-           f"WHERE {' AND '.join(where)})) WHERE {outer} ORDER BY id")
-    bias_params = [bias] if bias is not None else []
-    params = [*bias_params, *(p for r in rules for p in r.params), *bias_params, kind,
-              int(o["id"]), lo * (1 - _EPS), hi * (1 + _EPS)]
-    a = store.arrays(sql, params)
+    a = _survivors(store, o, rules, (lo, hi), bias, criteria.explain)
     n = len(a["id"])
 
     fails = np.zeros(n, dtype=int)
@@ -872,7 +846,38 @@ def alternates_for(store: Store, original: dict[str, Any],
     if any(safety.needs_caution(p.get("safety_class"), p.get("rated_voltage")) for p in shown):
         cautions.append(safety.caution_text())
     return AlternatesResult(o, o_eff, band, cands, misses, len(passing), fit, len(near), names,
-                            skipped, effects, notes, cautions)
+                            skipped, effects, notes, cautions, bias=bias,
+                            original_bias_source=BIAS_SOURCES[int(o_src[0])])
+
+
+def _survivors(store: Store, o: dict[str, Any], rules: list[_SqlRule],
+               value_range: tuple[float, float], bias: float | None,
+               explain: bool) -> dict[str, NDArray]:
+    """One query: parts of the original's kind in the value range that pass every form and fit
+    rule (with ``explain``: fail at most one), with a boolean column r_<rule> per rule."""
+    rule_cols = "".join(f", coalesce({r.expr}, false) AS r_{r.name}" for r in rules)
+    if explain:
+        outer = " + ".join(f"CAST(NOT r_{r.name} AS INTEGER)" for r in rules) + " <= 1"
+    else:
+        outer = " AND ".join(f"r_{r.name}" for r in rules) or "TRUE"
+    # Only what ranking and the function rules need is fetched for every survivor; the shown
+    # rows are fetched in full afterwards (text columns cost more than the whole search).
+    fetch = ["id", "value", "esr", "esl", "tan_delta", "dcr", "srf", "rp", "price", "stock",
+             "rated_voltage"]
+    if bias is not None:
+        fetch += ["technology", "dielectric", "case"]
+    # C(V)/C0 from the stored curves is interpolated by the store: fetching the curves of
+    # thousands of candidates would cost more than the whole search.
+    k_sql, ratio_sql = curve_ratio_sql() if bias is not None else ("NULL", "NULL")
+    sql = (f"SELECT {', '.join(_select(c) for c in fetch)}, curve_ratio"
+           f"{''.join(f', r_{r.name}' for r in rules)} FROM ("
+           f"SELECT *, {ratio_sql} AS curve_ratio{rule_cols} FROM ("
+           f"SELECT *, {_ELECTROLYTE_SQL} AS electrolyte, {k_sql} AS bias_k FROM parts "
+           f"WHERE kind = ? AND id <> ? AND value BETWEEN ? AND ?)) WHERE {outer} ORDER BY id")
+    bias_params = [bias] if bias is not None else []
+    params = [*bias_params, *(p for r in rules for p in r.params), *bias_params, o["kind"],
+              int(o["id"]), value_range[0] * (1 - _EPS), value_range[1] * (1 + _EPS)]
+    return store.arrays(sql, params)
 
 
 def _default_band(mo: Models, is_cap: bool) -> tuple[float, float]:
