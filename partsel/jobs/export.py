@@ -1,0 +1,214 @@
+"""Models out: SPICE subcircuits, Touchstone files of the modeled curve, the catalog as Parquet.
+
+Every file says where its numbers came from: the SPICE header lists each value with its
+provenance (datasheet, measured fit, estimated by rule), the Touchstone comments carry the model,
+and the Parquet file holds the ``<param>_source`` columns, so that ``partsel import`` of it gives
+back the same parts.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import tempfile
+from collections.abc import Sequence
+from datetime import datetime
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from partsel import __version__
+from partsel.catalog import COLUMNS, MODEL_PARAMETERS, NAMES, PROVENANCES
+from partsel.engine import inductor
+from partsel.errors import ModelError, QueryError, StoreError
+from partsel.io.spice import capacitor_subckt, inductor_subckt, spice_name
+from partsel.io.touchstone import FIXTURES, write_touchstone
+from partsel.jobs.models import Models
+from partsel.jobs.show import log_grid
+from partsel.store.db import Store
+from partsel.units import format_quantity
+
+
+def write_atomic(path: Path, data: str | bytes) -> Path:
+    """Write a file whole or not at all (a temporary file in the same folder, then a rename)."""
+    path = path.expanduser()
+    if path.is_dir():
+        raise StoreError(f"{path} is a folder: give a file name")
+    folder = path.parent if str(path.parent) else Path(".")
+    if not folder.is_dir():
+        raise StoreError(f"no folder {folder} for {path.name}: create it first")
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", dir=folder)
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data.encode("utf-8") if isinstance(data, str) else data)
+        os.replace(tmp, path)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
+    return path
+
+
+# -- SPICE -------------------------------------------------------------------------------------
+
+def _fit_note(store: Store, part: dict[str, Any]) -> str | None:
+    row = store.con.execute(
+        "SELECT reason FROM model_history WHERE maker = ? AND part_number = ? AND reason LIKE "
+        "'replaced by a measured fit%' ORDER BY saved_at DESC, rowid DESC LIMIT 1",
+        [part["maker"], part["part_number"]]).fetchone()
+    return row[0].removeprefix("replaced by a ") if row else None
+
+
+def _provenance(part: dict[str, Any]) -> dict[str, str]:
+    return {p: part[f"{p}_source"] for p in MODEL_PARAMETERS
+            if part.get(p) is not None and part.get(f"{p}_source") in PROVENANCES}
+
+
+def spice_subckt(store: Store, part: dict[str, Any], f_ref: float | None = None) -> str:
+    """The SPICE subcircuit of one stored part, with a header of where each value came from."""
+    pn = part["part_number"]
+    if part.get("value") is None:
+        raise ModelError(f"{pn} has no value in the store; a SPICE model needs it")
+    head = [f"* maker: {' '.join(str(part['maker']).split())}"]
+    fit = _fit_note(store, part)
+    if fit and any(v == "measured fit" for v in _provenance(part).values()):
+        head.append(f"* {fit}")
+    if part["kind"] == "capacitor":
+        for p in ("esr", "esl"):
+            if part.get(p) is None:
+                head.append(f"* {p.upper()} is not in the store: left out (0)")
+        text = capacitor_subckt(pn, part["value"], part.get("esr") or 0.0,
+                                part.get("esl") or 0.0, part.get("tan_delta") or 0.0,
+                                f_ref=f_ref, provenance=_provenance(part))
+    else:
+        if part.get("srf") is None:
+            head.append("* SRF is not in the store: no winding capacitance (Cp left out)")
+        cp = float(inductor.winding_capacitance(part["value"], part.get("srf") or np.nan))
+        text = inductor_subckt(pn, part["value"], part.get("dcr") or 0.0, cp, part.get("rp"),
+                               provenance=_provenance(part))
+    first, rest = text.split("\n", 1)
+    return "\n".join([first, *head, rest])
+
+
+def spice_library(store: Store, part_numbers: Sequence[str], *, maker: str | None = None,
+                  f_ref: float | None = None) -> str:
+    """SPICE subcircuits of several parts in one text, each named after its part number."""
+    rows: list[dict[str, Any]] = []
+    for pn in part_numbers:
+        row = store.find_part(pn, maker)
+        if all(r["id"] != row["id"] for r in rows):
+            rows.append(row)
+    names: dict[str, str] = {}
+    for r in rows:
+        key = spice_name(r["part_number"]).lower()
+        if key in names:
+            raise QueryError(f"{names[key]} and {r['part_number']} give the same SPICE name "
+                             f"{spice_name(r['part_number'])} (SPICE ignores case); export them "
+                             "to separate files")
+        names[key] = r["part_number"]
+    head = [f"* partsel {__version__}: SPICE models of {len(rows)} part"
+            f"{'s' if len(rows) != 1 else ''}, written {datetime.now():%Y-%m-%d %H:%M}",
+            "* Each .SUBCKT connects pins 1 and 2; values in SI units (F, H, ohm). The value",
+            "* lines say where each number came from: datasheet, measured fit or estimated",
+            "* by rule.", ""]
+    return "\n".join(head) + "\n".join(spice_subckt(store, r, f_ref) for r in rows)
+
+
+# -- Touchstone --------------------------------------------------------------------------------
+
+def touchstone_text(store: Store, part_number: str, band: tuple[float, float], *,
+                    per_decade: int = 50, fixture: str = "reflection", z0: float = 50.0,
+                    fmt: str = "RI", maker: str | None = None,
+                    out_name: str | None = None) -> str:
+    """A Touchstone 1.1 file of the part's modeled impedance over ``band`` (log grid).
+
+    ``reflection`` gives a 1-port (.s1p); ``shunt-thru`` and ``series-thru`` a 2-port (.s2p) of
+    the part between two ``z0`` ports. ``out_name``, when given, must carry the matching
+    extension, so that the file reads back with the right port count.
+    """
+    if fixture not in FIXTURES:
+        raise QueryError(f"unknown fixture '{fixture}'; choose one of " + ", ".join(FIXTURES))
+    if per_decade < 1:
+        raise QueryError("--points-per-decade must be at least 1")
+    suffix = ".s1p" if fixture == "reflection" else ".s2p"
+    if out_name is not None and not out_name.lower().endswith(suffix):
+        raise QueryError(f"a {fixture} file has {1 if suffix == '.s1p' else 2} port"
+                         f"{'s' if suffix == '.s2p' else ''}: name it *{suffix}")
+    part = store.find_part(part_number, maker)
+    if part.get("value") is None:
+        raise ModelError(f"{part['part_number']} has no value in the store; it has no model")
+    f = log_grid(band[0], band[1], per_decade)
+    z = Models.from_rows([part]).impedance(f)[0]
+    unit = {"capacitor": "F", "inductor": "H"}[part["kind"]]
+    model = []
+    for p in MODEL_PARAMETERS:
+        v = part.get(p)
+        if v is not None:
+            u = unit if p == "value" else {"esr": "ohm", "esl": "H", "dcr": "ohm", "srf": "Hz",
+                                           "rp": "ohm", "tan_delta": ""}[p]
+            shown = format_quantity(float(v), u, 6) if u else f"{float(v):.6g}"
+            model.append(f"{p} = {shown} ({part.get(p + '_source') or 'not stated'})")
+    where = {"reflection": "1-port reflection: the part from port 1 to ground",
+             "shunt-thru": "2-port shunt-thru: the part from the line to ground between the "
+                           "ports",
+             "series-thru": "2-port series-thru: the part in series between the ports"}[fixture]
+    comments = [f"partsel {__version__}: modeled impedance of {part['part_number']} "
+                f"({part['maker']}, {part['kind']})",
+                f"written {datetime.now():%Y-%m-%d %H:%M}; a model, not a measurement",
+                "model: " + "; ".join(model), f"fixture: {where}, Z0 = {z0:g} ohm"]
+    return write_touchstone(f, z, fixture=fixture,  # type: ignore[arg-type]
+                            z0=z0, fmt=fmt, comments=comments)
+
+
+# -- Parquet -------------------------------------------------------------------------------------
+
+def _extra_text(v: Any) -> str:
+    if isinstance(v, float):
+        return repr(v)
+    return v if isinstance(v, str) else json.dumps(v)
+
+
+def catalog_frame(store: Store) -> pd.DataFrame:
+    """The whole catalog in the import format: catalog columns (SI values), the
+    ``<param>_source`` columns, then extra columns (as text), sorted by maker and part number."""
+    cols = list(NAMES) + [p + "_source" for p in MODEL_PARAMETERS]
+    quoted = ", ".join(f'"{c}"' for c in cols)
+    df = store.frame(f"SELECT {quoted}, extra FROM parts ORDER BY maker, part_number")
+    for c in COLUMNS:
+        if c.sql_type in ("INTEGER", "BIGINT"):
+            df[c.name] = df[c.name].astype("Int64")
+        elif c.sql_type == "DOUBLE":
+            df[c.name] = df[c.name].astype(float)
+        else:
+            df[c.name] = df[c.name].astype(object).where(df[c.name].notna(), None)
+    extra = df.pop("extra")
+    present = extra.notna().to_numpy()
+    if present.any():
+        decoded = {t: json.loads(t) for t in pd.unique(extra[present])}
+        records = [decoded[t] if ok else {} for t, ok in zip(extra, present, strict=True)]
+        wide = pd.DataFrame.from_records(records, index=df.index)
+        for name in wide.columns:
+            col = wide[name]
+            df[name] = col.map(_extra_text, na_action="ignore").astype(object).where(
+                col.notna(), None)
+    return df
+
+
+def write_parquet(store: Store, path: Path) -> tuple[int, Path]:
+    """Write the whole catalog as Parquet (see :func:`catalog_frame`); returns (parts, path)."""
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    if path.suffix.lower() not in (".parquet", ".pq"):
+        raise QueryError(f"name the file *.parquet (not {path.name}) so that 'partsel import' "
+                         "reads it back")
+    df = catalog_frame(store)
+    table = pa.Table.from_pandas(df, preserve_index=False)
+    info = {"written_by": f"partsel {__version__}", "written_at": datetime.now().isoformat(),
+            "parts": len(df), "units": "SI base units (F, H, ohm, V, A, Hz, m, degC)"}
+    table = table.replace_schema_metadata({**(table.schema.metadata or {}),
+                                           b"partsel": json.dumps(info).encode()})
+    sink = pa.BufferOutputStream()
+    pq.write_table(table, sink, compression="zstd")
+    return len(df), write_atomic(path, sink.getvalue().to_pybytes())
