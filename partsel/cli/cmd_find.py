@@ -35,6 +35,7 @@ JSON_KEYS = {
     "isat_margin": "isat_margin", "irms_margin": "irms_margin",
     "q": "q", "c_eff_f": "c_eff_f", "bias_source": "bias_source", "lifecycle": "lifecycle",
     "price": "price", "stock": "stock", "esr_source": "esr_source", "esl_source": "esl_source",
+    "curve": "curve_source",
 }
 
 
@@ -98,6 +99,11 @@ def find_cmd(
                                     help="Inductors: catalog SRF at least R x the "
                                          "--inductive-to frequency (10 keeps L predictable, "
                                          "rule of thumb)."),
+    measured: bool = typer.Option(False, "--measured",
+                                  help="Judge --below/--above on a part's stored measured curve "
+                                       "where it has one (the model outside its range)."),
+    measured_only: bool = typer.Option(False, "--measured-only",
+                                       help="Only parts whose measured curve covers the band."),
     limit: int = opt.limit_option(),
     fmt: str = opt.format_option(),
 ) -> None:
@@ -155,6 +161,8 @@ def find_cmd(
         kw["in_stock"] = True
     if srf_ratio != 1.0:
         kw["srf_ratio"] = srf_ratio
+    if measured or measured_only:
+        kw["measured"], kw["measured_only"] = True, measured_only
     kw.setdefault("limit", limit)
     search = Search(**kw)
     search.validate()
@@ -169,6 +177,8 @@ def find_cmd(
     if search.kind == "inductor" and search.band:
         cols = cols[:-2] + [Col("max_z_ohm", "max |Z|", "ohm"), Col("min_z_ohm", "min |Z|", "ohm")] \
             + cols[-2:]
+    if search.measured:
+        cols = cols[:-2] + [Col("curve", "curve")] + cols[-2:]
     if search.kind == "inductor" and search.min_q:
         cols = cols[:-2] + [Col("q", f"Q@{units.format_quantity(search.min_q[1], 'Hz')}", "")] \
             + cols[-2:]

@@ -45,6 +45,8 @@ class Search:
     ripple: float | None = None         # inductors: peak-to-peak ripple current [A]
     min_q: tuple[float, float] | None = None  # inductors: (Q, at frequency [Hz])
     srf_ratio: float = 1.0              # inductors: catalog SRF at least this x inductive_to
+    measured: bool = False              # band limits on stored measured curves, model elsewhere
+    measured_only: bool = False         # band limits on measured curves; parts without: out
     limit: int = 20                     # 0 = all
 
     def validate(self) -> None:
@@ -76,6 +78,13 @@ class Search:
             raise QueryError("--ripple needs --current: the ripple rides on a DC current")
         if self.value_min and self.value_max and self.value_min > self.value_max:
             raise QueryError("the value range runs backwards: write the lower value first")
+        if self.measured or self.measured_only:
+            if self.band is None:
+                raise QueryError("--measured applies to band limits: add --band F1..F2 with "
+                                 "--below or --above")
+            if self.bias is not None:
+                raise QueryError("--bias cannot be applied to a measured curve (it was measured "
+                                 "at its own bias): leave out --measured or --bias")
 
 
 @dataclass
@@ -117,6 +126,10 @@ def _where(search: Search) -> tuple[str, list[Any]]:
     if search.in_stock:
         conds.append("stock > 0")
     return " AND ".join(conds), params
+
+
+def _measured(search: Search) -> bool:
+    return search.measured or search.measured_only
 
 
 def _count(n: int, word: str) -> str:
@@ -183,13 +196,16 @@ def find(store: Store, search: Search) -> FindResult:
         metrics: dict[str, np.ndarray] = {}
         if search.band:
             esr0, l0 = np.nan_to_num(esr), np.nan_to_num(l_tot)
-            if search.above is None:
+            if search.above is None and not _measured(search):
                 # fast path: the maximum alone decides and ranks; the rest is computed for the
                 # rows shown
                 max_z, f_max = band_metrics.capacitor_band_max(*search.band, c_eff, esr0, l0, td)
                 ext = band_metrics.BandExtrema(max_z, f_max, max_z, f_max)
             else:
                 ext = band_metrics.capacitor_band(*search.band, c_eff, esr0, l0, td)
+
+            def model_band(f1: float, f2: float, i: int) -> band_metrics.BandExtrema:
+                return band_metrics.capacitor_band(f1, f2, c_eff[i], esr0[i], l0[i], td[i])
     else:
         a = store.arrays(f"SELECT id, value, dcr AS dcr_raw, coalesce(dcr, 0.0) AS dcr, srf, rp, "
                          f"isat, irms FROM parts WHERE {where}", params)
@@ -234,6 +250,20 @@ def find(store: Store, search: Search) -> FindResult:
             metrics["q"] = q
         if search.band:
             ext = band_metrics.inductor_band(*search.band, value, dcr, cp, a["rp"])
+
+            def model_band(f1: float, f2: float, i: int) -> band_metrics.BandExtrema:
+                return band_metrics.inductor_band(f1, f2, value[i], dcr[i], cp[i], a["rp"][i])
+        if _measured(search) and (search.inductive_to or search.min_q):
+            notes.append("--inductive-to and --min-q are checked on the model, not on the "
+                         "measured curves")
+    curve = None
+    if search.band and _measured(search):
+        from partsel.jobs.measured import overlay_band
+        over = overlay_band(store, a["id"], search.band, ext, model_band,
+                            only=search.measured_only, mount_l=search.mount_l or 0.0)
+        ext, curve = over.extrema, over.source
+        effects += over.effects
+        notes += over.notes
     considered = len(value)
     order = "part number"
     key = np.zeros(considered)
@@ -278,7 +308,7 @@ def find(store: Store, search: Search) -> FindResult:
         sub = idx
         metrics["srf_hz"] = np.full(considered, np.nan)
         metrics["srf_hz"][sub] = capacitor.srf(c_eff[sub], l_tot[sub])
-        if search.band and search.above is None:
+        if search.band and search.above is None and not _measured(search):
             full = band_metrics.capacitor_band(*search.band, c_eff[sub], esr0[sub], l0[sub],
                                                td[sub])
             for name, arr in (("min_z_ohm", full.min_z), ("f_min_hz", full.f_min)):
@@ -295,6 +325,8 @@ def find(store: Store, search: Search) -> FindResult:
         if search.kind == "capacitor" and search.bias is not None:
             row["c_eff_f"] = float(c_eff[pos])
             row["bias_source"] = ("none", "measured curve", "estimated")[bias_src[pos]]
+        if curve is not None:
+            row["curve"] = curve[pos]
         rows.append(row)
     rows.sort(key=lambda r: (r["_rank"], r["part_number"]))
     for r in rows:
