@@ -94,6 +94,12 @@ def curve_cmd(
     plot: Path = typer.Option(None, "--plot", metavar="FILE.png",
                               help="Also write a plot of |Z| and phase."),
     maker: str = typer.Option(None, "--maker", help="Maker, when several share a number."),
+    measured: bool = typer.Option(False, "--measured",
+                                  help="Use each part's stored measured curve where it has one "
+                                       "(the model outside its range)."),
+    measured_only: bool = typer.Option(False, "--measured-only",
+                                       help="Measured curves only: refuse parts or bands "
+                                            "the measurements do not cover."),
     fmt: str = opt.format_option(),
 ) -> None:
     """Print |Z| and phase of parts on a log grid, and optionally plot them.
@@ -111,11 +117,13 @@ def curve_cmd(
     lim = opt.quantity(limit, "ohm", "--limit-line")
     with open_store_for(ctx) as store:
         res = curves(store, list(parts), rng, per_decade, bias=opt.quantity(bias, "V", "--bias"),
-                     mount_l=opt.quantity(mount_l, "H", "--mount-l"), maker=maker)
+                     mount_l=opt.quantity(mount_l, "H", "--mount-l"), maker=maker,
+                     measured=measured, measured_only=measured_only)
         if plot is not None:
             dense = curves(store, list(parts), (res.f[0], res.f[-1]), 200,
                            bias=opt.quantity(bias, "V", "--bias"),
-                           mount_l=opt.quantity(mount_l, "H", "--mount-l"), maker=maker)
+                           mount_l=opt.quantity(mount_l, "H", "--mount-l"), maker=maker,
+                           measured=measured, measured_only=measured_only)
     rows = []
     for j, f in enumerate(res.f):
         row = {"f_hz": float(f)}

@@ -9,6 +9,7 @@ import numpy as np
 
 from partsel.catalog import MODEL_PARAMETERS
 from partsel.engine import capacitor, inductor
+from partsel.errors import QueryError
 from partsel.jobs.models import Models, bias_ratios
 from partsel.store.db import Store
 
@@ -93,11 +94,23 @@ class Curves:
 
 def curves(store: Store, part_numbers: list[str], band: tuple[float, float] | None = None,
            per_decade: int = 10, *, bias: float | None = None, mount_l: float | None = None,
-           maker: str | None = None) -> Curves:
-    """|Z| of several parts on one log grid, with optional bias and mounting layers."""
+           maker: str | None = None, measured: bool = False,
+           measured_only: bool = False) -> Curves:
+    """|Z| of several parts on one log grid, with optional bias and mounting layers.
+
+    ``measured`` puts each part's stored measured curve in place of its model within the
+    measured range (the model outside it); ``measured_only`` refuses parts or bands the
+    measurements do not cover. Without a band, a measured curve's range sets it.
+    """
     rows = [store.find_part(pn, maker) for pn in part_numbers]
     m = Models.from_rows(rows)
     effects = ["catalog models"]
+    if (measured or measured_only) and bias is not None:
+        raise QueryError("--bias cannot be applied to a measured curve (it was measured at its "
+                         "own bias): leave out --measured or --bias")
+    if (measured or measured_only) and band is None:
+        from partsel.jobs.measured import measured_span
+        band = measured_span(store, rows, only=measured_only)
     if bias is not None:
         ratio, src = bias_ratios(rows, bias)
         m = m.with_value(m.value * ratio)
@@ -109,4 +122,9 @@ def curves(store: Store, part_numbers: list[str], band: tuple[float, float] | No
         effects.append(f"mounting inductance {mount_l * 1e9:g} nH")
     f1, f2 = band or default_band(m)
     f = log_grid(f1, f2, per_decade)
-    return Curves(f, [r["part_number"] for r in rows], m.impedance(f), effects)
+    z = m.impedance(f)
+    if measured or measured_only:
+        from partsel.jobs.measured import overlay_curves
+        z, used = overlay_curves(store, rows, f, z, only=measured_only, mount_l=mount_l or 0.0)
+        effects += used
+    return Curves(f, [r["part_number"] for r in rows], z, effects)
