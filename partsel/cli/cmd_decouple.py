@@ -1,0 +1,310 @@
+"""partsel decouple: plan a bank of capacitors for a rail, or check a given one."""
+
+from __future__ import annotations
+
+import math
+import re
+from pathlib import Path
+from typing import Annotated, Any
+
+import typer
+
+from partsel import units
+from partsel.cli import options as opt
+from partsel.cli.app import app, echo, note, open_store_for
+from partsel.errors import QueryError, UnitError
+from partsel.render import Col
+
+LINE_COLS = [Col("count", "n", ""), Col("part_number", "part"), Col("case", "case"),
+             Col("technology", "tech."), Col("dielectric", "diel."),
+             Col("value_f", "C", "F"), Col("c_eff_f", "C at bias", "F"),
+             Col("bias_source", "bias"), Col("esr_ohm", "ESR", "ohm"),
+             Col("esl_h", "ESL", "H"), Col("mount_l_h", "+mount", "H"),
+             Col("esl_total_h", "L total", "H"), Col("srf_hz", "SRF", "Hz"),
+             Col("price", "price", "")]
+PEAK_COLS = [Col("f_hz", "f", "Hz"), Col("z_ohm", "|Z|", "ohm", 4),
+             Col("ratio", "x target", "", 4)]
+
+_MIL = 25.4e-6          # 1 mil = 0.001 in [m]
+_INCH = 25.4e-3
+_AREA_UNITS = {"in2": _INCH**2, "in^2": _INCH**2, "sqin": _INCH**2, "mm2": 1e-6,
+               "mm^2": 1e-6, "cm2": 1e-4, "cm^2": 1e-4, "m2": 1.0, "m^2": 1.0}
+_AREA_RE = re.compile(r"^\s*([0-9.eE+-]+)\s*([a-zA-Z^0-9]*)\s*$")
+
+
+def parse_length(text: str, what: str) -> float:
+    """A length [m]: '4mil', '0.1mm', '100um', '1e-4' (mil = 25.4 um, no SI prefix)."""
+    t = text.strip()
+    if t.lower().endswith("mil"):
+        number = t[:-3].strip()
+        return units.parse_number(number, what) * _MIL
+    if t.lower().endswith("in"):
+        return units.parse_number(t[:-2].strip(), what) * _INCH
+    return units.parse_quantity(t, "m", what=what)
+
+
+def parse_area(text: str) -> float:
+    """An area [m^2]: '1in2', '645mm2', '6.45cm^2', '25mm x 25mm', '1in x 1in' or plain m^2."""
+    t = text.strip()
+    if "x" in t.lower() and not t.lower().startswith("0x"):
+        a, b = re.split(r"[xX]", t, maxsplit=1)
+        return parse_length(a, "plane width") * parse_length(b, "plane length")
+    m = _AREA_RE.match(t)
+    if m:
+        unit = m[2].lower()
+        if unit in _AREA_UNITS:
+            return units.parse_number(m[1], "plane area") * _AREA_UNITS[unit]
+    raise UnitError(f"cannot read plane area '{text}': write e.g. 1in2, 645mm2, 6.45cm2 or "
+                    "25mm x 25mm")
+
+
+def parse_plane(text: str, plane_l: str | None) -> dict[str, float]:
+    """'1in2,4mil,4.3[,0.02]' (area, spacing, eps_r[, tan_delta]) or a capacitance '10nF'."""
+    from partsel.engine import pdn
+
+    fields = [x.strip() for x in text.split(",")]
+    spread = units.parse_quantity(plane_l, "H", what="--plane-l") if plane_l else None
+    if len(fields) == 1:
+        c = units.parse_quantity(fields[0], "F", what="--plane")
+        if spread is None:
+            raise QueryError("a plane given as a capacitance needs its spreading inductance: "
+                             "add --plane-l, e.g. --plane-l 50pH, or give the geometry "
+                             "--plane AREA,SPACING,EPS_R")
+        return {"plane_c": c, "plane_l": spread}
+    if len(fields) not in (3, 4):
+        raise QueryError(f"cannot read --plane '{text}': write AREA,SPACING,EPS_R[,TAN_DELTA], "
+                         "e.g. 1in2,4mil,4.3, or a capacitance such as 10nF")
+    area = parse_area(fields[0])
+    spacing = parse_length(fields[1], "plane spacing")
+    eps_r = units.parse_number(fields[2], "relative permittivity")
+    tan_d = units.parse_number(fields[3], "loss tangent") if len(fields) == 4 else 0.0
+    if not (area > 0 and spacing > 0 and eps_r >= 1 and 0 <= tan_d < 1):
+        raise QueryError(f"--plane '{text}': area and spacing must be positive, eps_r at least "
+                         "1 and the loss tangent between 0 and 1")
+    return {"plane_c": float(pdn.plane_capacitance(area, spacing, eps_r)),
+            "plane_l": spread if spread is not None else float(pdn.plane_inductance(spacing)),
+            "plane_tan_delta": tan_d}
+
+
+def parse_mount_l(values: list[str] | None) -> dict[str, Any]:
+    """'0.5nH' (every part) and/or 'CASE=L' items ('0402=0.4nH,0603=0.5nH')."""
+    one: float | None = None
+    by_case: dict[str, float] = {}
+    for item in opt.split_list(values):
+        if "=" in item:
+            case, value = (x.strip() for x in item.split("=", 1))
+            if not case:
+                raise QueryError(f"--mount-l '{item}' names no case: write e.g. 0402=0.4nH")
+            by_case[case] = units.parse_quantity(value, "H", what=f"--mount-l for {case}")
+        else:
+            if one is not None:
+                raise QueryError("--mount-l takes one value for every part: give the others "
+                                 "per case, e.g. 0.5nH,0402=0.4nH")
+            one = units.parse_quantity(item, "H", what="--mount-l")
+    return {"mount_l": one, "mount_l_by_case": by_case}
+
+
+def _summary(res: Any) -> list[str]:
+    fq = units.format_quantity
+    rail = res.rail
+    spec = f"target {fq(rail.target, 'ohm', 4)}"
+    if rail.ripple is not None and rail.step is not None:
+        spec += (f" ({fq(rail.voltage, 'V')} x {100 * rail.ripple:g} % / "
+                 f"{fq(rail.step, 'A')})")
+    verdict = "target met" if res.met else "TARGET NOT MET"
+    return [f"Rail {fq(rail.voltage, 'V')}, {spec}, band {fq(rail.band[0], 'Hz')}.."
+            f"{fq(rail.band[1], 'Hz')}: {verdict}", ""]
+
+
+def render_text(res: Any) -> str:
+    fq = units.format_quantity
+    lines = _summary(res)
+    if res.lines:
+        lines.append(opt.emit(res.lines, LINE_COLS, "table"))
+    for b in res.board:
+        if b["name"] == "plane":
+            lines.append(f"+ plane pair {fq(b['c_eff_f'], 'F')} with {fq(b['esl_total_h'], 'H')}"
+                         " spreading inductance")
+        else:
+            lines.append(f"+ regulator output {fq(b['esr_ohm'], 'ohm')} + "
+                         f"{fq(b['esl_total_h'], 'H')}")
+    lines.append("")
+    if math.isfinite(res.max_z):
+        margin = 100.0 * (1.0 - res.max_z / res.rail.target)
+        lines.append(f"worst |Z| {fq(res.max_z, 'ohm', 4)} at {fq(res.f_max_z, 'Hz', 4)}; "
+                     f"margin {margin:.3g} % of the target ({res.margin_db:.3g} dB)")
+    cost = f", cost {res.cost:.4g}" if res.cost is not None else ""
+    b = res.bounds
+    lines.append(f"{res.parts} parts on {len(res.lines)} lines{cost}")
+    if "bank_c_f" in b:
+        lines.append(f"capacitance at bias {fq(b['bank_c_f'], 'F')} (a capacitance alone needs "
+                     f">= {fq(b['c_min_f'], 'F')} at the low edge); mounted inductance in "
+                     f"parallel {fq(b['bank_l_h'], 'H')} (an inductance alone needs <= "
+                     f"{fq(b['l_max_h'], 'H')} at the high edge)")
+    if res.peaks:
+        lines += ["", "Anti-resonance peaks in the band:", opt.emit(res.peaks, PEAK_COLS, "table")]
+    if res.explanation:
+        lines += ["", *res.explanation]
+    lines += ["", "Effects applied:", *(f"  - {e}" for e in res.effects)]
+    return "\n".join(lines)
+
+
+def _plot(res: Any, path: Path) -> Path:
+    import numpy as np
+
+    from partsel.engine import pdn
+    from partsel.io import plot as plotting
+
+    f1, f2 = res.rail.band
+    f = pdn.log_grid(f1 / 3.0, f2 * 3.0, pdn.MIN_PER_DECADE)
+    curves = res.curves(f)
+    styles = {label: {"lw": 0.9, "alpha": 0.7} for label, _ in curves}
+    styles["total"] = {"lw": 2.2, "color": "black"}
+    marks = [(res.f_max_z, f"worst {units.format_quantity(res.max_z, 'ohm')}")] \
+        if np.isfinite(res.max_z) else []
+    fig = plotting.Figure(f, curves, title="Decoupling bank: |Z| of each line and the total",
+                          limit=res.rail.target,
+                          limit_label=f"target {units.format_quantity(res.rail.target, 'ohm')}",
+                          band=res.rail.band, marks=marks, styles=styles)
+    return plotting.save(fig, path)
+
+
+Texts = list[str] | None
+
+
+@app.command("decouple")
+def decouple_cmd(
+    ctx: typer.Context,
+    rail: Annotated[str | None, typer.Option(
+        "--rail", metavar="V", help="Rail DC voltage, e.g. 1.0V (required): the DC bias of "
+        "class II ceramics and the minimum rated voltage follow from it.")] = None,
+    target: Annotated[str | None, typer.Option(
+        "--target", metavar="Z", help="Target impedance, e.g. 3mohm; or give --ripple and "
+        "--step.")] = None,
+    ripple: Annotated[str | None, typer.Option(
+        "--ripple", metavar="PCT", help="Allowed ripple as a share of the rail, e.g. 3%: "
+        "Z_t = V x ripple / step.")] = None,
+    step: Annotated[str | None, typer.Option(
+        "--step", metavar="I", help="Load current step, e.g. 10A.")] = None,
+    band: Annotated[str | None, typer.Option(
+        "--band", metavar="F1..F2", help="Band where |Z| must stay below the target, e.g. "
+        "10kHz..100MHz (required).")] = None,
+    mount_l: Annotated[Texts, typer.Option(
+        "--mount-l", metavar="L|CASE=L,...",
+        help="Mounting inductance (pads, vias) added to each part's ESL: one value, or per "
+             "case, e.g. 0402=0.4nH,0603=0.5nH (through_hole=L for leaded parts). Default "
+             "per case: 0201 0.3, 0402 0.35, 0603 0.4, 0805 0.5, 1206/1210 0.6, larger "
+             "0.7-0.8, other SMD packages 1, leaded 2 nH.")] = None,
+    plane: Annotated[str | None, typer.Option(
+        "--plane", metavar="AREA,SPACING,EPS_R[,TAN_DELTA]|C",
+        help="Power/ground plane pair, e.g. 1in2,4mil,4.3 (C = eps0 eps_r A/d), or its "
+             "capacitance, e.g. 10nF (then give --plane-l).")] = None,
+    plane_l: Annotated[str | None, typer.Option(
+        "--plane-l", metavar="L", help="Spreading inductance in series with the plane "
+        "capacitance (default for a geometry: mu0 x spacing, one square).")] = None,
+    vrm_r: Annotated[str | None, typer.Option(
+        "--vrm-r", metavar="R", help="Regulator output resistance, e.g. 1mohm (with "
+        "--vrm-l).")] = None,
+    vrm_l: Annotated[str | None, typer.Option(
+        "--vrm-l", metavar="L", help="Regulator output inductance, e.g. 20nH (with "
+        "--vrm-r).")] = None,
+    case: Annotated[Texts, typer.Option(
+        "--case", help="EIA case code(s) to use, e.g. 0402,0603.")] = None,
+    technology: Annotated[Texts, typer.Option(
+        "--technology", help="mlcc, film, aluminum, polymer, tantalum.")] = None,
+    dielectric: Annotated[Texts, typer.Option(
+        "--dielectric", help="EIA-198 code(s), e.g. X7R.")] = None,
+    maker: Annotated[Texts, typer.Option("--maker", help="Maker name(s).")] = None,
+    lifecycle: Annotated[Texts, typer.Option(
+        "--lifecycle", help="Lifecycle states to use (default active).")] = None,
+    min_voltage: Annotated[str | None, typer.Option(
+        "--min-voltage", metavar="V", help="Rated voltage at least V (default: 1.25 x rail; "
+        "tantalum 2 x; polymer 1.11 x up to 10 V, 1.25 x above).")] = None,
+    in_stock: Annotated[bool, typer.Option(
+        "--in-stock", help="Only parts with stock > 0.")] = False,
+    max_parts: Annotated[int, typer.Option(
+        "--max-parts", min=1, help="At most this many parts in the bank.")] = 500,
+    max_lines: Annotated[int | None, typer.Option(
+        "--max-lines", min=1, help="At most this many different part numbers (BOM lines); "
+        "default no limit.")] = None,
+    max_cost: Annotated[str | None, typer.Option(
+        "--max-cost", metavar="X", help="At most this total price (parts without a price "
+        "are then left out).")] = None,
+    prefer: Annotated[str, typer.Option(
+        "--prefer", metavar="count|cost", help="Among banks that hold: fewest parts (then "
+        "lowest cost), or lowest cost (then fewest parts).")] = "count",
+    check_file: Annotated[Path | None, typer.Option(
+        "--check", metavar="FILE", help="Evaluate this bank instead of planning one: CSV "
+        "with part_number,count[,maker].")] = None,
+    plot: Annotated[Path | None, typer.Option(
+        "--plot", metavar="FILE.png", help="Also plot |Z| of each line, the total and the "
+        "target.")] = None,
+    fmt: str = opt.format_option(),
+) -> None:
+    """Plan decoupling capacitors that keep a rail below its target impedance over a band.
+
+    Exit code 0 when the target is met, 1 when it is not.
+
+    Examples:
+
+      partsel decouple --rail 1.0V --ripple 3% --step 10A --band 10kHz..100MHz
+
+      partsel decouple --rail 3.3V --target 50mohm --band 100kHz..50MHz --case 0402,0603
+
+      partsel decouple --rail 1.0V --target 3mohm --band 10kHz..100MHz --check bank.csv
+    """
+    from partsel.jobs import decouple as dec
+
+    fmt = opt.check_format(fmt)
+    if rail is None:
+        raise QueryError("give the rail voltage with --rail, e.g. --rail 1.0V: it sets the DC "
+                         "bias of class II ceramics and the minimum rated voltage")
+    if band is None:
+        raise QueryError("give the band with --band, e.g. --band 10kHz..100MHz")
+    voltage = units.parse_quantity(rail, "V", what="--rail")
+    f_band = units.parse_band(band)
+    board_kw: dict[str, Any] = parse_mount_l(mount_l)
+    if plane is not None:
+        board_kw.update(parse_plane(plane, plane_l))
+    elif plane_l is not None:
+        raise QueryError("--plane-l needs --plane (the plane pair it belongs to)")
+    board_kw["vrm_r"] = opt.quantity(vrm_r, "ohm", "--vrm-r")
+    board_kw["vrm_l"] = opt.quantity(vrm_l, "H", "--vrm-l")
+    board = dec.Board(**board_kw)
+    if target is not None:
+        if ripple is not None or step is not None:
+            raise QueryError("give either --target or --ripple with --step, not both")
+        spec = dec.Rail(voltage, units.parse_quantity(target, "ohm", what="--target"), f_band,
+                        board)
+    elif ripple is not None and step is not None:
+        spec = dec.Rail.from_ripple(voltage, units.parse_percent(ripple, "--ripple"),
+                                    units.parse_quantity(step, "A", what="--step"), f_band, board)
+    else:
+        raise QueryError("give the target impedance: --target Z, or --ripple PCT with "
+                         "--step I (Z_t = V x ripple / step)")
+    with open_store_for(ctx) as store:
+        if check_file is not None:
+            res = dec.check(store, spec, dec.read_bank(check_file))
+        else:
+            life = tuple(x.lower() for x in opt.split_list(lifecycle)) or ("active",)
+            choice = dec.Choice(
+                cases=opt.split_list(case), technologies=opt.split_list(technology),
+                dielectrics=opt.split_list(dielectric), makers=opt.split_list(maker),
+                lifecycles=life, min_voltage=opt.quantity(min_voltage, "V", "--min-voltage"),
+                in_stock=in_stock, max_parts=max_parts, max_lines=max_lines,
+                max_cost=units.parse_number(max_cost, "--max-cost") if max_cost else None,
+                prefer=prefer.strip().lower())
+            res = dec.plan(store, spec, choice)
+    if fmt == "json":
+        from partsel.render import to_json
+        echo(to_json(res.to_dict()))
+    elif fmt == "csv":
+        echo(opt.emit(res.lines, LINE_COLS, "csv"))
+    else:
+        echo(render_text(res))
+    for n in res.notes:
+        note(n)
+    if plot is not None:
+        note(f"plot written to {_plot(res, plot)}")
+    if not res.met:
+        raise typer.Exit(1)
