@@ -526,8 +526,8 @@ def _form_fit_rules(o: dict[str, Any], crit: Criteria) -> tuple[list[_SqlRule], 
                           f"{'>=' if ok else '<'} original {_q(rv0, 'V')}"
             if c.get("rated_voltage") is not None else "rated voltage not stated")
     else:
-        skipped.append("voltage: the original states no rated voltage (give "
-                       "--working-voltage)")
+        skipped.append("voltage: the original states no rated voltage"
+                       + (" (give --working-voltage)" if o.get("kind") == "capacitor" else ""))
 
     tmin, tmax = o.get("temp_min"), o.get("temp_max")
     if tmin is not None or tmax is not None:
