@@ -218,3 +218,15 @@ def test_parallel_identical_parts_derived():
     z1 = capacitor.impedance(f, 1e-6, 0.01, 1e-9)
     z4 = network.parallel(z1[None, :], counts=[4])
     assert_allclose(z4, capacitor.impedance(f, 4e-6, 0.0025, 0.25e-9), rtol=1e-12)
+
+
+def test_bias_curve_interpolation_derived():
+    from partsel.engine import ceramic
+    # derived: linear interpolation between measured points, held beyond the ends
+    cv = [[0.0, 3.3, 6.3], [0.0, 3.3, 6.3], [1.0, np.nan, np.nan]]
+    cr = [[1.0, 0.6, 0.4], [1.0, 0.6, 0.4], [0.7, np.nan, np.nan]]
+    got = ceramic.bias_ratio_from_curve(np.array([1.65, 10.0, 3.0]), cv, cr)
+    assert_allclose(got, [0.8, 0.4, 0.7])
+    assert_allclose(ceramic.bias_ratio_from_curve([2.0], [[5.0]], [[0.5]]), [0.5])
+    # derived: aging k = 2.5 %/decade-hour, 1 h -> 1000 h leaves 92.5 % (IEC 60384-9 method)
+    assert_allclose(ceramic.aging_ratio(1000.0, 2.5), 0.925)

@@ -90,6 +90,10 @@ def bias_ratio_from_curve(voltage: ArrayLike, curve_v: ArrayLike,
     """
     cv = np.atleast_2d(np.asarray(curve_v, dtype=float))
     cr = np.atleast_2d(np.asarray(curve_ratio, dtype=float))
+    if cv.shape[1] < 2:  # a one-point curve: pad so that the interpolation has two columns
+        pad = ((0, 0), (0, 2 - cv.shape[1]))
+        cv = np.pad(cv, pad, constant_values=np.nan)
+        cr = np.pad(cr, pad, constant_values=np.nan)
     v = np.broadcast_to(np.abs(np.asarray(voltage, dtype=float)), cv.shape[:1])
     npts = np.sum(np.isfinite(cv), axis=1)
     rows = np.arange(cv.shape[0])
