@@ -251,6 +251,31 @@ def test_capacitance_beyond_the_measured_curve_is_not_extrapolated_upwards():
     assert dec.BIAS_LABELS[src[1]] == "measured curve"
 
 
+def test_worst_case_multiplies_tolerance_temperature_and_aging(cli, catalog):
+    # derived (shared domain notes section 2): worst-case C multiplies tolerance (10 %),
+    # the EIA-198 change of X7R (-15 %) and aging k = 2.5 %/decade over 1 h .. 87,600 h
+    aging = 1 - 0.025 * np.log10(87_600)
+    got = dec.worst_case_ratio(np.array([0.10, np.nan, 0.05]),
+                               np.array(["mlcc", "mlcc", "film"], dtype=object),
+                               np.array(["X7R", "C0G", None], dtype=object))
+    assert_allclose(got[0], 0.9 * 0.85 * aging, rtol=1e-12)
+    # C0G: no aging; its change over -55..125 degC at worst -30 ppm/degC x 100 K = -0.3 %;
+    # no tolerance in the catalog: the documented 20 % default
+    assert_allclose(got[1], 0.8 * (1 - 30e-6 * 100), rtol=1e-12)
+    assert_allclose(got[2], 0.95, rtol=1e-12)
+    code, data, _ = run_json(cli, catalog, "--rail", "3.3V", "--target", "20mohm", "--band",
+                             "100kHz..50MHz", "--worst-case", "--margin", "10%")
+    assert code == 0 and data["worst_case"] is True
+    assert_allclose(data["design_target_ohm"], 0.018, rtol=1e-12)
+    assert data["max_z_ohm"] <= 0.018 * (1 + 1e-9)
+    for b in data["bank"]:
+        assert_allclose(b["c_eff_f"], b["value_f"] * b["bias_ratio"] * b["worst_case_ratio"],
+                        rtol=1e-12)
+        assert b["worst_case_ratio"] < 1
+    worst, _ = dense_max(data)
+    assert worst <= 0.018 * (1 + 1e-9)
+
+
 # --- objective and limits, against brute-force enumeration -------------------------------------
 
 def _two_part_catalog() -> list[dict]:

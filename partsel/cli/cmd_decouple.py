@@ -111,6 +111,8 @@ def _summary(res: Any) -> list[str]:
     if rail.ripple is not None and rail.step is not None:
         spec += (f" ({fq(rail.voltage, 'V')} x {100 * rail.ripple:g} % / "
                  f"{fq(rail.step, 'A')})")
+    if rail.margin:
+        spec += f", held to {fq(rail.design_target, 'ohm', 4)} ({100 * rail.margin:g} % margin)"
     verdict = "target met" if res.met else "TARGET NOT MET"
     return [f"Rail {fq(rail.voltage, 'V')}, {spec}, band {fq(rail.band[0], 'Hz')}.."
             f"{fq(rail.band[1], 'Hz')}: {verdict}", ""]
@@ -119,8 +121,10 @@ def _summary(res: Any) -> list[str]:
 def render_text(res: Any) -> str:
     fq = units.format_quantity
     lines = _summary(res)
+    cols = [Col("c_eff_f", "C worst", "F") if c.key == "c_eff_f" and res.rail.worst_case
+            else c for c in LINE_COLS]
     if res.lines:
-        lines.append(opt.emit(res.lines, LINE_COLS, "table"))
+        lines.append(opt.emit(res.lines, cols, "table"))
     for b in res.board:
         if b["name"] == "plane":
             lines.append(f"+ plane pair {fq(b['c_eff_f'], 'F')} with {fq(b['esl_total_h'], 'H')}"
@@ -208,6 +212,13 @@ def decouple_cmd(
     vrm_l: Annotated[str | None, typer.Option(
         "--vrm-l", metavar="L", help="Regulator output inductance, e.g. 20nH (with "
         "--vrm-r).")] = None,
+    worst_case: Annotated[bool, typer.Option(
+        "--worst-case", help="Also take every capacitance at its low side: tolerance, the "
+        "EIA-198 temperature change and 10 years of class II aging (DC bias always "
+        "applies).")] = False,
+    margin: Annotated[str | None, typer.Option(
+        "--margin", metavar="PCT", help="Design margin: the bank must stay below the "
+        "target less this share, e.g. 10%.")] = None,
     case: Annotated[Texts, typer.Option(
         "--case", help="EIA case code(s) to use, e.g. 0402,0603.")] = None,
     technology: Annotated[Texts, typer.Option(
@@ -271,14 +282,16 @@ def decouple_cmd(
     board_kw["vrm_r"] = opt.quantity(vrm_r, "ohm", "--vrm-r")
     board_kw["vrm_l"] = opt.quantity(vrm_l, "H", "--vrm-l")
     board = dec.Board(**board_kw)
+    share = units.parse_percent(margin, "--margin") if margin is not None else 0.0
     if target is not None:
         if ripple is not None or step is not None:
             raise QueryError("give either --target or --ripple with --step, not both")
         spec = dec.Rail(voltage, units.parse_quantity(target, "ohm", what="--target"), f_band,
-                        board)
+                        board, worst_case, share)
     elif ripple is not None and step is not None:
         spec = dec.Rail.from_ripple(voltage, units.parse_percent(ripple, "--ripple"),
-                                    units.parse_quantity(step, "A", what="--step"), f_band, board)
+                                    units.parse_quantity(step, "A", what="--step"), f_band, board,
+                                    worst_case, share)
     else:
         raise QueryError("give the target impedance: --target Z, or --ripple PCT with "
                          "--step I (Z_t = V x ripple / step)")

@@ -165,18 +165,26 @@ class Rail:
     target: float                           # target impedance Z_t [ohm]
     band: tuple[float, float]               # [Hz]
     board: Board = field(default_factory=Board)
+    worst_case: bool = False                # also tolerance, temperature and aging (low side)
+    margin: float = 0.0                     # hold target * (1 - margin), a design margin
     ripple: float | None = None             # kept to say where the target came from
     step: float | None = None
 
+    @property
+    def design_target(self) -> float:
+        """The impedance the bank must stay below: the target less the design margin."""
+        return self.target * (1.0 - self.margin)
+
     @classmethod
     def from_ripple(cls, voltage: float, ripple: float, step: float,
-                    band: tuple[float, float], board: Board | None = None) -> Rail:
+                    band: tuple[float, float], board: Board | None = None,
+                    worst_case: bool = False, margin: float = 0.0) -> Rail:
         """Z_t = V * ripple / step (see :func:`partsel.engine.pdn.target_impedance`)."""
         for name, v in (("--rail", voltage), ("--ripple", ripple), ("--step", step)):
             if not (math.isfinite(v) and v > 0):
                 raise QueryError(f"{name} must be positive, got {v:g}")
         z = float(pdn.target_impedance(voltage, ripple, step))
-        return cls(voltage, z, band, board or Board(), ripple, step)
+        return cls(voltage, z, band, board or Board(), worst_case, margin, ripple, step)
 
     def validate(self) -> None:
         if not (math.isfinite(self.voltage) and self.voltage > 0):
@@ -186,6 +194,8 @@ class Rail:
         f1, f2 = self.band
         if not (0 < f1 < f2 < math.inf):
             raise QueryError("the band must run from a lower to a higher positive frequency")
+        if not (0.0 <= self.margin < 1.0):
+            raise QueryError("--margin must lie between 0 and 100 % of the target")
         self.board.validate()
 
 
@@ -212,6 +222,7 @@ class Choice:
             raise QueryError("--max-parts must be at least 1")
         if self.max_lines is not None and self.max_lines < 1:
             raise QueryError("--max-lines must be at least 1")
+
         if self.max_cost is not None and not (math.isfinite(self.max_cost)
                                               and self.max_cost > 0):
             raise QueryError("--max-cost must be a positive number")
@@ -230,8 +241,10 @@ class Parts:
     part_number: NDArray
     maker: NDArray
     value: NDArray            # nominal C [F]
-    c_eff: NDArray            # C at the rail's DC bias [F]
+    c_eff: NDArray            # C at the rail's DC bias (and worst case, when asked) [F]
     bias_source: NDArray      # index into BIAS_LABELS
+    bias_ratio: NDArray       # C at bias / nominal C
+    worst_ratio: NDArray      # tolerance x temperature x aging factor (1 when not asked)
     esr: NDArray
     tan_delta: NDArray
     esl: NDArray              # body ESL [H]
@@ -258,19 +271,23 @@ class Parts:
         return pdn.Branches.of(self.c_eff, self.esr, self.l_total, self.tan_delta, counts)
 
 
-_COLUMNS = ("id, part_number, maker, value, esr, esl, tan_delta, technology, dielectric, "
-            "\"case\", mounting, rated_voltage, price, stock, lifecycle, bias_v, bias_ratio")
+_COLUMNS = ("id, part_number, maker, value, tolerance, esr, esl, tan_delta, technology, "
+            "dielectric, \"case\", mounting, rated_voltage, price, stock, lifecycle, bias_v, "
+            "bias_ratio")
 
 
 def _parts_from(cols: dict[str, NDArray], rail: Rail) -> Parts:
     value = np.asarray(cols["value"], dtype=float)
-    c_eff, source = capacitance_at_bias(
+    c_bias, source = capacitance_at_bias(
         rail.voltage, value, cols["technology"], cols["dielectric"], cols["case"],
         np.asarray(cols["rated_voltage"], dtype=float), cols["bias_v"], cols["bias_ratio"])
+    worst = worst_case_ratio(np.asarray(cols["tolerance"], dtype=float), cols["technology"],
+                             cols["dielectric"]) if rail.worst_case else np.ones(len(value))
     mounting = cols["mounting"]
     return Parts(
         id=cols["id"], part_number=cols["part_number"], maker=cols["maker"], value=value,
-        c_eff=c_eff, bias_source=source, esr=np.asarray(cols["esr"], dtype=float),
+        c_eff=c_bias * worst, bias_source=source, bias_ratio=c_bias / value,
+        worst_ratio=worst, esr=np.asarray(cols["esr"], dtype=float),
         tan_delta=np.nan_to_num(np.asarray(cols["tan_delta"], dtype=float)),
         esl=np.asarray(cols["esl"], dtype=float),
         mount_l=rail.board.mounting(cols["case"], mounting),
@@ -278,6 +295,39 @@ def _parts_from(cols: dict[str, NDArray], rail: Rail) -> Parts:
         technology=cols["technology"], dielectric=cols["dielectric"],
         rated_voltage=np.asarray(cols["rated_voltage"], dtype=float), mounting=mounting,
         lifecycle=cols["lifecycle"])
+
+
+WORST_CASE_TOLERANCE = 0.20     # when the catalog gives none (M, the widest common letter)
+AGING_HOURS = (1.0, 87_600.0)   # class II aging from 1 h after the last heat to 10 years
+
+
+def worst_case_ratio(tolerance: NDArray, technology: NDArray,
+                     dielectric: NDArray) -> NDArray[np.float64]:
+    """Low-side capacitance factor: (1 - tolerance) x (1 + EIA-198 low-side change) x aging.
+
+    Worst-case capacitance multiplies tolerance, temperature change, DC bias and aging
+    (derived, shared domain notes section 2); DC bias is applied separately. Tolerance from the
+    catalog, else :data:`WORST_CASE_TOLERANCE`; the temperature change over the code's whole
+    range (EIA-198) for ceramics with a code; aging C(t) = C(t0)(1 - k/100 log10(t/t0)) over
+    :data:`AGING_HOURS` for class II codes (rates: rule of thumb, IEC 60384-9 / EIA-521 define
+    the measurement).
+    """
+    from partsel.errors import UnitError
+    from partsel.standards import eia198
+
+    tol = np.where(np.isfinite(tolerance), tolerance, WORST_CASE_TOLERANCE)
+    ratio = 1.0 - np.clip(tol, 0.0, 0.99)
+    codes = np.array([(d or "").strip().upper() if t == "mlcc" else ""
+                      for t, d in zip(technology, dielectric, strict=True)], dtype=object)
+    for code in set(codes) - {""}:
+        try:
+            d = eia198.decode(code)
+        except UnitError:
+            continue
+        k = ceramic.AGING_RATE.get(d.code, 2.5 if d.klass == 2 else 0.0)
+        aging = float(ceramic.aging_ratio(AGING_HOURS[1], k, AGING_HOURS[0]))
+        ratio[codes == code] *= (1.0 + d.change_low) * aging
+    return ratio
 
 
 def capacitance_at_bias(voltage: float, value: NDArray, technology: NDArray,
@@ -780,6 +830,7 @@ class Result:
         """The result as plain data (SI units in every key name)."""
         return {
             "mode": self.mode, "met": self.met, "target_ohm": self.rail.target,
+            "design_target_ohm": self.rail.design_target, "worst_case": self.rail.worst_case,
             "rail_v": self.rail.voltage, "band_hz": list(self.rail.band),
             "max_z_ohm": self.max_z, "f_max_z_hz": self.f_max_z,
             "margin_ohm": self.margin_ohm, "margin_db": self.margin_db,
@@ -797,7 +848,9 @@ def _line(parts: Parts, i: int, count: int) -> dict[str, Any]:
     return {
         "part_number": str(parts.part_number[i]), "maker": str(parts.maker[i]),
         "count": int(count), "value_f": float(parts.value[i]), "c_eff_f": c,
+        "bias_ratio": float(parts.bias_ratio[i]),
         "bias_source": BIAS_LABELS[int(parts.bias_source[i])],
+        "worst_case_ratio": float(parts.worst_ratio[i]),
         "esr_ohm": float(parts.esr[i]), "tan_delta": float(parts.tan_delta[i]),
         "esl_h": float(parts.esl[i]), "mount_l_h": float(parts.mount_l[i]),
         "esl_total_h": l_tot, "srf_hz": float(1.0 / (2 * np.pi * np.sqrt(l_tot * c)))
@@ -836,6 +889,14 @@ def _effects(rail: Rail, parts: Parts, counts: NDArray) -> list[str]:
                "no part in the bank loses capacitance (class I or not ceramic)")
                + (" (estimated: rule-of-thumb curve, the part has no measured one)"
                   if 2 in by_source or 3 in by_source else ""))
+    if rail.worst_case:
+        eff.append("worst case (low side) on every capacitance: tolerance (catalog, else "
+                   f"{100 * WORST_CASE_TOLERANCE:g} %), the EIA-198 change over the code's "
+                   "temperature range, class II aging from 1 h to 10 years (2.5 %/decade X7R/X5R,"
+                   " 7 %/decade Y5V/Z5U; rule of thumb)")
+    if rail.margin:
+        eff.append(f"design margin {100 * rail.margin:g} %: the bank must stay below "
+                   f"{_fq(rail.design_target, 'ohm')}")
     mounts: dict[str, float] = {}
     for i in np.flatnonzero(counts):
         key = parts.case[i] or "?"
@@ -878,7 +939,7 @@ def diagnose(rail: Rail, bank: pdn.Branches, sc: pdn.Scan, pool: Parts | None,
     ``pool`` holds the parts the planner could use (for "the best part has ..."); ``limits``
     says which limits bound the bank (empty for a check).
     """
-    zt, (f1, f2) = rail.target, rail.band
+    zt, (f1, f2) = rail.design_target, rail.band
     limit = zt * (1.0 + _CHECK_SLACK)
     mag = np.abs(sc.z)
     over = mag > limit
@@ -962,7 +1023,7 @@ def _result(rail: Rail, mode: Literal["plan", "check"], parts: Parts, counts: ND
     mine = parts.take(order).branches(counts[order])
     bank = pdn.Branches.concat(mine, board) if len(board) else mine
     labels = [f"{r['count']} x {r['part_number']}" for r in lines] + board_labels
-    c_min, l_max = pdn.band_bounds(rail.target, *rail.band)
+    c_min, l_max = pdn.band_bounds(rail.design_target, *rail.band)
     bounds = {"c_min_f": float(c_min), "l_max_h": float(l_max)}
     effects = _effects(rail, parts, counts)
     if len(bank.used()) == 0:
@@ -972,7 +1033,7 @@ def _result(rail: Rail, mode: Literal["plan", "check"], parts: Parts, counts: ND
                       rail.band[0], [], [], explanation, effects, notes, bounds, stats, bank,
                       labels)
     sc = pdn.scan(*rail.band, bank)
-    met = sc.max_z <= rail.target * (1.0 + _CHECK_SLACK)
+    met = sc.max_z <= rail.design_target * (1.0 + _CHECK_SLACK)
     in_band = (sc.peak_f > rail.band[0]) & (sc.peak_f < rail.band[1])
     peaks = [{"f_hz": float(f), "z_ohm": float(z), "ratio": float(z / rail.target)}
              for f, z in zip(sc.peak_f[in_band], sc.peak_z[in_band], strict=True)]
@@ -997,7 +1058,8 @@ def plan(store: Store, rail: Rail, choice: Choice | None = None) -> Result:
     cands = parts.take(idx)
     board, _ = rail.board.branches()
     limits = Limits(choice.max_parts, choice.max_cost, choice.max_lines)
-    out = solve(cands.branches(), board, rail.target, rail.band, w[idx], cands.price, limits)
+    out = solve(cands.branches(), board, rail.design_target, rail.band, w[idx], cands.price,
+                limits)
     stats = {"considered": considered, "usable": len(parts), **out.stats,
              "prefer": choice.prefer}
     res = _result(rail, "plan", cands, out.counts, notes, stats, parts, limits.text())
@@ -1104,7 +1166,7 @@ def check(store: Store, rail: Rail, entries: Sequence[BankEntry]) -> Result:
                 "lifecycle", "bias_v", "bias_ratio"):
         cols[key] = np.empty(len(rows), dtype=object)
         cols[key][:] = [r.get(key) for r in rows]
-    for key in ("value", "esr", "esl", "tan_delta", "rated_voltage", "price"):
+    for key in ("value", "tolerance", "esr", "esl", "tan_delta", "rated_voltage", "price"):
         cols[key] = np.array([np.nan if r.get(key) is None else float(r[key]) for r in rows])
     parts = _parts_from(cols, rail)
     counts = np.array([e.count for e in entries], dtype=float)
