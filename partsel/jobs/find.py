@@ -13,8 +13,9 @@ from typing import Any, Literal
 import numpy as np
 
 from partsel.engine import band as band_metrics
-from partsel.engine import capacitor, ceramic, inductor
+from partsel.engine import capacitor, inductor
 from partsel.errors import QueryError
+from partsel.jobs.models import BIAS_SOURCES, bias_ratio_columns
 from partsel.store.db import Store
 
 Kind = Literal["capacitor", "inductor"]
@@ -138,36 +139,15 @@ def _count(n: int, word: str) -> str:
 
 def _c_effective(a: dict[str, np.ndarray], bias: float,
                  effects: list[str]) -> tuple[np.ndarray, np.ndarray]:
-    """Capacitance at the working DC bias: the part's own curve, else the rule-of-thumb
-    estimate (class I and non-ceramic parts keep their value). Returns (C, source code) with
-    source 0 = none needed, 1 = measured curve, 2 = estimate."""
-    value = a["value"]
-    mlcc = a["technology"] == "mlcc"
-    has_curve = np.array([v is not None and len(v) > 0 for v in a["bias_v"]], dtype=bool)
-    ratio = np.ones_like(value)
-    source = np.zeros(value.shape, dtype=np.int8)
-    if has_curve.any():
-        k = max(len(v) for v in a["bias_v"][has_curve])
-        cv = np.full((int(has_curve.sum()), k), np.nan)
-        cr = np.full_like(cv, np.nan)
-        for i, (v, r) in enumerate(zip(a["bias_v"][has_curve], a["bias_ratio"][has_curve],
-                                       strict=True)):
-            cv[i, :len(v)] = v
-            cr[i, :len(r)] = r
-        ratio[has_curve] = ceramic.bias_ratio_from_curve(bias, cv, cr)
-        source[has_curve] = 1
-    est = mlcc & ~has_curve
-    if est.any():
-        r = ceramic.estimate_bias_ratio(bias, a["rated_voltage"][est], value[est],
-                                        a["case"][est], a["dielectric"][est])
-        changed = r < 1.0
-        idx = np.flatnonzero(est)
-        ratio[idx] = r
-        source[idx[changed]] = 2
+    """Capacitance at the working DC bias (see :func:`partsel.jobs.models.bias_ratio_columns`)
+    and its source code (0 none, 1 measured curve, 2 estimate)."""
+    ratio, source = bias_ratio_columns(bias, a["value"], a["technology"], a["dielectric"],
+                                       a["case"], a["rated_voltage"], a["bias_v"],
+                                       a["bias_ratio"])
     effects.append(f"DC bias {bias:g} V: measured curve for {int((source == 1).sum())} parts, "
                    f"rule-of-thumb estimate for {int((source == 2).sum())} class II parts "
                    "(estimated)")
-    return value * ratio, source
+    return a["value"] * ratio, source
 
 
 def find(store: Store, search: Search) -> FindResult:
@@ -324,7 +304,7 @@ def find(store: Store, search: Search) -> FindResult:
             row[name] = float(arr[pos])
         if search.kind == "capacitor" and search.bias is not None:
             row["c_eff_f"] = float(c_eff[pos])
-            row["bias_source"] = ("none", "measured curve", "estimated")[bias_src[pos]]
+            row["bias_source"] = BIAS_SOURCES[bias_src[pos]]
         if curve is not None:
             row["curve"] = curve[pos]
         rows.append(row)

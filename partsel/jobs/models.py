@@ -73,28 +73,59 @@ class Models:
         return replace(self, value=np.asarray(value, dtype=float))
 
 
-def bias_ratios(rows: Sequence[dict[str, Any]], voltage: float) -> tuple[NDArray, list[str]]:
-    """C(V)/C0 of each row at a DC voltage, and where each ratio came from.
+BIAS_SOURCES = ("none", "measured curve", "estimated")
 
-    The part's own curve wins ("measured curve"); class II MLCCs without one get the rule-of-thumb
-    estimate ("estimated"); everything else keeps its value ("none").
+
+def curve_matrix(bias_v: Sequence[Any], bias_ratio: Sequence[Any]
+                 ) -> tuple[NDArray[np.bool_], NDArray[np.float64], NDArray[np.float64]]:
+    """Stored bias curves (lists, or None) as NaN-padded (P, K >= 2) arrays, and which rows
+    have one."""
+    has = np.array([v is not None and not isinstance(v, (str, float)) and len(v) > 0
+                    for v in bias_v], dtype=bool)
+    k = max([2] + [len(v) for v, h in zip(bias_v, has, strict=True) if h])
+    cv = np.full((len(has), k), np.nan)
+    cr = np.full_like(cv, np.nan)
+    for i in np.flatnonzero(has):
+        cv[i, :len(bias_v[i])] = bias_v[i]
+        cr[i, :len(bias_ratio[i])] = bias_ratio[i]
+    return has, cv, cr
+
+
+def bias_ratio_columns(voltage: float, value: ArrayLike, technology: Sequence[Any],
+                       dielectric: Sequence[Any], case: Sequence[Any], rated_voltage: ArrayLike,
+                       bias_v: Sequence[Any], bias_ratio: Sequence[Any]
+                       ) -> tuple[NDArray[np.float64], NDArray[np.int8]]:
+    """C(V)/C0 of each part at a DC voltage, and where it came from (index into BIAS_SOURCES).
+
+    The one policy for every job: the part's own measured curve wins; class II MLCCs without one
+    get the rule-of-thumb estimate of :func:`partsel.engine.ceramic.estimate_bias_ratio`
+    (labelled "estimated"); class I dielectrics and other technologies keep their value.
     """
-    ratio = np.ones(len(rows))
-    source = ["none"] * len(rows)
-    for i, r in enumerate(rows):
-        if r.get("kind") != "capacitor":
-            continue
-        bv, br = r.get("bias_v"), r.get("bias_ratio")
-        if bv is not None and len(bv) > 0:
-            ratio[i] = float(ceramic.bias_ratio_from_curve(
-                voltage, np.asarray([bv], dtype=float), np.asarray([br], dtype=float))[0])
-            source[i] = "measured curve"
-        elif r.get("technology") == "mlcc":
-            est = float(ceramic.estimate_bias_ratio(
-                voltage, r.get("rated_voltage") or np.nan, r["value"],
-                np.array([r.get("case")], dtype=object),
-                np.array([r.get("dielectric")], dtype=object))[0])
-            if est < 1.0:
-                ratio[i] = est
-                source[i] = "estimated"
+    value = np.asarray(value, dtype=float)
+    ratio = np.ones(value.shape)
+    source = np.zeros(value.shape, dtype=np.int8)
+    has, cv, cr = curve_matrix(bias_v, bias_ratio)
+    if has.any():
+        ratio[has] = ceramic.bias_ratio_from_curve(voltage, cv[has], cr[has])
+        source[has] = 1
+    tech = np.asarray(technology, dtype=object)
+    est = (tech == "mlcc") & ~has
+    if est.any():
+        idx = np.flatnonzero(est)
+        r = ceramic.estimate_bias_ratio(voltage, np.asarray(rated_voltage, dtype=float)[idx],
+                                        value[idx], np.asarray(case, dtype=object)[idx],
+                                        np.asarray(dielectric, dtype=object)[idx])
+        ratio[idx] = r
+        source[idx[r < 1.0]] = 2
     return ratio, source
+
+
+def bias_ratios(rows: Sequence[dict[str, Any]], voltage: float) -> tuple[NDArray, list[str]]:
+    """:func:`bias_ratio_columns` for stored rows; sources as words."""
+    def col(key: str) -> list[Any]:
+        return [r.get(key) if r.get("kind") == "capacitor" else None for r in rows]
+    rated = [np.nan if v is None else v for v in col("rated_voltage")]
+    ratio, source = bias_ratio_columns(voltage, [r["value"] for r in rows], col("technology"),
+                                       col("dielectric"), col("case"), rated, col("bias_v"),
+                                       col("bias_ratio"))
+    return ratio, [BIAS_SOURCES[s] for s in source]
