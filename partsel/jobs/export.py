@@ -25,6 +25,7 @@ from partsel.engine import inductor
 from partsel.errors import ModelError, QueryError, StoreError
 from partsel.io.spice import capacitor_subckt, inductor_subckt, spice_name
 from partsel.io.touchstone import FIXTURES, write_touchstone
+from partsel.jobs.measured import FIT_REASON
 from partsel.jobs.models import Models
 from partsel.jobs.show import log_grid
 from partsel.store.db import Store
@@ -55,7 +56,7 @@ def write_atomic(path: Path, data: str | bytes) -> Path:
 def _fit_note(store: Store, part: dict[str, Any]) -> str | None:
     row = store.con.execute(
         "SELECT reason FROM model_history WHERE maker = ? AND part_number = ? AND reason LIKE "
-        "'replaced by a measured fit%' ORDER BY saved_at DESC, rowid DESC LIMIT 1",
+        f"'{FIT_REASON}%' ORDER BY saved_at DESC, rowid DESC LIMIT 1",
         [part["maker"], part["part_number"]]).fetchone()
     return row[0].removeprefix("replaced by a ") if row else None
 
@@ -87,8 +88,8 @@ def spice_subckt(store: Store, part: dict[str, Any], f_ref: float | None = None)
         cp = float(inductor.winding_capacitance(part["value"], part.get("srf") or np.nan))
         text = inductor_subckt(pn, part["value"], part.get("dcr") or 0.0, cp, part.get("rp"),
                                provenance=_provenance(part))
-    first, rest = text.split("\n", 1)
-    return "\n".join([first, *head, rest])
+    first, second, rest = text.split("\n", 2)
+    return "\n".join([first, second, *head, rest])
 
 
 def spice_library(store: Store, part_numbers: Sequence[str], *, maker: str | None = None,

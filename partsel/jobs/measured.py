@@ -40,6 +40,7 @@ TOUCHSTONE = re.compile(r"\.(s\d+p|ts)\Z", re.IGNORECASE)
 CSV_SUFFIXES = (".csv", ".txt", ".tsv")
 POOR_FIT_DB = 1.0          # RMS residual above which a fit is flagged as poor [dB]
 SHUNT_GROUND_LOOP_HZ = 100e3   # shunt-thru below this may carry a ground-loop error (rule of thumb)
+FIT_REASON = "replaced by a measured fit"   # start of the history reason a fit writes
 
 
 @dataclass(frozen=True)
@@ -267,6 +268,8 @@ def fit_part(store: Store, part_number: str, *, maker: str | None = None,
     converge is refused and changes nothing.
     """
     part = store.find_part(part_number, maker)
+    if part["kind"] == "inductor" and tan_delta:
+        raise QueryError("--tan-delta is for capacitors; an inductor's losses are DCR and Rp")
     sweep = latest_sweep(store, part)
     if sweep is None:
         raise QueryError(f"no measured sweep is stored for {part['part_number']}: import one "
@@ -278,8 +281,6 @@ def fit_part(store: Store, part_number: str, *, maker: str | None = None,
             raise QueryError(f"the band keeps {int(keep.sum())} of the sweep's points "
                              f"({_span(*sweep.band)}); a fit needs {MIN_POINTS}: widen --band")
         f, z = f[keep], z[keep]
-    if part["kind"] == "inductor" and tan_delta:
-        raise QueryError("--tan-delta is for capacitors; an inductor's losses are DCR and Rp")
     result = _run_fit(part["kind"], f, z, tan_delta, rp, _initial(part))
     prm = result.params
     if part["kind"] == "capacitor":
@@ -315,10 +316,9 @@ def _fit_warnings(result: FitResult, sweep: StoredSweep, f: NDArray) -> list[str
 
 def _save_fit(store: Store, fit: PartFit) -> None:
     part, sweep = fit.part, fit.sweep
-    reason = (f"replaced by a measured fit to {sweep.source_file or 'a sweep'} (imported "
-              f"{sweep.imported_at:%Y-%m-%d %H:%M}, {fit.fit.n_points} points "
-              f"{fit.band[0]:.4g}..{fit.band[1]:.4g} Hz, residual {fit.fit.residual_db:.3g} dB "
-              "RMS)")
+    reason = (f"{FIT_REASON} to {sweep.source_file or 'a sweep'} (imported "
+              f"{sweep.imported_at:%Y-%m-%d %H:%M}, {fit.fit.n_points} points from "
+              f"{_span(*fit.band)}, residual {fit.fit.residual_db:.3g} dB RMS)")
     sets, params = [], []
     for p, v in fit.model.items():
         sets += [f'"{p}" = ?', f'"{p}_source" = ?']
@@ -353,9 +353,9 @@ def model_history(store: Store, part_number: str, maker: str | None = None
 
 
 def undo_fit(store: Store, part_number: str, maker: str | None = None) -> dict[str, Any]:
-    """Put back the model a measured fit replaced; the undone fit goes to the history.
-
-    Returns the restored model (param -> value, param_source -> source).
+    """Put back the model the last measured fit replaced (it leaves the history; the undone fit
+    is kept there as "measured fit undone"). After two fits, two undos go back to the first
+    model. Returns the restored model (param -> value, param_source -> source).
     """
     part = store.find_part(part_number, maker)
     if not any(part.get(f"{p}_source") == "measured fit" for p in MODEL_PARAMETERS):
@@ -363,7 +363,7 @@ def undo_fit(store: Store, part_number: str, maker: str | None = None) -> dict[s
                          "undo")
     row = store.con.execute(
         "SELECT rowid, model FROM model_history WHERE maker = ? AND part_number = ? "
-        "ORDER BY saved_at DESC, rowid DESC LIMIT 1",
+        f"AND reason LIKE '{FIT_REASON}%' ORDER BY saved_at DESC, rowid DESC LIMIT 1",
         [part["maker"], part["part_number"]]).fetchone()
     if row is None:
         raise QueryError(f"no earlier model of {part['part_number']} is kept: nothing to undo")
