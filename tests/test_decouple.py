@@ -166,6 +166,16 @@ def test_regulator_alone_can_hold_a_low_band(cli, catalog):
     assert_allclose(data["max_z_ohm"], abs(2e-3 + 1j * TWO_PI * 1e3 * 100e-9), rtol=1e-12)
 
 
+def test_one_part_is_enough(cli, make_store):
+    # derived: 1 uF / 0.4 nH + 0.35 nH mounting / 5 mohm resonates at 5.81 MHz; over
+    # 5..7 MHz its |Z| stays below |5 mohm + j X(7 MHz)| = 11.4 mohm, so one part holds 20 mohm
+    store = make_store([_cap("ONE", 1e-6, 0.005, 0.4e-9)])
+    code, data, _ = run_json(cli, store, "--rail", "1V", "--target", "20mohm", "--band",
+                             "5MHz..7MHz")
+    assert code == 0 and data["parts"] == 1
+    assert_holds_independently(data)
+
+
 # --- DC bias: never count on capacitance a class II part lacks --------------------------------
 
 def _bias_catalog() -> list[dict]:

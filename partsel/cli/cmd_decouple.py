@@ -220,24 +220,27 @@ def decouple_cmd(
         "--margin", metavar="PCT", help="Design margin: the bank must stay below the "
         "target less this share, e.g. 10%.")] = None,
     case: Annotated[Texts, typer.Option(
-        "--case", help="EIA case code(s) to use, e.g. 0402,0603.")] = None,
+        "--case", metavar="CASE,...", help="EIA case code(s) to use, e.g. 0402,0603.")] = None,
     technology: Annotated[Texts, typer.Option(
-        "--technology", help="mlcc, film, aluminum, polymer, tantalum.")] = None,
+        "--technology", metavar="TECH,...",
+        help="mlcc, film, aluminum, polymer, tantalum.")] = None,
     dielectric: Annotated[Texts, typer.Option(
-        "--dielectric", help="EIA-198 code(s), e.g. X7R.")] = None,
-    maker: Annotated[Texts, typer.Option("--maker", help="Maker name(s).")] = None,
+        "--dielectric", metavar="CODE,...", help="EIA-198 code(s), e.g. X7R.")] = None,
+    maker: Annotated[Texts, typer.Option(
+        "--maker", metavar="NAME,...", help="Maker name(s).")] = None,
     lifecycle: Annotated[Texts, typer.Option(
-        "--lifecycle", help="Lifecycle states to use (default active).")] = None,
+        "--lifecycle", metavar="STATE,...",
+        help="Lifecycle states to use (default active).")] = None,
     min_voltage: Annotated[str | None, typer.Option(
         "--min-voltage", metavar="V", help="Rated voltage at least V (default: 1.25 x rail; "
         "tantalum 2 x; polymer 1.11 x up to 10 V, 1.25 x above).")] = None,
     in_stock: Annotated[bool, typer.Option(
         "--in-stock", help="Only parts with stock > 0.")] = False,
     max_parts: Annotated[int, typer.Option(
-        "--max-parts", min=1, help="At most this many parts in the bank.")] = 500,
+        "--max-parts", min=1, metavar="N", help="At most this many parts in the bank.")] = 500,
     max_lines: Annotated[int | None, typer.Option(
-        "--max-lines", min=1, help="At most this many different part numbers (BOM lines); "
-        "default no limit.")] = None,
+        "--max-lines", min=1, metavar="N",
+        help="At most this many different part numbers (BOM lines); default no limit.")] = None,
     max_cost: Annotated[str | None, typer.Option(
         "--max-cost", metavar="X", help="At most this total price (parts without a price "
         "are then left out).")] = None,

@@ -38,6 +38,11 @@ combination grows as (N+1)^K. The planner works in four steps instead.
    no better banks on the demo catalogs, at many times the cost.
 4. *Pruning.* Remove single parts, highest weight first, while the exact check still holds.
 
+With a limit on lines (distinct part numbers) the greedy fill never opens a line beyond it,
+and a second start removes lines one at a time from the unlimited bank (backward elimination:
+drop the line whose removal, refilled from the remaining lines, costs least); the better of
+the two seeds step 3, whose rounding keeps the largest lines of the relaxation.
+
 Every bank returned has passed ``pdn.scan`` on the whole band. The result says which effects
 were applied (DC-bias estimates labelled) and, when the target is not met, which part of the
 band fails and why, with the band bounds C >= 1/(2 pi f Z_t) and L <= Z_t/(2 pi f).
@@ -640,16 +645,22 @@ class _Solver:
         self.search = Search.build(pdn.log_grid(*band, pdn.MIN_PER_DECADE), cands, board,
                                    target)
         self.cap = max(4 * limits.max_parts, 200)
+        self.strict = False
         self.stats: dict[str, Any] = {"candidates": len(cands), "greedy_parts": 0,
                                       "rounds": 0, "cuts": 0, "pruned": 0}
 
     def scan(self, counts: NDArray) -> pdn.Scan:
-        # Grid maxima below half the target cannot hide a peak above it (the grid holds the
-        # lossless anti-resonances, and 200 points per decade); the final check refines all.
-        return pdn.scan(*self.band, _bank(self.cands, counts, self.board),
-                        refine_above=0.5 * self.target, polish=False)
+        # While searching, grid maxima below half the target are not refined (the grid holds
+        # the lossless anti-resonances and 200 points per decade, so they cannot hide a peak
+        # above it); the bank returned passes the full check (``strict``).
+        bank = _bank(self.cands, counts, self.board)
+        if self.strict:
+            return pdn.scan(*self.band, bank)
+        return pdn.scan(*self.band, bank, refine_above=0.5 * self.target, polish=False)
 
     def holds(self, counts: NDArray) -> bool:
+        if not counts.any() and not len(self.board):
+            return False
         return self.scan(counts).max_z <= self.target * (1.0 + _CHECK_SLACK)
 
     def allows(self, counts: NDArray) -> bool:
@@ -756,6 +767,10 @@ def solve(cands: pdn.Branches, board: pdn.Branches, target: float,
         if not sv.allows(new) or (best is not None and new @ w >= best @ w - 1e-9):
             break
         best = around = new
+    if best is not None:
+        sv.strict = True
+        checked, _, ok = sv.fill(best)
+        best_within, best = (best, None) if not (ok and sv.allows(checked)) else (best, checked)
     sv.stats["seconds"] = time.perf_counter() - t0
     if best is None:
         return Outcome(best_within, False, sv.stats)
