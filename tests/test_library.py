@@ -22,6 +22,6 @@ def test_docstring_example(make_store):
                         "value": "1uF", "esr": "10mohm", "esl": "0.5nH"}])
     with partsel.open_store(path) as store:
         result = partsel.find(store, partsel.Search("capacitor", band=(1e6, 30e6), below=0.5))
-    # derived: |Z| at 1 MHz = |0.01 + j(2 pi 1e6 0.5e-9 - 1/(2 pi 1e6 1e-6))| = 0.1560 ohm
+    # derived: |Z| at 1 MHz = |0.01 + j(2 pi 1e6 0.5e-9 - 1/(2 pi 1e6 1e-6))| = 0.15633 ohm
     assert [r["part_number"] for r in result.rows] == ["L1"]
-    assert result.rows[0]["max_z_ohm"] == pytest.approx(0.15571, rel=1e-4)
+    assert result.rows[0]["max_z_ohm"] == pytest.approx(0.156333, rel=1e-5)
