@@ -176,6 +176,37 @@ def test_one_part_is_enough(cli, make_store):
     assert_holds_independently(data)
 
 
+part_spec = st.tuples(st.floats(-9.0, -3.5), st.floats(-3.0, -1.0), st.floats(0.1, 3.0),
+                      st.sampled_from(["0201", "0402", "0603", "0805", "1206"]))
+
+
+@settings(max_examples=12, deadline=None,
+          suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
+@given(st.lists(part_spec, min_size=1, max_size=6), st.floats(-2.5, -0.5),
+       st.floats(3.0, 6.0), st.floats(0.5, 3.0), st.integers(5, 200))
+def test_any_bank_returned_holds_or_is_explained(make_store, parts, log_zt, log_f1, decades,
+                                                 max_parts):
+    # property: a bank the planner calls met holds on the independent dense grid; one it
+    # does not is explained, and stays within the part limit
+    from partsel.render import to_json
+
+    rows = [_cap(f"P{i}", 10.0 ** c, 10.0 ** r, lser * 1e-9, case=case)
+            for i, (c, r, lser, case) in enumerate(parts)]
+    store = make_store(rows)
+    f1 = 10.0 ** log_f1
+    rail = dec.Rail(1.0, 10.0 ** log_zt, (f1, f1 * 10.0 ** decades))
+    with open_store(store) as s:
+        res = dec.plan(s, rail, dec.Choice(max_parts=max_parts))
+    data = json.loads(to_json(res.to_dict()))
+    assert data["parts"] <= max_parts
+    if data["met"]:
+        assert_holds_independently(data)
+    else:
+        assert data["explanation"] and data["explanation"][0].startswith("No bank")
+        if data["bank"]:
+            assert dense_max(data, 400)[0] > data["target_ohm"]
+
+
 # --- DC bias: never count on capacitance a class II part lacks --------------------------------
 
 def _bias_catalog() -> list[dict]:
