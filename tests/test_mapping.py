@@ -99,8 +99,10 @@ def test_problems_name_row_and_file_column(tmp_path):
 
 
 @pytest.mark.parametrize("text,needle", [
-    ('[columns]\nvaleu = "Capacitance"', "'valeu', which is not a catalog column; did you mean "
-                                         "'value'"),
+    ('[columns]\nvaleu = "Capacitance"', "m.toml line 2: [columns] names 'valeu', which is "
+                                         "not a catalog column; did you mean 'value'"),
+    ('[columns]\nvalue = "C"\n[columns.lifecycle]\ncolumn = "S"\nunit = "V"',
+     "m.toml line 3: [columns] lifecycle: this column takes no unit"),
     ('[constants]\ncapacitance = "1uF"', "'capacitance', which is not a catalog column"),
     ('[columns]\nvalue = { column = "C", unit = "uFF" }', "unknown unit 'uFF'"),
     ('[columns]\nvalue = { column = "C", unit = "V" }', "unknown unit 'V'"),
@@ -130,7 +132,9 @@ def test_missing_file_columns_are_all_named():
     with pytest.raises(CatalogError) as err:
         apply_mapping(FOREIGN, parse_mapping(text, "m.toml"), "f.csv")
     msg = str(err.value)
-    assert "'Capacitence' (for value)" in msg and "'Volts' (for rated_voltage)" in msg
+    # each with the mapping line that names it (lines 7 and 8 of MAP)
+    assert "'Capacitence' (for value, m.toml line 7)" in msg
+    assert "'Volts' (for rated_voltage, m.toml line 8)" in msg
     assert "'Capacitance'" in msg  # the file's columns are listed
 
 

@@ -71,6 +71,7 @@ class ColumnMap:
     unit: str | None = None          # unit given to bare numbers
     values: dict[str, str] = field(default_factory=dict)   # folded cell text -> catalog text
     default: str | None = None       # text for cells that are empty
+    where: str = ""                  # "map.toml line 4", for messages
 
     def describe(self) -> str:
         return f"'{self.source}'" + (f" in {self.unit}" if self.unit else "")
@@ -94,6 +95,25 @@ class Mapping:
         if target in self.constants:
             return "a constant of the mapping"
         return None
+
+
+def _locate(text: str, label: str, key: str, section: str | None) -> str:
+    """'label line N' for the line that sets ``key`` (in ``[section]``), else ``label``."""
+    lines = text.splitlines()
+    name = rf"""(?:{re.escape(key)}|"{re.escape(key)}"|'{re.escape(key)}')"""
+    assign = re.compile(rf"\s*{name}\s*=")
+    table = re.compile(rf"\s*\[\s*{re.escape(section or '')}\s*\.\s*{name}\s*\]")
+    header = re.compile(r"\s*\[")
+    current: str | None = None
+    for no, line in enumerate(lines, 1):
+        if section and table.match(line):
+            return f"{label} line {no}"
+        if header.match(line):
+            current = line.strip().strip("[]").strip()
+            continue
+        if current == section and assign.match(line):
+            return f"{label} line {no}"
+    return label
 
 
 def _fold(text: str) -> str:
@@ -144,7 +164,7 @@ def _column_map(target: str, spec: Any, label: str) -> ColumnMap:
     if isinstance(spec, str):
         if not spec.strip():
             raise FileFormatError(f"{label}: [columns] {target} names an empty column")
-        return ColumnMap(target, spec.strip())
+        return ColumnMap(target, spec.strip(), where=label)
     if not isinstance(spec, dict):
         raise FileFormatError(f"{label}: [columns] {target} must be a column name or a table "
                               "such as { column = \"Capacitance\", unit = \"uF\" }")
@@ -176,7 +196,7 @@ def _column_map(target: str, spec: Any, label: str) -> ColumnMap:
     default = spec.get("default")
     if default is not None:
         default = _text(default, f"[columns] {target} default", label).strip()
-    return ColumnMap(target, source.strip(), unit, values, default)
+    return ColumnMap(target, source.strip(), unit, values, default, label)
 
 
 def parse_mapping(text: str, label: str = "mapping") -> Mapping:
@@ -195,21 +215,24 @@ def parse_mapping(text: str, label: str = "mapping") -> Mapping:
     constants = doc.get("constants", {})
     if not isinstance(columns, dict) or not isinstance(constants, dict):
         raise FileFormatError(f"{label}: [columns] and [constants] must be tables")
-    maps = tuple(_column_map(t, spec, label) for t, spec in columns.items())
+    maps = tuple(_column_map(t, spec, _locate(text, label, t, "columns"))
+                 for t, spec in columns.items())
     consts: dict[str, str] = {}
     for target, value in constants.items():
-        _check_target(target, label, "constants")
+        where = _locate(text, label, target, "constants")
+        _check_target(target, where, "constants")
         if target in columns:
-            raise FileFormatError(f"{label}: {target} is in [columns] and in [constants]; "
+            raise FileFormatError(f"{where}: {target} is in [columns] and in [constants]; "
                                   "keep one")
-        consts[target] = _text(value, f"[constants] {target}", label).strip()
+        consts[target] = _text(value, f"[constants] {target}", where).strip()
     ignore = doc.get("ignore", [])
     if not isinstance(ignore, list) or not all(isinstance(x, str) for x in ignore):
-        raise FileFormatError(f"{label}: ignore must be a list of column names, e.g. "
-                              "ignore = [\"Stock\"]")
+        raise FileFormatError(f"{_locate(text, label, 'ignore', None)}: ignore must be a list "
+                              "of column names, e.g. ignore = [\"Stock\"]")
     decimal = doc.get("decimal", ".")
     if decimal not in (".", ","):
-        raise FileFormatError(f"{label}: decimal must be \".\" or \",\", not {decimal!r}")
+        raise FileFormatError(f"{_locate(text, label, 'decimal', None)}: decimal must be "
+                              f"\".\" or \",\", not {decimal!r}")
     if not maps and not consts:
         raise FileFormatError(f"{label}: the mapping maps nothing; add a [columns] table")
     return Mapping(label, maps, consts, tuple(x.strip() for x in ignore), decimal == ",")
@@ -271,12 +294,12 @@ def apply_mapping(cells: pd.DataFrame, mapping: Mapping, file_label: str) -> pd.
         passes through would be read as a catalog column the mapping already fills.
     """
     headers = [str(c) for c in cells.columns]
-    missing = [f"'{c.source}' (for {c.target})" for c in mapping.columns
-               if _resolve(c.source, headers) is None]
+    missing = [f"'{c.source}' (for {c.target}, {c.where or mapping.label})"
+               for c in mapping.columns if _resolve(c.source, headers) is None]
     missing += [f"'{n}' (in ignore)" for n in mapping.ignore if _resolve(n, headers) is None]
     if missing:
         raise CatalogError(f"{file_label} has no column {', '.join(missing)}, which the mapping "
-                           f"{mapping.label} names; its columns are "
+                           "names; its columns are "
                            + ", ".join(f"'{h}'" for h in headers))
     used = {_resolve(c.source, headers) for c in mapping.columns}
     used |= {_resolve(n, headers) for n in mapping.ignore}
