@@ -18,6 +18,7 @@ from partsel.cli.cmd_decouple import parse_area, parse_length, parse_mount_l
 from partsel.engine import ceramic
 from partsel.errors import FileFormatError, QueryError
 from partsel.jobs import decouple as dec
+from partsel.jobs.models import bias_ratios
 from partsel.store import open_store
 from partsel.units import format_quantity
 
@@ -259,10 +260,10 @@ def test_parts_without_a_curve_get_a_labelled_estimate(cli, make_store):
     line = {b["part_number"]: b for b in data["bank"]}
     assert line["EST"]["bias_source"] == "estimated"
     assert line["EST"]["c_eff_f"] < 10e-6
-    # the planner's estimate is the project-wide rule of thumb (partsel.engine.ceramic)
-    ratio = ceramic.estimate_bias_ratio(3.3, np.array([6.3]), np.array([10e-6]),
-                                        np.array(["0603"], dtype=object),
-                                        np.array(["X5R"], dtype=object))
+    # the planner's estimate is the project-wide one (partsel.jobs.models.bias_ratios)
+    with open_store(store) as s:
+        ratio, source = bias_ratios([s.find_part("EST")], 3.3)
+    assert source == ["estimated"]
     assert_allclose(line["EST"]["c_eff_f"], 10e-6 * ratio[0], rtol=1e-12)
     if "CLASS1" in line:
         assert line["CLASS1"]["bias_source"] == "none"
