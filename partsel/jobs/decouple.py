@@ -64,6 +64,7 @@ from numpy.typing import NDArray
 from partsel import units
 from partsel.engine import ceramic, pdn
 from partsel.errors import FileFormatError, ModelError, QueryError
+from partsel.jobs.models import BIAS_SOURCES, bias_ratio_columns
 from partsel.store.db import Store
 
 Prefer = Literal["count", "cost"]
@@ -94,7 +95,7 @@ def polymer_margin(voltage: float) -> float:
     return 1.0 / 0.9 if voltage <= 10.0 else 1.0 / 0.8
 
 
-BIAS_LABELS = ("none", "measured curve", "estimated", "measured curve, estimate beyond it")
+BIAS_LABELS = BIAS_SOURCES
 _CHECK_SLACK = 1e-9   # relative slack of the exact check (rounding of |Z| near the target)
 _GRID_SLACK = 1e-6    # the search grid asks this much more, so refinement rarely fails
 
@@ -338,44 +339,11 @@ def worst_case_ratio(tolerance: NDArray, technology: NDArray,
 def capacitance_at_bias(voltage: float, value: NDArray, technology: NDArray,
                         dielectric: NDArray, case: NDArray, rated_voltage: NDArray,
                         bias_v: NDArray, bias_ratio: NDArray) -> tuple[NDArray, NDArray]:
-    """C at a DC voltage [F] and where the ratio came from (index into BIAS_LABELS).
-
-    The part's own measured curve wins; beyond its last point the curve is not extrapolated
-    optimistically: the rule-of-thumb estimate is used when it is lower. MLCCs without a curve
-    get the rule-of-thumb estimate (class I dielectrics keep their value); other technologies
-    keep their value. Vectorised over parts (the same rules as
-    :func:`partsel.jobs.models.bias_ratios`, plus the guard beyond the curve).
-    """
-    n = len(value)
-    ratio = np.ones(n)
-    source = np.zeros(n, dtype=np.int8)
-    # A NULL curve may arrive as None or as a fill value: only real sequences count.
-    has_curve = np.array([isinstance(v, (list, tuple, np.ndarray)) and len(v) > 0
-                          for v in bias_v], dtype=bool)
-    mlcc = np.array([t == "mlcc" for t in technology], dtype=bool)
-    estimate = np.ones(n)
-    if mlcc.any():
-        estimate[mlcc] = ceramic.estimate_bias_ratio(
-            voltage, rated_voltage[mlcc], value[mlcc], np.asarray(case, dtype=object)[mlcc],
-            np.asarray(dielectric, dtype=object)[mlcc])
-    if has_curve.any():
-        rows = np.flatnonzero(has_curve)
-        k = max(len(bias_v[i]) for i in rows)
-        cv = np.full((rows.size, k), np.nan)
-        cr = np.full_like(cv, np.nan)
-        last_v = np.empty(rows.size)
-        for j, i in enumerate(rows):
-            cv[j, :len(bias_v[i])] = bias_v[i]
-            cr[j, :len(bias_ratio[i])] = bias_ratio[i]
-            last_v[j] = bias_v[i][-1]
-        r = ceramic.bias_ratio_from_curve(voltage, cv, cr)
-        beyond = (abs(voltage) > last_v) & (estimate[rows] < r)
-        ratio[rows] = np.where(beyond, estimate[rows], r)
-        source[rows] = np.where(beyond, 3, 1)
-    est = mlcc & ~has_curve & (estimate < 1.0)
-    ratio[est] = estimate[est]
-    source[est] = 2
-    return value * ratio, source
+    """C at a DC voltage [F] and where the ratio came from (index into BIAS_LABELS), by the
+    one bias policy of :func:`partsel.jobs.models.bias_ratio_columns`."""
+    ratio, source = bias_ratio_columns(voltage, value, technology, dielectric, case,
+                                       rated_voltage, bias_v, bias_ratio)
+    return np.asarray(value, dtype=float) * ratio, source
 
 
 def _where(choice: Choice) -> tuple[str, list[Any]]:

@@ -73,7 +73,7 @@ class Models:
         return replace(self, value=np.asarray(value, dtype=float))
 
 
-BIAS_SOURCES = ("none", "measured curve", "estimated")
+BIAS_SOURCES = ("none", "measured curve", "estimated", "measured curve, estimate beyond it")
 
 
 def curve_matrix(bias_v: Sequence[Any], bias_ratio: Sequence[Any]
@@ -97,26 +97,33 @@ def bias_ratio_columns(voltage: float, value: ArrayLike, technology: Sequence[An
                        ) -> tuple[NDArray[np.float64], NDArray[np.int8]]:
     """C(V)/C0 of each part at a DC voltage, and where it came from (index into BIAS_SOURCES).
 
-    The one policy for every job: the part's own measured curve wins; class II MLCCs without one
-    get the rule-of-thumb estimate of :func:`partsel.engine.ceramic.estimate_bias_ratio`
-    (labelled "estimated"); class I dielectrics and other technologies keep their value.
+    The one policy for every job: the part's own measured curve wins within its voltage range;
+    beyond its last point the curve is not extrapolated optimistically (the rule-of-thumb
+    estimate is used where it is lower, source 3). Class II MLCCs without a curve get the
+    rule-of-thumb estimate of :func:`partsel.engine.ceramic.estimate_bias_ratio` (labelled
+    "estimated"); class I dielectrics and other technologies keep their value.
     """
     value = np.asarray(value, dtype=float)
     ratio = np.ones(value.shape)
     source = np.zeros(value.shape, dtype=np.int8)
+    tech = np.asarray(technology, dtype=object)
+    estimate = np.ones(value.shape)
+    mlcc = tech == "mlcc"
+    if mlcc.any():
+        idx = np.flatnonzero(mlcc)
+        estimate[idx] = ceramic.estimate_bias_ratio(
+            voltage, np.asarray(rated_voltage, dtype=float)[idx], value[idx],
+            np.asarray(case, dtype=object)[idx], np.asarray(dielectric, dtype=object)[idx])
     has, cv, cr = curve_matrix(bias_v, bias_ratio)
     if has.any():
-        ratio[has] = ceramic.bias_ratio_from_curve(voltage, cv[has], cr[has])
-        source[has] = 1
-    tech = np.asarray(technology, dtype=object)
-    est = (tech == "mlcc") & ~has
-    if est.any():
-        idx = np.flatnonzero(est)
-        r = ceramic.estimate_bias_ratio(voltage, np.asarray(rated_voltage, dtype=float)[idx],
-                                        value[idx], np.asarray(case, dtype=object)[idx],
-                                        np.asarray(dielectric, dtype=object)[idx])
-        ratio[idx] = r
-        source[idx[r < 1.0]] = 2
+        r = ceramic.bias_ratio_from_curve(voltage, cv[has], cr[has])
+        last_v = np.nanmax(cv[has], axis=1)
+        beyond = (abs(voltage) > last_v) & (estimate[has] < r)
+        ratio[has] = np.where(beyond, estimate[has], r)
+        source[has] = np.where(beyond, 3, 1)
+    est = mlcc & ~has & (estimate < 1.0)
+    ratio[est] = estimate[est]
+    source[est] = 2
     return ratio, source
 
 
