@@ -60,6 +60,7 @@ def engine_time(store: Path) -> tuple[float, int]:
 def loop_time(store: Path, sample: int = 300) -> float:
     """Seconds per part for a per-part scikit-rf evaluation on a 2,000-point grid."""
     import skrf
+
     from partsel.store import open_store
     with open_store(store) as s:
         a = s.arrays("SELECT value, esr, esl, coalesce(tan_delta, 0) AS td FROM parts "
@@ -92,7 +93,8 @@ def main() -> None:
         results[n] = t_cmd
         print(f"{n} parts: find (whole command, best of 5) {t_cmd * 1000:.0f} ms; "
               f"engine on {ncap} capacitors {t_eng * 1000:.1f} ms")
-    print(f"ratio whole command {args.parts} / 1000 parts: {results[args.parts] / results[1000]:.2f}")
+    ratio = results[args.parts] / results[1000]
+    print(f"ratio whole command {args.parts} / 1000 parts: {ratio:.2f}")
     store, _ = build(args.parts)
     per_part = loop_time(store)
     _, ncap = engine_time(store)

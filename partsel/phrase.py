@@ -121,7 +121,8 @@ def parse_phrase(text: str) -> tuple[dict[str, Any], str]:
             r.next()
             kw["band"] = _band(r, "to" if w == "from" else "and")
             lo, hi = kw["band"]
-            shown.append(f"--band {fmt(lo, 'Hz').replace(' ', '')}..{fmt(hi, 'Hz').replace(' ', '')}")
+            lo_text, hi_text = fmt(lo, "Hz").replace(" ", ""), fmt(hi, "Hz").replace(" ", "")
+            shown.append(f"--band {lo_text}..{hi_text}")
         elif w == "inductive":
             r.next()
             if r.peek() == "up":

@@ -110,4 +110,5 @@ def test_demo_command_is_repeatable(cli, tmp_path):
 def test_module_runs_as_a_program(tmp_path):
     out = subprocess.run([sys.executable, "-m", "partsel", "--store", str(tmp_path / "n.duckdb"),
                           "find", "capacitor", "--below", "1ohm"], capture_output=True, text=True)
-    assert out.returncode == 2 and out.stderr.startswith("Error: ") and "Traceback" not in out.stderr
+    assert out.returncode == 2 and out.stderr.startswith("Error: ")
+    assert "Traceback" not in out.stderr

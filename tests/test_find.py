@@ -53,7 +53,8 @@ def test_find_equals_brute_force(make_store, parts, f1, span, limit):
     for r in rows:
         c, esr, esl = float(r["value"]), float(r["esr"]), float(r["esl"])
         td = float(r.get("tan_delta") or 0.0)
-        zmax = _grid_max(f1, f2, lambda f: capacitor.impedance(f, c, esr, esl, td))
+        zmax = _grid_max(f1, f2, lambda f, c=c, esr=esr, esl=esl, td=td:
+                         capacitor.impedance(f, c, esr, esl, td))
         if zmax <= limit * (1 + 1e-12):
             expected.append((zmax, r["part_number"]))
     expected.sort()

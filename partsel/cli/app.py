@@ -15,6 +15,9 @@ import click
 import typer
 from typer.core import TyperGroup
 
+from partsel import __version__
+from partsel.errors import PartselError
+
 try:  # recent typer releases carry their own copy of click
     from typer._click import exceptions as _typer_click_exc
 except ImportError:  # older typer uses click itself
@@ -32,9 +35,6 @@ _USAGE = _classes("UsageError")
 _CLICK = _classes("ClickException")
 _ABORT = _classes("Abort")
 _NOARGS = _classes("NoArgsIsHelpError")
-
-from partsel import __version__
-from partsel.errors import PartselError
 
 
 class _Group(TyperGroup):

@@ -67,8 +67,9 @@ def report(store: Store, part_number: str, maker: str | None = None) -> PartRepo
     z = m.impedance(decades)[0]
     points = []
     for f, zz in zip(decades, z, strict=True):
-        pt = {"f_hz": float(f), "z_ohm": float(abs(zz)), "phase_deg": float(np.degrees(np.angle(zz))),
-              "esr_ohm": float(zz.real), "q": float(abs(zz.imag) / zz.real) if zz.real > 0 else float("inf")}
+        pt = {"f_hz": float(f), "z_ohm": float(abs(zz)),
+              "phase_deg": float(np.degrees(np.angle(zz))), "esr_ohm": float(zz.real),
+              "q": float(abs(zz.imag) / zz.real) if zz.real > 0 else float("inf")}
         w = 2 * np.pi * f
         if part["kind"] == "capacitor":
             pt["c_eff_f"] = float(-1.0 / (w * zz.imag)) if zz.imag else float("inf")
