@@ -23,6 +23,7 @@ class Figure:
     marks: list[tuple[float, str]] = field(default_factory=list)      # vertical lines
     spans: list[tuple[float, float, str]] = field(default_factory=list)  # shaded regions
     styles: dict[str, dict] = field(default_factory=dict)  # per-label line options
+    ylim: tuple[float, float] | None = None          # |Z| axis range [ohm]
 
 
 def save(fig: Figure, path: str | Path) -> Path:
@@ -61,7 +62,15 @@ def save(fig: Figure, path: str | Path) -> Path:
     ax_p.set_xlabel("frequency [Hz]")
     for ax in (ax_z, ax_p):
         ax.grid(True, which="both", alpha=0.3)
-    ax_z.legend(fontsize=8, loc="best")
+    if fig.ylim is not None:
+        ax_z.set_ylim(*fig.ylim)
+    n_labels = len(ax_z.get_legend_handles_labels()[1])
+    if n_labels > 8:  # many curves: the legend goes beside the plot, in columns
+        ax_z.legend(fontsize=7, loc="upper left", bbox_to_anchor=(1.01, 1.0),
+                    ncol=1 + n_labels // 25, frameon=False)
+        figure.set_size_inches(9 + 2.2 * (1 + n_labels // 25), 6.5)
+    else:
+        ax_z.legend(fontsize=8, loc="best")
     if fig.title:
         ax_z.set_title(fig.title)
     figure.tight_layout()
