@@ -15,6 +15,7 @@ import pytest
 
 from partsel.engine import capacitor, inductor
 from partsel.io.touchstone import write_touchstone
+from partsel.jobs.measured import latest_sweep
 from partsel.store import open_store
 
 DATA = Path(__file__).parent / "data"
@@ -373,3 +374,28 @@ def test_demo_sweep_fits_its_part(cli, tmp_path):
         # the model lacks leave the fit within 3 % of it
         for key, want in sweep["generated_with"].items():
             assert p[key] == pytest.approx(want, rel=0.03), key
+
+
+def test_touchstone_versions_and_normalisation_through_the_cli(store, cli, tmp_path):
+    # version 2, series-thru, [Two-Port Data Order] 21_12 (tests/data/README.md: 100 nF,
+    # 10 mOhm, 0.8 nH)
+    res = cli("--store", store, "sweep", "import", DATA / "touchstone" / "cap_100n_series_v2.ts",
+              "--part", "C100N", "--fixture", "series-thru")
+    assert res.exit_code == 0, res.output
+    # version 1 Z-parameters are normalised to R (Touchstone 1.1): a 1-port of 10 uH written
+    # as Z/R with R = 25 ohm must come back in ohm
+    f = np.logspace(3, 6, 31)
+    z = inductor.impedance(f, 10e-6, 0.05, 0.0)
+    rows = [f"{float(fi) / 1e3!r} {float(zi.real) / 25!r} {float(zi.imag) / 25!r}"
+            for fi, zi in zip(f, z, strict=True)]
+    text = "# kHz Z RI R 25\n" + "\n".join(rows)
+    (tmp_path / "l.s1p").write_text(text + "\n")
+    assert cli("--store", store, "sweep", "import", tmp_path / "l.s1p", "--part",
+               "L10U").exit_code == 0
+    with open_store(store) as s:
+        cap = latest_sweep(s, s.find_part("C100N"))
+        ind = latest_sweep(s, s.find_part("L10U"))
+    np.testing.assert_allclose(cap.z, capacitor.impedance(cap.f, 100e-9, 10e-3, 0.8e-9),
+                               rtol=1e-6)
+    np.testing.assert_allclose(ind.f, f, rtol=1e-15)
+    np.testing.assert_allclose(ind.z, z, rtol=1e-14)
