@@ -126,7 +126,8 @@ def fit_cmd(
                                                           "model."),
     undo: bool = typer.Option(False, "--undo", help="Put back the model the last fit "
                                                     "replaced."),
-    fmt: str = opt.format_option(),
+    fmt: str = typer.Option("table", "--format", "-f", metavar="table|json",
+                            help="Output: a table for reading, or JSON with SI numbers."),
 ) -> None:
     """Fit a part's equivalent circuit to its latest measured sweep and store it as its model.
 
@@ -274,7 +275,7 @@ def export_touchstone_cmd(
 ) -> None:
     """Write a part's modeled impedance as a Touchstone 1.1 file (S-parameters).
 
-    Example: partsel export touchstone PART --band 10kHz..1GHz --fixture shunt-thru --out p.s2p
+    Example: partsel export touchstone PART --band 10kHz..1GHz --out part.s1p
     """
     from partsel import units
     from partsel.jobs.export import touchstone_text
