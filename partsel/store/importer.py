@@ -502,18 +502,25 @@ def insert_frame(store: Store, frame: pd.DataFrame, source_file: str,
     try:
         for start in range(0, len(df), chunk):
             con.register("incoming", df.iloc[start:start + chunk])
-            con.execute(_STAGE_SQL)
-            n_old, same, kept = con.execute(
-                "SELECT count(old_id), count(*) FILTER (same), count(*) FILTER (kept_fit) "
-                "FROM staged").fetchone()
-            if n_old > same:
-                con.execute("DELETE FROM parts WHERE id IN (SELECT old_id FROM staged WHERE "
-                            "old_id IS NOT NULL AND NOT same)")
+            n_old = con.execute(
+                "SELECT count(*) FROM parts p SEMI JOIN incoming i "
+                "ON p.maker = i.maker AND p.part_number = i.part_number").fetchone()[0]
+            same = kept = 0
+            source = "incoming"
+            if n_old:  # compare with the stored parts only when there are any
+                con.execute(_STAGE_SQL)
+                same, kept = con.execute("SELECT count(*) FILTER (same), count(*) FILTER "
+                                         "(kept_fit) FROM staged").fetchone()
+                if n_old > same:
+                    con.execute("DELETE FROM parts WHERE id IN (SELECT old_id FROM staged "
+                                "WHERE old_id IS NOT NULL AND NOT same)")
+                source = "staged WHERE NOT same"
             con.execute(
                 f"INSERT INTO parts (id, {quoted}, bias_v, bias_ratio, extra, source_file, "
                 f"imported_at) SELECT nextval('part_ids'), {quoted}, {_BIAS_V_SQL}, "
-                f"{_BIAS_R_SQL}, extra, ?, now() FROM staged WHERE NOT same", [source_file])
-            con.execute("DROP TABLE staged")
+                f"{_BIAS_R_SQL}, extra, ?, now() FROM {source}", [source_file])
+            if n_old:
+                con.execute("DROP TABLE staged")
             con.unregister("incoming")
             n = min(chunk, len(df) - start)
             totals += (n - n_old, n_old, same, kept)
