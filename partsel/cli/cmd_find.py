@@ -175,8 +175,8 @@ def find_cmd(
     if search.kind == "capacitor" and search.bias is not None:
         cols = cols[:3] + [Col("c_eff_f", "C at bias", "F"), Col("bias_source", "bias")] + cols[3:]
     if search.kind == "inductor" and search.band:
-        cols = cols[:-2] + [Col("max_z_ohm", "max |Z|", "ohm"), Col("min_z_ohm", "min |Z|", "ohm")] \
-            + cols[-2:]
+        cols = cols[:-2] + [Col("max_z_ohm", "max |Z|", "ohm"),
+                            Col("min_z_ohm", "min |Z|", "ohm")] + cols[-2:]
     if search.measured:
         cols = cols[:-2] + [Col("curve", "curve")] + cols[-2:]
     if search.kind == "inductor" and search.min_q:
