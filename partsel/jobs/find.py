@@ -17,6 +17,7 @@ from partsel.engine import capacitor, inductor
 from partsel.errors import QueryError
 from partsel.jobs.models import BIAS_SOURCES, bias_ratio_columns
 from partsel.store.db import Store
+from partsel.store.query import membership
 
 Kind = Literal["capacitor", "inductor"]
 REL_SLACK = 1e-12
@@ -113,19 +114,10 @@ def _where(search: Search) -> tuple[str, list[Any]]:
     if search.min_voltage is not None:
         conds.append("rated_voltage >= ?")
         params.append(search.min_voltage)
-    for col, values, fold in (("\"case\"", search.cases, False),
-                              ("dielectric", search.dielectrics, True),
-                              ("technology", search.technologies, True),
-                              ("maker", search.makers, True)):
-        if values:
-            if fold:
-                conds.append(f"list_contains(?, lower({col}))")
-                params.append([v.lower() for v in values])
-            else:
-                conds.append(f"list_contains(?, {col})")
-                params.append(list(values))
-    if search.in_stock:
-        conds.append("stock > 0")
+    more, more_params = membership(search.cases, search.dielectrics, search.technologies,
+                                   search.makers, search.in_stock)
+    conds += more
+    params += more_params
     return " AND ".join(conds), params
 
 
