@@ -21,7 +21,7 @@ _load_commands()
 
 
 def main() -> None:
-    app()
+    app(prog_name="partsel")
 
 
 __all__ = ["app", "main"]
