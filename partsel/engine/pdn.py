@@ -21,10 +21,15 @@ grid of at least 200 points per decade, takes every local maximum of |Z| on that
 refines it by golden-section search in ln f, then polishes the stationary point of |Y|^2 by
 bisection on its analytic derivative. Peaks much narrower than the grid spacing are therefore
 not missed, and their height and frequency are exact to rounding.
+
+A network with branches that are not R-L-C (a measured curve) has no such structure:
+:func:`scan_admittance` takes its admittance as a function and the frequencies where its
+behaviour may change, and refines the grid maxima by golden-section search alone.
 """
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
@@ -247,6 +252,28 @@ class Scan:
     f_max: float                        # where it occurs [Hz]
 
 
+def _golden(a: NDArray, d: NDArray, s: Callable[[NDArray], NDArray], iterations: int,
+            tol: float) -> tuple[NDArray, NDArray, NDArray]:
+    """Golden-section search for a local minimum of ``s`` in each bracket [a, d], vectorised.
+
+    Returns the final brackets and the best point of each (Kiefer 1953; any numerical methods
+    text). Stops when every bracket is narrower than ``tol`` x max(1, |a|).
+    """
+    a, d = np.array(a, dtype=float), np.array(d, dtype=float)
+    x1, x2 = d - _GOLDEN * (d - a), a + _GOLDEN * (d - a)
+    s1, s2 = s(x1), s(x2)
+    for _ in range(iterations):
+        left = s1 <= s2                       # the minimum lies in [a, x2], else in [x1, d]
+        a, d = np.where(left, a, x1), np.where(left, x2, d)
+        x_new = np.where(left, d - _GOLDEN * (d - a), a + _GOLDEN * (d - a))
+        s_new = s(x_new)
+        x1, x2, s1, s2 = (np.where(left, x_new, x2), np.where(left, x1, x_new),
+                          np.where(left, s_new, s2), np.where(left, s1, s_new))
+        if np.all(d - a <= tol * np.maximum(1.0, np.abs(a))):
+            break
+    return a, d, np.where(s1 <= s2, x1, x2)
+
+
 def _refine(u_lo: NDArray, u_hi: NDArray, b: Branches, iterations: int = 80,
             polish: bool = True) -> tuple[NDArray, NDArray]:
     """Local minima of |Y|^2 in [u_lo, u_hi] (u = ln omega), one per bracket, vectorised.
@@ -259,19 +286,7 @@ def _refine(u_lo: NDArray, u_hi: NDArray, b: Branches, iterations: int = 80,
         y, _ = _admittance_and_slope(u, b)
         return (y * np.conj(y)).real
 
-    a, d = u_lo.copy(), u_hi.copy()
-    x1, x2 = d - _GOLDEN * (d - a), a + _GOLDEN * (d - a)
-    s1, s2 = s(x1), s(x2)
-    for _ in range(iterations):
-        left = s1 <= s2                       # the minimum lies in [a, x2], else in [x1, d]
-        a, d = np.where(left, a, x1), np.where(left, x2, d)
-        x_new = np.where(left, d - _GOLDEN * (d - a), a + _GOLDEN * (d - a))
-        s_new = s(x_new)
-        x1, x2, s1, s2 = (np.where(left, x_new, x2), np.where(left, x1, x_new),
-                          np.where(left, s_new, s2), np.where(left, s1, s_new))
-        if np.all(d - a <= 1e-7 * np.maximum(1.0, np.abs(a))):
-            break
-    best = np.where(s1 <= s2, x1, x2)
+    a, d, best = _golden(u_lo, u_hi, s, iterations, 1e-7)
 
     def g(u: NDArray) -> NDArray:
         y, dy = _admittance_and_slope(u, b)
@@ -289,6 +304,12 @@ def _refine(u_lo: NDArray, u_hi: NDArray, b: Branches, iterations: int = 80,
         take = s(polished) <= s(best[ok])
         best[ok] = np.where(take, polished, best[ok])
     return best, np.sqrt(s(best))
+
+
+def _grid_maxima(mag: NDArray, refine_above: float) -> NDArray[np.intp]:
+    """Indices of the interior local maxima of ``mag`` at or above ``refine_above``."""
+    mid = mag[1:-1]
+    return np.flatnonzero((mid >= mag[:-2]) & (mid > mag[2:]) & (mid >= refine_above)) + 1
 
 
 def scan(f1: float, f2: float, bank: Branches, per_decade: int = MIN_PER_DECADE,
@@ -317,8 +338,7 @@ def scan(f1: float, f2: float, bank: Branches, per_decade: int = MIN_PER_DECADE,
     peak_f = np.empty(0)
     peak_z = np.empty(0)
     if f.size >= 3:
-        mid = mag[1:-1]
-        i = np.flatnonzero((mid >= mag[:-2]) & (mid > mag[2:]) & (mid >= refine_above)) + 1
+        i = _grid_maxima(mag, refine_above)
         if i.size:
             u_lo = np.log(TWO_PI * f[i - 1])
             u_hi = np.log(TWO_PI * f[i + 1])
@@ -326,6 +346,52 @@ def scan(f1: float, f2: float, bank: Branches, per_decade: int = MIN_PER_DECADE,
             peak_f = np.exp(u) / TWO_PI
             with np.errstate(divide="ignore"):
                 peak_z = 1.0 / ymag
+            better = peak_z >= mag[i]
+            peak_f = np.where(better, peak_f, f[i])
+            peak_z = np.where(better, peak_z, mag[i])
+    all_f = np.concatenate([f, peak_f])
+    all_z = np.concatenate([mag, peak_z])
+    k = int(np.argmax(all_z))
+    return Scan(f, z, peak_f, peak_z, float(all_z[k]), float(all_f[k]))
+
+
+def scan_admittance(f1: float, f2: float, admittance: Callable[[NDArray], NDArray],
+                    points: ArrayLike = (), per_decade: int = MIN_PER_DECADE,
+                    refine_above: float = 0.0) -> Scan:
+    """Worst |Z| = 1/|Y| over the closed band [f1, f2] of a network known only through its
+    admittance ``admittance(f)`` [S] (any array of f [Hz] -> array of Y of the same shape).
+
+    For networks whose branches are not all series R-L-C (a measured curve, say), so that
+    Foster's theorem cannot place the anti-resonances. The grid holds ``per_decade`` (>= 200)
+    log-spaced points per decade plus the ``points`` inside the band; each interior local
+    maximum of |Z| on it at or above ``refine_above`` [ohm] is refined by golden-section search
+    on |Y|^2 in ln f between its two grid neighbours. The result is exact (to ~1e-8 relative in
+    f) where |Z| has at most one maximum between neighbouring grid points, so ``points`` must
+    hold every frequency where the network's behaviour changes: the resonances of its parts
+    and, for interpolated data, every data point. Raises ValueError for a bad band.
+    """
+    if not (0 < f1 <= f2 < np.inf):
+        raise ValueError(f"band must satisfy 0 < f1 <= f2 < inf, got {f1}..{f2}")
+    extra = np.asarray(points, dtype=float).ravel()
+    f = np.unique(np.concatenate([log_grid(f1, f2, max(per_decade, MIN_PER_DECADE)),
+                                  extra[(extra > f1) & (extra < f2)]])) if f2 > f1 \
+        else np.array([f1])
+    with np.errstate(divide="ignore", invalid="ignore"):
+        z = 1.0 / np.asarray(admittance(f), dtype=complex)
+    mag = np.abs(z)
+    peak_f = np.empty(0)
+    peak_z = np.empty(0)
+    if f.size >= 3:
+        i = _grid_maxima(mag, refine_above)
+        if i.size:
+            def s(u: NDArray) -> NDArray:
+                y = np.asarray(admittance(np.exp(u)), dtype=complex)
+                return (y * np.conj(y)).real
+
+            _, _, u = _golden(np.log(f[i - 1]), np.log(f[i + 1]), s, 200, 1e-12)
+            peak_f = np.exp(u)
+            with np.errstate(divide="ignore"):
+                peak_z = 1.0 / np.sqrt(s(u))
             better = peak_z >= mag[i]
             peak_f = np.where(better, peak_f, f[i])
             peak_z = np.where(better, peak_z, mag[i])
