@@ -7,27 +7,36 @@ function and renders the result; it holds no logic a library user would need.
 
 from __future__ import annotations
 
+import importlib
 import os
 import sys
+from types import ModuleType
 from typing import Any
 
-import click
 import typer
 from typer.core import TyperGroup
 
 from partsel import __version__
 from partsel.errors import PartselError
 
-try:  # recent typer releases carry their own copy of click
-    from typer._click import exceptions as _typer_click_exc
-except ImportError:  # older typer uses click itself
-    _typer_click_exc = click.exceptions
 
+def _exception_modules() -> list[ModuleType]:
+    """Where the command-line exceptions live: recent typer releases carry their own copy of
+    click (and do not install click); older ones use click itself."""
+    found: list[ModuleType] = [typer]
+    for name in ("typer._click.exceptions", "click.exceptions"):
+        try:
+            found.append(importlib.import_module(name))
+        except ImportError:
+            continue
+    return found
+
+
+_MODULES = _exception_modules()
 
 
 def _classes(name: str) -> tuple[type[BaseException], ...]:
-    found = {getattr(m, name) for m in (click.exceptions, _typer_click_exc, typer)
-             if isinstance(getattr(m, name, None), type)}
+    found = {getattr(m, name) for m in _MODULES if isinstance(getattr(m, name, None), type)}
     return tuple(found)
 
 
@@ -47,7 +56,7 @@ class _Group(TyperGroup):
         except PartselError as exc:
             _fail(str(exc), exc.exit_code)
         except _NOARGS as exc:
-            click.echo(exc.ctx.get_help() if exc.ctx else "", err=True)
+            typer.echo(exc.ctx.get_help() if exc.ctx else "", err=True)
             sys.exit(2)
         except _USAGE as exc:
             hint = ""
@@ -68,7 +77,7 @@ class _Group(TyperGroup):
 
 def _fail(message: str, code: int) -> None:
     first = message.strip().splitlines()[0] if message.strip() else "failed"
-    click.echo(f"Error: {first}", err=True)
+    typer.echo(f"Error: {first}", err=True)
     sys.exit(code)
 
 
@@ -87,7 +96,7 @@ app = typer.Typer(
 
 def _version(value: bool) -> None:
     if value:
-        click.echo(f"partsel {__version__}")
+        typer.echo(f"partsel {__version__}")
         raise typer.Exit()
 
 
@@ -109,17 +118,17 @@ def open_store_for(ctx: typer.Context, *, write: bool = False, create: bool | No
     path = (ctx.find_root().obj or {}).get("store")
     store = open_store(path, write=write, create=create)
     for notice in store.notices:
-        click.echo(f"partsel: {notice}", err=True)
+        typer.echo(f"partsel: {notice}", err=True)
     return store
 
 
 def echo(text: str) -> None:
-    click.echo(text)
+    typer.echo(text)
 
 
 def note(text: str) -> None:
     """A remark for a person: to stderr, so that JSON/CSV on stdout stay machine-readable."""
-    click.echo(text, err=True)
+    typer.echo(text, err=True)
 
 
 def is_terminal() -> bool:
