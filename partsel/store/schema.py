@@ -11,6 +11,7 @@ from __future__ import annotations
 import duckdb
 
 from partsel.catalog import COLUMNS, MODEL_PARAMETERS
+from partsel.errors import StoreError
 
 
 def _q(name: str) -> str:
@@ -72,6 +73,7 @@ def migrate(con: duckdb.DuckDBPyConnection, from_version: int | None) -> None:
         con.execute("INSERT OR REPLACE INTO meta VALUES ('schema_version', ?)",
                     [str(SCHEMA_VERSION)])
         con.execute("COMMIT")
-    except Exception:
+    except duckdb.Error as exc:
         con.execute("ROLLBACK")
-        raise
+        raise StoreError(f"could not upgrade the store to schema {SCHEMA_VERSION} ({exc}); "
+                         "it was left unchanged: open it with the partsel that made it") from None
