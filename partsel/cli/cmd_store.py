@@ -60,8 +60,14 @@ def import_cmd(
             raise typer.Exit(1)
         echo(f"{file.name}: {len(frame)} rows, no problems (nothing was written)")
         return
+    progress = None
+    if is_terminal():
+        note(f"reading and checking {file.name} ...")
+
+        def progress(done: int, total: int) -> None:
+            note(f"  stored {done}/{total}")
     with open_store_for(ctx, write=True) as store:
-        summary = import_catalog(store, file, mapped)
+        summary = import_catalog(store, file, mapped, progress=progress)
     echo(summary.text())
 
 

@@ -423,8 +423,8 @@ def _refusal(path: Path, problems: list[Problem], rows: int) -> CatalogError:
                         f"rows refused): {first}{tail}")
 
 
-def import_catalog(store: Store, path: str | Path, mapping: Mapping | None = None
-                   ) -> ImportSummary:
+def import_catalog(store: Store, path: str | Path, mapping: Mapping | None = None,
+                   progress: Callable[[int, int], None] | None = None) -> ImportSummary:
     """Add or replace the parts of a catalog file, all or nothing.
 
     Parts are keyed by maker and part number. A part whose data is the same as the stored one
@@ -437,7 +437,7 @@ def import_catalog(store: Store, path: str | Path, mapping: Mapping | None = Non
         raise _refusal(p, problems, rows)
     estimated = {c: int((frame[f"{c}_source"] == "estimated by rule").sum()) for c in
                  ("esr", "esl")}
-    counts = insert_frame(store, frame, source_file=p.name)
+    counts = insert_frame(store, frame, source_file=p.name, progress=progress)
     return ImportSummary(p.name, len(frame), counts.added, counts.replaced, 0, estimated,
                          counts.unchanged, counts.kept_fits)
 
