@@ -22,6 +22,7 @@ LINE_COLS = [Col("count", "n", ""), Col("part_number", "part"), Col("case", "cas
              Col("esl_h", "ESL", "H"), Col("mount_l_h", "+mount", "H"),
              Col("esl_total_h", "L total", "H"), Col("srf_hz", "SRF", "Hz"),
              Col("price", "price", "")]
+CURVE_COL = Col("curve_source", "curve")
 PEAK_COLS = [Col("f_hz", "f", "Hz"), Col("z_ohm", "|Z|", "ohm", 4),
              Col("ratio", "x target", "", 4)]
 
@@ -118,11 +119,19 @@ def _summary(res: Any) -> list[str]:
             f"{fq(rail.band[1], 'Hz')}: {verdict}", ""]
 
 
+def line_cols(res: Any) -> list[Col]:
+    """The bank table's columns: a curve column when measured curves were asked for."""
+    cols = [Col("c_eff_f", "C worst", "F") if c.key == "c_eff_f" and res.rail.worst_case
+            else c for c in LINE_COLS]
+    if res.measured:
+        cols.insert(-1, CURVE_COL)
+    return cols
+
+
 def render_text(res: Any) -> str:
     fq = units.format_quantity
     lines = _summary(res)
-    cols = [Col("c_eff_f", "C worst", "F") if c.key == "c_eff_f" and res.rail.worst_case
-            else c for c in LINE_COLS]
+    cols = line_cols(res)
     if res.lines:
         lines.append(opt.emit(res.lines, cols, "table"))
     for b in res.board:
@@ -247,6 +256,14 @@ def decouple_cmd(
     prefer: Annotated[str, typer.Option(
         "--prefer", metavar="count|cost", help="Among banks that hold: fewest parts (then "
         "lowest cost), or lowest cost (then fewest parts).")] = "count",
+    measured: Annotated[bool, typer.Option(
+        "--measured", help="Use each part's stored measured curve (its latest sweep) in place "
+        "of its model where the sweep has points, the model outside; the mounting inductance "
+        "and the capacitance lost at the rail voltage are added to it (the sweep is taken as "
+        "measured at 0 V).")] = False,
+    measured_only: Annotated[bool, typer.Option(
+        "--measured-only", help="Measured curves only: plan with only the parts whose sweep "
+        "covers the band; with --check, refuse a part whose sweep does not.")] = False,
     check_file: Annotated[Path | None, typer.Option(
         "--check", metavar="FILE", help="Evaluate this bank instead of planning one: CSV "
         "with part_number,count[,maker].")] = None,
@@ -266,6 +283,8 @@ def decouple_cmd(
       partsel decouple --rail 3.3V --target 50mohm --band 100kHz..50MHz --case 0402,0603
 
       partsel decouple --rail 1.0V --target 3mohm --band 10kHz..100MHz --check bank.csv
+
+      partsel decouple --rail 1.8V --target 10mohm --band 1MHz..50MHz --measured
     """
     from partsel.jobs import decouple as dec
 
@@ -300,7 +319,8 @@ def decouple_cmd(
                          "--step I (Z_t = V x ripple / step)")
     with open_store_for(ctx) as store:
         if check_file is not None:
-            res = dec.check(store, spec, dec.read_bank(check_file))
+            res = dec.check(store, spec, dec.read_bank(check_file), measured=measured,
+                            measured_only=measured_only)
         else:
             life = tuple(x.lower() for x in opt.split_list(lifecycle)) or ("active",)
             choice = dec.Choice(
@@ -310,7 +330,7 @@ def decouple_cmd(
                 in_stock=in_stock, max_parts=max_parts, max_lines=max_lines,
                 max_cost=units.parse_number(max_cost, "--max-cost") if max_cost else None,
                 prefer=prefer.strip().lower())
-            res = dec.plan(store, spec, choice)
+            res = dec.plan(store, spec, choice, measured=measured, measured_only=measured_only)
     if fmt == "json":
         from partsel.render import to_json
         echo(to_json(res.to_dict()))

@@ -46,6 +46,32 @@ the two seeds step 3, whose rounding keeps the largest lines of the relaxation.
 Every bank returned has passed ``pdn.scan`` on the whole band. The result says which effects
 were applied (DC-bias estimates labelled) and, when the target is not met, which part of the
 band fails and why, with the band bounds C >= 1/(2 pi f Z_t) and L <= Z_t/(2 pi f).
+
+Measured curves
+---------------
+With ``measured``, a part whose latest stored sweep reaches the band uses it in place of its
+model where the sweep has points, the model outside (:class:`MeasuredCurve`): the data read
+between points with ln|Z| and phase linear in ln f, plus the board's mounting inductance in
+series, plus the model's change from C to C at the rail's bias (and worst case),
+(tan_delta - j)(1/(omega C_eff) - 1/(omega C)). The store keeps no bias with a sweep, so a
+sweep is taken as measured at 0 V on the part's model capacitance C; this keeps the rule that
+the bank never counts on capacitance a class II part does not have at the rail voltage (find
+and curve refuse --bias with measured curves instead; here the rail always sets a bias).
+``measured_only`` leaves out (plan) or refuses (check) the parts whose sweep does not cover the
+whole band.
+
+A measured branch has no R-L-C structure: no Foster brackets, no SRF. The exact check of a bank
+with measured branches (``pdn.scan_admittance``) evaluates |Z| on the union of the 200-per-
+decade grid, the lossless anti-resonances of the models, and every measured point in the band
+(with the model side of each sweep's ends), and refines each local maximum by golden-section
+search on the interpolated data. Between two measured points the data is only the
+interpolation, so the check is only as fine as the data: a resonance narrower than the sweep's
+point spacing is not seen. The planner keeps steps 1-4 on the models (the reduction bins by SRF
+and loss, the check inside the search uses the anti-resonances); parts with a measured curve
+over the band stay candidates. Step 5 then checks the bank on the measured curves and, with
+the same greedy fill, constraint generation and pruning (steps 2 and 4) run on the measured
+curves, adds parts until it holds on them, or prunes the parts they do not need; when no bank
+within the limits holds on them the answer says so with the reasons.
 """
 
 from __future__ import annotations
@@ -53,10 +79,10 @@ from __future__ import annotations
 import csv
 import math
 import time
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any, Literal
+from typing import TYPE_CHECKING, Any, Literal
 
 import numpy as np
 from numpy.typing import NDArray
@@ -66,6 +92,9 @@ from partsel.engine import ceramic, pdn
 from partsel.errors import FileFormatError, ModelError, QueryError
 from partsel.jobs.models import BIAS_SOURCES, bias_ratio_columns
 from partsel.store.db import Store
+
+if TYPE_CHECKING:
+    from partsel.jobs.measured import StoredSweep
 
 Prefer = Literal["count", "cost"]
 
@@ -473,11 +502,173 @@ def reduce_candidates(parts: Parts, w: NDArray, f_band: tuple[float, float],
     return np.array(sorted(keep), dtype=np.intp)
 
 
+# -- measured curves ---------------------------------------------------------------------------
+
+TWO_PI = 2.0 * np.pi
+
+
+@dataclass(frozen=True)
+class MeasuredCurve:
+    r"""A part's stored sweep standing in for its model within the sweep's range (module notes).
+
+    .. math::
+
+        Z(f) = Z_m(f) + j\omega L_{mount} + (\tan\delta - j)\Big(\frac{1}{\omega C_{eff}}
+        - \frac{1}{\omega C}\Big)
+
+    Z_m is the data read between its points with ln|Z| and unwrapped phase linear in ln f
+    (:func:`partsel.jobs.measured.interpolate`); the last term is the series R-L-C model's own
+    change when C falls to C_eff (any circuit-theory text), zero when nothing is lost.
+    """
+
+    f: NDArray            # measured frequencies [Hz], increasing
+    z: NDArray            # measured impedance [ohm]
+    source: str           # the file the sweep came from
+    mount_l: float        # board mounting inductance in series [H]
+    c_model: float        # the part's model capacitance, taken as its C when measured [F]
+    c_eff: float          # its capacitance on the rail [F]
+    tan_delta: float
+
+    @property
+    def band(self) -> tuple[float, float]:
+        return float(self.f[0]), float(self.f[-1])
+
+    def covers(self, band: tuple[float, float]) -> bool:
+        return self.band[0] <= band[0] and band[1] <= self.band[1]
+
+    def impedance(self, f: NDArray) -> NDArray[np.complex128]:
+        """Z at ``f`` [ohm]; NaN outside the measured range."""
+        from partsel.jobs.measured import interpolate
+
+        fa = np.asarray(f, dtype=float)
+        w = TWO_PI * fa
+        z = interpolate(self.f, self.z, fa) + 1j * w * self.mount_l
+        if self.c_eff != self.c_model:
+            z = z + (self.tan_delta - 1j) * (1.0 / (w * self.c_eff) - 1.0 / (w * self.c_model))
+        return z
+
+
+@dataclass(frozen=True)
+class Network:
+    """Branches in parallel where some follow a measured curve: ``model`` holds every branch's
+    model and count, ``measured`` a :class:`MeasuredCurve` per branch or None (the model)."""
+
+    model: pdn.Branches
+    measured: tuple[MeasuredCurve | None, ...]
+
+    def __len__(self) -> int:
+        return len(self.model)
+
+    @property
+    def count(self) -> NDArray:
+        return self.model.count
+
+    def has_measured(self) -> bool:
+        return any(m is not None for m in self.measured)
+
+    def used(self) -> Network:
+        k = np.flatnonzero(self.model.count > 0)
+        m = self.model
+        return Network(pdn.Branches(m.c[k], m.esr[k], m.esl[k], m.tan_delta[k], m.count[k]),
+                       tuple(self.measured[i] for i in k))
+
+    def with_counts(self, counts: NDArray, board: pdn.Branches) -> Network:
+        """These branches with ``counts``, and the board (models) in parallel."""
+        m = self.model
+        bank = pdn.Branches(m.c, m.esr, m.esl, m.tan_delta, np.asarray(counts, dtype=float))
+        if len(board):
+            bank = pdn.Branches.concat(bank, board)
+        return Network(bank, self.measured + (None,) * len(board))
+
+    def impedance(self, f: NDArray) -> NDArray[np.complex128]:
+        """Z of one copy of every branch: shape (B, F); the measured curve where it has data."""
+        fa = np.asarray(f, dtype=float)
+        z = self.model.impedance(fa)
+        for k, m in enumerate(self.measured):
+            if m is not None:
+                zm = m.impedance(fa)
+                inside = np.isfinite(zm)
+                z[k, inside] = zm[inside]
+        return z
+
+    def admittance(self, f: NDArray) -> NDArray[np.complex128]:
+        """Total admittance sum n_k / Z_k [S]: shape (F,)."""
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return np.sum(self.model.count[:, None] / self.impedance(f), axis=0)
+
+    def total(self, f: NDArray) -> NDArray[np.complex128]:
+        """Total impedance [ohm]: shape (F,)."""
+        return 1.0 / self.admittance(f)
+
+    def sample_points(self, f1: float, f2: float) -> NDArray[np.float64]:
+        """The measured points of the used branches inside [f1, f2], and the first frequency
+        on the model's side of each sweep end (where |Z| may jump from data to model)."""
+        pts = [np.empty(0)]
+        for m, n in zip(self.measured, self.model.count, strict=True):
+            if m is not None and n > 0:
+                pts += [m.f[(m.f >= f1) & (m.f <= f2)],
+                        [np.nextafter(m.f[0], 0.0), np.nextafter(m.f[-1], np.inf)]]
+        f = np.concatenate(pts)
+        return np.unique(f[(f >= f1) & (f <= f2)])
+
+    def scan(self, f1: float, f2: float, refine_above: float = 0.0) -> pdn.Scan:
+        """Worst |Z| over [f1, f2] (module notes): the 200-per-decade grid, the lossless
+        anti-resonances of the models (all branches, and the model branches alone) and every
+        measured point, local maxima refined on the interpolated data."""
+        used = self.used()
+        if not len(used):
+            raise ValueError("the bank is empty")
+        m = used.model
+        alone = pdn.Branches(m.c, m.esr, m.esl, m.tan_delta,
+                             np.where([x is None for x in used.measured], m.count, 0.0))
+        points = np.concatenate([used.sample_points(f1, f2), pdn.antiresonances(m),
+                                 pdn.antiresonances(alone)])
+        return pdn.scan_admittance(f1, f2, used.admittance, points, refine_above=refine_above)
+
+
+def measured_curves(store: Store, parts: Parts, band: tuple[float, float]
+                    ) -> tuple[list[MeasuredCurve | None], list[tuple[float, float] | None]]:
+    """Each part's latest stored sweep as a :class:`MeasuredCurve` when it reaches ``band``
+    (else None), and the range of every part's sweep (None: the part has none)."""
+    from partsel.jobs.measured import latest_sweeps_by_id
+
+    sweeps: dict[int, StoredSweep] = latest_sweeps_by_id(store)
+    out: list[MeasuredCurve | None] = []
+    ranges: list[tuple[float, float] | None] = []
+    for i, pid in enumerate(parts.id):
+        sw = sweeps.get(int(pid))
+        ranges.append(None if sw is None else sw.band)
+        if sw is None or sw.band[1] < band[0] or sw.band[0] > band[1]:
+            out.append(None)
+            continue
+        out.append(MeasuredCurve(sw.f, sw.z, sw.source_file or "a sweep",
+                                 float(parts.mount_l[i]), float(parts.value[i]),
+                                 float(parts.c_eff[i]), float(parts.tan_delta[i])))
+    return out, ranges
+
+
+def _not_reaching(curves: Sequence[MeasuredCurve | None],
+                  ranges: Sequence[tuple[float, float] | None]) -> str | None:
+    n = sum(c is None and r is not None for c, r in zip(curves, ranges, strict=True))
+    return (f"{n} capacitor(s) have a stored sweep that does not reach the band: their model "
+            "is used") if n else None
+
+
+def curve_source(curve: MeasuredCurve | None, band: tuple[float, float]) -> str:
+    """'measured' (the sweep covers the band), 'measured + model' or 'model'."""
+    if curve is None:
+        return "model"
+    return "measured" if curve.covers(band) else "measured + model"
+
+
 # -- the search --------------------------------------------------------------------------------
 
 @dataclass
 class Search:
-    """Candidates evaluated on a frequency grid: Y_k(f) of one part, Y of the board."""
+    """Candidates evaluated on a frequency grid: Y_k(f) of one part, Y of the board.
+
+    The candidates are models (``pdn.Branches``) or, in step 5, a :class:`Network` with
+    measured curves: only their values on the grid matter here."""
 
     f: NDArray
     y_parts: NDArray          # (K, F)
@@ -485,13 +676,13 @@ class Search:
     y_target: float           # 1/Z_t, with the grid slack
 
     @classmethod
-    def build(cls, f: NDArray, cands: pdn.Branches, board: pdn.Branches,
+    def build(cls, f: NDArray, cands: pdn.Branches | Network, board: pdn.Branches,
               target: float) -> Search:
         y_parts = 1.0 / cands.impedance(f)
         y_board = board.admittance(f) if len(board) else np.zeros(len(f), dtype=complex)
         return cls(f, y_parts, y_board, (1.0 + _GRID_SLACK) / target)
 
-    def add_frequencies(self, f_new: NDArray, cands: pdn.Branches,
+    def add_frequencies(self, f_new: NDArray, cands: pdn.Branches | Network,
                         board: pdn.Branches) -> Search:
         f = np.concatenate([self.f, f_new])
         y_parts = np.concatenate([self.y_parts, 1.0 / cands.impedance(f_new)], axis=1)
@@ -605,13 +796,14 @@ class Outcome:
 class _Solver:
     """The state of one search: the grid (growing with cuts), the exact check, the limits."""
 
-    def __init__(self, cands: pdn.Branches, board: pdn.Branches, target: float,
+    def __init__(self, cands: pdn.Branches | Network, board: pdn.Branches, target: float,
                  band: tuple[float, float], w: NDArray, price: NDArray,
-                 limits: Limits) -> None:
+                 limits: Limits, grid: NDArray | None = None) -> None:
         self.cands, self.board, self.target, self.band = cands, board, target, band
         self.w, self.price, self.limits = w, price, limits
-        self.search = Search.build(pdn.log_grid(*band, pdn.MIN_PER_DECADE), cands, board,
-                                   target)
+        if grid is None:
+            grid = pdn.log_grid(*band, pdn.MIN_PER_DECADE)
+        self.search = Search.build(grid, cands, board, target)
         self.cap = max(4 * limits.max_parts, 200)
         self.strict = False
         self.stats: dict[str, Any] = {"candidates": len(cands), "greedy_parts": 0,
@@ -751,11 +943,54 @@ def _bank(cands: pdn.Branches, counts: NDArray, board: pdn.Branches) -> pdn.Bran
     return pdn.Branches.concat(bank, board) if len(board) else bank
 
 
+class _MeasuredSolver(_Solver):
+    """The same search on a :class:`Network`: the grid also holds every measured point in the
+    band, and the exact check is :meth:`Network.scan`."""
+
+    def __init__(self, cands: Network, board: pdn.Branches, target: float,
+                 band: tuple[float, float], w: NDArray, price: NDArray,
+                 limits: Limits) -> None:
+        grid = np.unique(np.concatenate([pdn.log_grid(*band, pdn.MIN_PER_DECADE),
+                                         cands.sample_points(*band)]))
+        super().__init__(cands, board, target, band, w, price, limits, grid)
+        self.net = cands
+
+    def scan(self, counts: NDArray) -> pdn.Scan:
+        # as in _Solver.scan: maxima below half the target are left unrefined while searching
+        net = self.net.with_counts(counts, self.board)
+        return net.scan(*self.band, refine_above=0.0 if self.strict else 0.5 * self.target)
+
+
+def solve_measured(cands: Network, board: pdn.Branches, target: float,
+                   band: tuple[float, float], w: NDArray, price: NDArray, limits: Limits,
+                   start: NDArray) -> Outcome:
+    """Step 5 (module notes): from the bank ``start`` planned on the models, add parts until
+    it holds on the measured curves (greedy fill with constraint generation), then remove the
+    parts they do not need (pruning). ``met`` is False when no bank within the limits holds on
+    them; the counts are then the best attempt within the limits."""
+    t0 = time.perf_counter()
+    sv = _MeasuredSolver(cands, board, target, band, w, price, limits)
+    counts, best_within, ok = sv.fill(np.asarray(start, dtype=float))
+    best = sv.prune(counts) if ok and sv.allows(counts) else None
+    if best is not None:
+        sv.strict = True
+        checked, _, ok = sv.fill(best)
+        best = checked if ok and sv.allows(checked) else None
+    sv.stats["seconds"] = time.perf_counter() - t0
+    if best is None:
+        return Outcome(best_within, False, sv.stats)
+    return Outcome(best, True, sv.stats)
+
+
 # -- the result --------------------------------------------------------------------------------
 
 MODEL_TEXT = ("Z_k = esr_ohm + tan_delta/(w c_eff_f) + j(w esl_total_h - 1/(w c_eff_f)), "
               "w = 2 pi f; Z = 1 / sum(count / Z_k) over bank and board (c_eff_f null: no "
               "capacitor, Z_k = esr_ohm + j w esl_total_h)")
+MEASURED_TEXT = ("; a line whose curve_source is not 'model' uses, inside measured_band_hz, "
+                 "the latest stored sweep of the part instead: ln|Z| and unwrapped phase "
+                 "linear in ln f between its points, plus j w mount_l_h, plus (tan_delta - j)"
+                 "(1/(w c_eff_f) - 1/(w value_f))")
 
 
 @dataclass
@@ -776,8 +1011,11 @@ class Result:
     notes: list[str]
     bounds: dict[str, float]
     stats: dict[str, Any]
-    branches: pdn.Branches              # bank lines then board, counts applied
+    branches: pdn.Branches              # bank lines then board, counts applied (models)
     labels: list[str]
+    network: Network | None = None      # the same with measured curves, when any are used
+    model_check: dict[str, Any] | None = None   # the bank on its models alone, when measured
+    measured: bool = False              # measured curves were asked for
 
     @property
     def margin_ohm(self) -> float:
@@ -803,10 +1041,11 @@ class Result:
     def curves(self, f: NDArray) -> list[tuple[str, NDArray]]:
         """(label, Z) of every line (its copies in parallel), the board branches and the
         total, on the frequencies ``f``."""
-        z = self.branches.impedance(f) / np.maximum(self.branches.count, 1.0)[:, None]
+        net = self.network or self.branches
+        z = net.impedance(f) / np.maximum(self.branches.count, 1.0)[:, None]
         out = [(lab, z[i]) for i, lab in enumerate(self.labels)]
         if len(self.branches.used()):
-            out.append(("total", self.branches.total(f)))
+            out.append(("total", net.total(f)))
         return out
 
     def to_dict(self) -> dict[str, Any]:
@@ -818,14 +1057,18 @@ class Result:
             "max_z_ohm": self.max_z, "f_max_z_hz": self.f_max_z,
             "margin_ohm": self.margin_ohm, "margin_db": self.margin_db,
             "parts": self.parts, "lines": len(self.lines), "cost": self.cost,
-            "bank": self.lines, "board": self.board, "model": MODEL_TEXT,
-            "peaks": self.peaks, "failures": self.failures, "explanation": self.explanation,
+            "bank": self.lines, "board": self.board,
+            "model": MODEL_TEXT + (MEASURED_TEXT if self.network is not None else ""),
+            "measured_curves": self.measured, "model_check": self.model_check,
+            "peaks": self.peaks, "failures": self.failures,
+            "explanation": self.explanation,
             "bounds": self.bounds, "effects": self.effects, "notes": self.notes,
             "search": self.stats,
         }
 
 
-def _line(parts: Parts, i: int, count: int) -> dict[str, Any]:
+def _line(parts: Parts, i: int, count: int, curve: MeasuredCurve | None,
+          band: tuple[float, float]) -> dict[str, Any]:
     c, l_tot = float(parts.c_eff[i]), float(parts.l_total[i])
     price = float(parts.price[i])
     return {
@@ -842,6 +1085,9 @@ def _line(parts: Parts, i: int, count: int) -> dict[str, Any]:
         "dielectric": parts.dielectric[i],
         "rated_voltage_v": float(parts.rated_voltage[i]), "lifecycle": parts.lifecycle[i],
         "price": price if math.isfinite(price) else None,
+        "curve_source": curve_source(curve, band),
+        "measured_band_hz": list(curve.band) if curve is not None else None,
+        "sweep_file": curve.source if curve is not None else None,
     }
 
 
@@ -860,7 +1106,8 @@ def _fq(x: float, unit: str) -> str:
     return units.format_quantity(x, unit)
 
 
-def _effects(rail: Rail, parts: Parts, counts: NDArray) -> list[str]:
+def _effects(rail: Rail, parts: Parts, counts: NDArray,
+             curves: Sequence[MeasuredCurve | None] | None = None) -> list[str]:
     b = rail.board
     eff = ["series R-L-C per part: Z = ESR + tan_delta/(2 pi f C) + j(2 pi f (ESL + mounting) "
            "- 1/(2 pi f C)); parts and board added as complex admittances"]
@@ -898,17 +1145,56 @@ def _effects(rail: Rail, parts: Parts, counts: NDArray) -> list[str]:
                                              if b.plane_tan_delta else ", lossless"))
     if b.vrm_r is not None and b.vrm_l is not None:
         eff.append(f"regulator output {_fq(b.vrm_r, 'ohm')} + j 2 pi f {_fq(b.vrm_l, 'H')}")
-    eff.append(f"|Z| checked on {pdn.MIN_PER_DECADE} points per decade plus the lossless "
-               "anti-resonances, every peak refined to rounding")
+    used = [] if curves is None else [(int(i), c) for i in np.flatnonzero(counts)
+                                      if (c := curves[i]) is not None]
+    if curves is None or not used:
+        if curves is not None:
+            eff.append("measured curves: no part in the bank has a stored sweep that reaches "
+                       "the band, so the models stand")
+        eff.append(f"|Z| checked on {pdn.MIN_PER_DECADE} points per decade plus the lossless "
+                   "anti-resonances, every peak refined to rounding")
+        return eff
+    return eff + _measured_effects(rail, parts, counts, used)
+
+
+def _measured_effects(rail: Rail, parts: Parts, counts: NDArray,
+                      used: list[tuple[int, MeasuredCurve]]) -> list[str]:
+    f1, f2 = rail.band
+    items, shifted, points = [], [], 0
+    for i, c in used:
+        pn = str(parts.part_number[i])
+        items.append(f"{pn} from {c.source} ({_fq(c.band[0], 'Hz')} to {_fq(c.band[1], 'Hz')}"
+                     + ("" if c.covers(rail.band) else ", the model outside it") + ")")
+        if c.c_eff != c.c_model:
+            shifted.append(f"{pn} {_fq(c.c_model, 'F')} -> {_fq(c.c_eff, 'F')}")
+        points += int(np.count_nonzero((c.f >= f1) & (c.f <= f2)))
+    others = len(np.flatnonzero(counts)) - len(used)
+    eff = ["measured curves (the latest stored sweep, ln|Z| and phase interpolated linearly in "
+           "ln f) in place of the model for " + "; ".join(items)
+           + (f"; the model for the other {others} line(s)" if others else ""),
+           "mounting inductance added in series to each measured curve (j 2 pi f L_mount, "
+           "values as above)"]
+    if shifted:
+        eff.append(f"capacitance lost at {_fq(rail.voltage, 'V')} bias"
+                   + (" and in the worst case" if rail.worst_case else "")
+                   + " applied to the measured curves as the model's own change, "
+                   "(tan_delta - j)(1/(2 pi f C_eff) - 1/(2 pi f C)), taking each sweep as "
+                   "measured at 0 V on the model's C: " + ", ".join(shifted))
+    eff.append(f"|Z| checked on {pdn.MIN_PER_DECADE} points per decade, the lossless "
+               f"anti-resonances of the models and every measured point in the band ({points}),"
+               " peaks refined on the data interpolated in ln f: with measured curves the "
+               "check is only as fine as the data (a resonance narrower than a sweep's point "
+               "spacing is not seen)")
     return eff
 
 
-def _crossing(bank: pdn.Branches, f_in: float, f_out: float, target: float) -> float:
+def _crossing(total: Callable[[NDArray], NDArray], f_in: float, f_out: float,
+              target: float) -> float:
     """The frequency between f_in (|Z| <= target) and f_out (above) where |Z| = target."""
     a, b = np.log(f_in), np.log(f_out)
     for _ in range(60):
         m = 0.5 * (a + b)
-        if abs(bank.total(np.array([np.exp(m)]))[0]) > target:
+        if abs(total(np.array([np.exp(m)]))[0]) > target:
             b = m
         else:
             a = m
@@ -916,12 +1202,16 @@ def _crossing(bank: pdn.Branches, f_in: float, f_out: float, target: float) -> f
 
 
 def diagnose(rail: Rail, bank: pdn.Branches, sc: pdn.Scan, pool: Parts | None,
-             limits: str) -> tuple[list[dict[str, Any]], list[str]]:
+             limits: str, network: Network | None = None
+             ) -> tuple[list[dict[str, Any]], list[str]]:
     """Which parts of the band exceed the target, and why, with the numbers.
 
     ``pool`` holds the parts the planner could use (for "the best part has ..."); ``limits``
-    says which limits bound the bank (empty for a check).
+    says which limits bound the bank (empty for a check). With a ``network`` (measured
+    curves), its |Z| decides where the band fails and the kind of failure; the capacitance and
+    inductance figures are the models'.
     """
+    total = (network or bank).total
     zt, (f1, f2) = rail.design_target, rail.band
     limit = zt * (1.0 + _CHECK_SLACK)
     mag = np.abs(sc.z)
@@ -937,14 +1227,14 @@ def diagnose(rail: Rail, bank: pdn.Branches, sc: pdn.Scan, pool: Parts | None,
     l_bank = float(1.0 / inv_l) if inv_l > 0 else math.inf
     failures, text = [], []
     for a, b in zip(edges[::2], edges[1::2] - 1, strict=True):
-        fa = f1 if a == 0 else _crossing(bank, sc.f[a - 1], sc.f[a], zt)
-        fb = f2 if b == len(sc.f) - 1 else _crossing(bank, sc.f[b + 1], sc.f[b], zt)
+        fa = f1 if a == 0 else _crossing(total, sc.f[a - 1], sc.f[a], zt)
+        fb = f2 if b == len(sc.f) - 1 else _crossing(total, sc.f[b + 1], sc.f[b], zt)
         in_range = (sc.peak_f >= sc.f[a] * (1 - 1e-12)) & (sc.peak_f <= sc.f[b] * (1 + 1e-12))
         cand_f = np.concatenate([sc.f[a:b + 1], sc.peak_f[in_range]])
         cand_z = np.concatenate([mag[a:b + 1], sc.peak_z[in_range]])
         k = int(np.argmax(cand_z))
         fw, zw = float(cand_f[k]), float(cand_z[k])
-        z = complex(bank.total(np.array([fw]))[0])
+        z = complex(total(np.array([fw]))[0])
         where = (f"from {_fq(fa, 'Hz')} to {_fq(fb, 'Hz')}" if a > 0 and b < len(sc.f) - 1
                  else f"below {_fq(fb, 'Hz')}" if a == 0 and b < len(sc.f) - 1
                  else f"above {_fq(fa, 'Hz')}" if a > 0 else "over the whole band")
@@ -996,48 +1286,100 @@ def diagnose(rail: Rail, bank: pdn.Branches, sc: pdn.Scan, pool: Parts | None,
     return failures, text
 
 
+PEAK_WINDOW_DECADES = 0.05   # measured curves: a listed peak tops |Z| within this either side
+
+
 def _result(rail: Rail, mode: Literal["plan", "check"], parts: Parts, counts: NDArray,
             notes: list[str], stats: dict[str, Any], pool: Parts | None,
-            limits: str) -> Result:
+            limits: str, curves: Sequence[MeasuredCurve | None] | None = None) -> Result:
     used = np.flatnonzero(counts > 0)
     order = used[np.argsort(-parts.c_eff[used], kind="stable")]
-    lines = [_line(parts, int(i), int(counts[i])) for i in order]
+    curve = [None if curves is None else curves[i] for i in order]
+    lines = [_line(parts, int(i), int(counts[i]), c, rail.band)
+             for i, c in zip(order, curve, strict=True)]
     board, board_labels = rail.board.branches()
     mine = parts.take(order).branches(counts[order])
     bank = pdn.Branches.concat(mine, board) if len(board) else mine
+    net = Network(bank, tuple(curve) + (None,) * len(board))
+    network = net if net.has_measured() else None
     labels = [f"{r['count']} x {r['part_number']}" for r in lines] + board_labels
     c_min, l_max = pdn.band_bounds(rail.design_target, *rail.band)
     bounds = {"c_min_f": float(c_min), "l_max_h": float(l_max)}
-    effects = _effects(rail, parts, counts)
+    effects = _effects(rail, parts, counts, curves)
     if len(bank.used()) == 0:
         explanation = ["No part fits the limits, so there is no bank to evaluate: raise "
                        "--max-cost or --max-parts."]
         return Result(rail, mode, False, lines, _board_lines(rail.board), math.inf,
                       rail.band[0], [], [], explanation, effects, notes, bounds, stats, bank,
-                      labels)
-    sc = pdn.scan(*rail.band, bank)
-    met = sc.max_z <= rail.design_target * (1.0 + _CHECK_SLACK)
+                      labels, measured=curves is not None)
+    limit = rail.design_target * (1.0 + _CHECK_SLACK)
+    sc = pdn.scan(*rail.band, bank) if network is None else network.scan(*rail.band)
+    met = sc.max_z <= limit
     in_band = (sc.peak_f > rail.band[0]) & (sc.peak_f < rail.band[1])
+    if network is not None:
+        in_band &= _prominent(sc)
     peaks = [{"f_hz": float(f), "z_ohm": float(z), "ratio": float(z / rail.target)}
              for f, z in zip(sc.peak_f[in_band], sc.peak_z[in_band], strict=True)]
-    failures, explanation = ([], []) if met else diagnose(rail, bank, sc, pool, limits)
+    failures, explanation = ([], []) if met else diagnose(rail, bank, sc, pool, limits,
+                                                          network)
+    model_check = None
+    if network is not None:
+        msc = pdn.scan(*rail.band, bank)
+        model_check = {"max_z_ohm": msc.max_z, "f_max_z_hz": msc.f_max,
+                       "met": bool(msc.max_z <= limit)}
+        effects.append(f"on the models alone the worst |Z| is {_fq(msc.max_z, 'ohm')} at "
+                       f"{_fq(msc.f_max, 'Hz')} (target "
+                       f"{'met' if model_check['met'] else 'not met'})")
+        if model_check["met"] != met:
+            explanation.append(
+                f"The measured curves and the models disagree: on the models this bank "
+                f"{'holds' if model_check['met'] else 'fails'} (worst "
+                f"{_fq(msc.max_z, 'ohm')} at {_fq(msc.f_max, 'Hz')}), on the measured curves "
+                f"it {'holds' if met else 'fails'} (worst {_fq(sc.max_z, 'ohm')} at "
+                f"{_fq(sc.f_max, 'Hz')}).")
     c_bank = float(np.sum(bank.count * np.where(np.isfinite(bank.c), bank.c, 0.0)))
     with np.errstate(divide="ignore"):
         inv_l = float(np.sum(np.where(bank.esl > 0, bank.count / bank.esl, 0.0)))
     bounds.update(bank_c_f=c_bank, bank_l_h=1.0 / inv_l if inv_l > 0 else math.inf)
     return Result(rail, mode, bool(met), lines, _board_lines(rail.board), sc.max_z, sc.f_max,
-                  peaks, failures, explanation, effects, notes, bounds, stats, bank, labels)
+                  peaks, failures, explanation, effects, notes, bounds, stats, bank, labels,
+                  network, model_check, curves is not None)
 
 
-def plan(store: Store, rail: Rail, choice: Choice | None = None) -> Result:
-    """Plan a bank for ``rail`` from the capacitors in ``store`` (module notes)."""
+def _prominent(sc: pdn.Scan) -> NDArray[np.bool_]:
+    """Which refined peaks top |Z| within :data:`PEAK_WINDOW_DECADES` on either side: noise in
+    measured data makes many tiny local maxima that are no anti-resonance."""
+    f = np.concatenate([sc.f, sc.peak_f])
+    z = np.concatenate([np.abs(sc.z), sc.peak_z])
+    lf = np.log10(f)
+    out = np.empty(len(sc.peak_f), dtype=bool)
+    for k, (fp, zp) in enumerate(zip(np.log10(sc.peak_f), sc.peak_z, strict=True)):
+        near = np.abs(lf - fp) <= PEAK_WINDOW_DECADES
+        out[k] = zp >= z[near].max()
+    return out
+
+
+def plan(store: Store, rail: Rail, choice: Choice | None = None, *, measured: bool = False,
+         measured_only: bool = False) -> Result:
+    """Plan a bank for ``rail`` from the capacitors in ``store`` (module notes).
+
+    ``measured`` uses each part's latest stored sweep in place of its model where the sweep
+    has points; ``measured_only`` plans with only the parts whose sweep covers the whole band
+    (module notes, measured curves).
+    """
     choice = choice or Choice()
     rail.validate()
     choice.validate()
     t0 = time.perf_counter()
     parts, notes, considered = load_candidates(store, rail, choice)
+    curves: list[MeasuredCurve | None] | None = None
+    if measured or measured_only:
+        parts, curves = _measured_pool(store, parts, rail.band, measured_only, notes)
     w = weights(parts, choice.prefer, choice.max_parts)
     idx = reduce_candidates(parts, w, rail.band, per_bin=1 if choice.prefer == "count" else 3)
+    if curves is not None:
+        # parts measured over the band stay candidates whatever their model's bin
+        idx = np.union1d(idx, [i for i, c in enumerate(curves) if c is not None]).astype(np.intp)
     cands = parts.take(idx)
     board, _ = rail.board.branches()
     limits = Limits(choice.max_parts, choice.max_cost, choice.max_lines)
@@ -1045,13 +1387,81 @@ def plan(store: Store, rail: Rail, choice: Choice | None = None) -> Result:
                 limits)
     stats = {"considered": considered, "usable": len(parts), **out.stats,
              "prefer": choice.prefer}
-    res = _result(rail, "plan", cands, out.counts, notes, stats, parts, limits.text())
+    cand_curves = None if curves is None else [curves[i] for i in idx]
+    story: tuple[list[str], list[str]] = ([], [])
+    if cand_curves is not None and any(c is not None for c in cand_curves):
+        net = Network(cands.branches(), tuple(cand_curves))
+        on_data = solve_measured(net, board, rail.design_target, rail.band, w[idx],
+                                 cands.price, limits, out.counts)
+        story = _measured_story(rail, cands, net, board, out, on_data)
+        stats["measured"] = on_data.stats
+        out = on_data
+    res = _result(rail, "plan", cands, out.counts, notes, stats, parts, limits.text(),
+                  cand_curves)
+    res.effects += story[0]
+    res.explanation[:0] = story[1]
     res.effects.insert(2, "minimum rated voltage: " + (
         _fq(choice.min_voltage, "V") if choice.min_voltage is not None else
         f"{_fq(rail.voltage * DEFAULT_VOLTAGE_MARGIN, 'V')} (1.25 x rail; tantalum 2 x, "
         f"polymer {polymer_margin(rail.voltage):.3g} x)"))
     res.stats["seconds"] = time.perf_counter() - t0
     return res
+
+
+def _measured_pool(store: Store, parts: Parts, band: tuple[float, float], only: bool,
+                   notes: list[str]) -> tuple[Parts, list[MeasuredCurve | None]]:
+    """The parts' measured curves; with ``only``, only the parts whose sweep covers ``band``."""
+    curves, ranges = measured_curves(store, parts, band)
+    if not only:
+        if (text := _not_reaching(curves, ranges)) is not None:
+            notes.append(text)
+        return parts, curves
+    keep = np.array([c is not None and c.covers(band) for c in curves], dtype=bool)
+    left = len(parts) - int(keep.sum())
+    if left:
+        partial = sum(c is not None for c in curves) - int(keep.sum())
+        notes.append(f"{left} capacitors left out by --measured-only: no stored sweep covers "
+                     f"the whole band ({partial} cover part of it)")
+    if not keep.any():
+        raise QueryError(f"no capacitor that passes the filters has a stored sweep covering "
+                         f"{_fq(band[0], 'Hz')}..{_fq(band[1], 'Hz')}: import sweeps with "
+                         "'partsel sweep import', narrow --band, or use --measured")
+    idx = np.flatnonzero(keep)
+    return parts.take(idx), [curves[i] for i in idx]
+
+
+def _count_changes(parts: Parts, before: NDArray, after: NDArray) -> str:
+    diff = np.asarray(after) - np.asarray(before)
+    return ", ".join(f"{int(diff[i]):+d} {parts.part_number[i]}" for i in np.flatnonzero(diff))
+
+
+def _measured_story(rail: Rail, cands: Parts, net: Network, board: pdn.Branches,
+                    on_models: Outcome, on_data: Outcome) -> tuple[list[str], list[str]]:
+    """What step 5 did, as (effects, explanation): the bank planned on the models checked on
+    the measured curves, and the parts added or removed there."""
+    start = on_models.counts
+    effects = ["planned on the models first (the candidate reduction by SRF and loss and the "
+               "anti-resonance search need their R-L-C structure), then checked, completed "
+               "and pruned on the measured curves"]
+    if not start.any() and not len(board):
+        return effects, []
+    sc = net.with_counts(start, board).scan(*rail.band)
+    holds = sc.max_z <= rail.design_target * (1.0 + _CHECK_SLACK)
+    n0, n1 = int(start.sum()), int(on_data.counts.sum())
+    changes = _count_changes(cands, start, on_data.counts)
+    head = (f"The bank planned on the models ({n0} parts, "
+            f"{'holding' if on_models.met else 'failing'} there) "
+            f"{'holds' if holds else 'fails'} on the measured curves (worst "
+            f"{_fq(sc.max_z, 'ohm')} at {_fq(sc.f_max, 'Hz')})")
+    if holds and not changes:
+        effects.append(head[0].lower() + head[1:] + "; nothing changed there")
+        return effects, []
+    if on_data.met:
+        tail = (f": on them {n1} parts hold ({changes})." if changes else ".")
+    else:
+        tail = ("; no bank within the limits was found that holds on them"
+                + (f" (the best attempt: {changes})" if changes else "") + ".")
+    return effects, [head + tail]
 
 
 # -- checking a given bank ---------------------------------------------------------------------
@@ -1113,8 +1523,13 @@ def read_bank(path: str | Path) -> list[BankEntry]:
     return out
 
 
-def check(store: Store, rail: Rail, entries: Sequence[BankEntry]) -> Result:
-    """Evaluate a given bank against ``rail`` with the same models as :func:`plan`."""
+def check(store: Store, rail: Rail, entries: Sequence[BankEntry], *, measured: bool = False,
+          measured_only: bool = False) -> Result:
+    """Evaluate a given bank against ``rail`` with the same models as :func:`plan`.
+
+    ``measured`` uses each part's latest stored sweep in place of its model where the sweep
+    has points; ``measured_only`` refuses a part whose sweep does not cover the whole band.
+    """
     rail.validate()
     if not entries:
         raise QueryError("the bank is empty: list at least one part")
@@ -1152,7 +1567,26 @@ def check(store: Store, rail: Rail, entries: Sequence[BankEntry]) -> Result:
     for key in ("value", "tolerance", "esr", "esl", "tan_delta", "rated_voltage", "price"):
         cols[key] = np.array([np.nan if r.get(key) is None else float(r[key]) for r in rows])
     parts = _parts_from(cols, rail)
+    curves = None
+    if measured or measured_only:
+        curves, ranges = measured_curves(store, parts, rail.band)
+        if measured_only:
+            _refuse_uncovered(parts, curves, ranges, rail.band)
+        elif (text := _not_reaching(curves, ranges)) is not None:
+            notes.append(text)
     counts = np.array([e.count for e in entries], dtype=float)
-    res = _result(rail, "check", parts, counts, notes, {}, None, "")
+    res = _result(rail, "check", parts, counts, notes, {}, None, "", curves)
     res.stats["seconds"] = time.perf_counter() - t0
     return res
+
+
+def _refuse_uncovered(parts: Parts, curves: Sequence[MeasuredCurve | None],
+                      ranges: Sequence[tuple[float, float] | None],
+                      band: tuple[float, float]) -> None:
+    for pn, c, r in zip(parts.part_number, curves, ranges, strict=True):
+        if r is None:
+            raise QueryError(f"{pn} has no stored measured sweep; leave out --measured-only to "
+                             "use its model")
+        if c is None or not c.covers(band):
+            raise QueryError(f"{pn} was measured from {_fq(r[0], 'Hz')} to {_fq(r[1], 'Hz')} "
+                             "only; narrow --band to that range or use --measured")
