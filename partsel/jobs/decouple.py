@@ -971,6 +971,7 @@ def solve_measured(cands: Network, board: pdn.Branches, target: float,
     t0 = time.perf_counter()
     sv = _MeasuredSolver(cands, board, target, band, w, price, limits)
     counts, best_within, ok = sv.fill(np.asarray(start, dtype=float))
+    sv.stats["greedy_parts"] = int(counts.sum())
     best = sv.prune(counts) if ok and sv.allows(counts) else None
     if best is not None:
         sv.strict = True
@@ -1330,7 +1331,8 @@ def _result(rail: Rail, mode: Literal["plan", "check"], parts: Parts, counts: ND
         effects.append(f"on the models alone the worst |Z| is {_fq(msc.max_z, 'ohm')} at "
                        f"{_fq(msc.f_max, 'Hz')} (target "
                        f"{'met' if model_check['met'] else 'not met'})")
-        if model_check["met"] != met:
+        if model_check["met"] != met and mode == "check":
+            # (a plan tells the same in the story of its step 5)
             explanation.append(
                 f"The measured curves and the models disagree: on the models this bank "
                 f"{'holds' if model_check['met'] else 'fails'} (worst "
@@ -1453,8 +1455,11 @@ def _measured_story(rail: Rail, cands: Parts, net: Network, board: pdn.Branches,
             f"{'holding' if on_models.met else 'failing'} there) "
             f"{'holds' if holds else 'fails'} on the measured curves (worst "
             f"{_fq(sc.max_z, 'ohm')} at {_fq(sc.f_max, 'Hz')})")
-    if holds and not changes:
-        effects.append(head[0].lower() + head[1:] + "; nothing changed there")
+    if holds and not changes and on_models.met:
+        measured = any(c is not None for c, n in zip(net.measured, start, strict=True) if n)
+        effects.append(head[0].lower() + head[1:] + "; nothing changed there" if measured else
+                       "no part of the bank planned on the models has a measured curve over "
+                       "the band, and no measured part does better there")
         return effects, []
     if on_data.met:
         tail = (f": on them {n1} parts hold ({changes})." if changes else ".")
