@@ -559,10 +559,6 @@ class Network:
     def __len__(self) -> int:
         return len(self.model)
 
-    @property
-    def count(self) -> NDArray:
-        return self.model.count
-
     def has_measured(self) -> bool:
         return any(m is not None for m in self.measured)
 
@@ -1161,14 +1157,14 @@ def _effects(rail: Rail, parts: Parts, counts: NDArray,
 def _measured_effects(rail: Rail, parts: Parts, counts: NDArray,
                       used: list[tuple[int, MeasuredCurve]]) -> list[str]:
     f1, f2 = rail.band
-    items, shifted, points = [], [], 0
+    items, shifted, points = [], [], [np.empty(0)]
     for i, c in used:
         pn = str(parts.part_number[i])
         items.append(f"{pn} from {c.source} ({_fq(c.band[0], 'Hz')} to {_fq(c.band[1], 'Hz')}"
                      + ("" if c.covers(rail.band) else ", the model outside it") + ")")
         if c.c_eff != c.c_model:
             shifted.append(f"{pn} {_fq(c.c_model, 'F')} -> {_fq(c.c_eff, 'F')}")
-        points += int(np.count_nonzero((c.f >= f1) & (c.f <= f2)))
+        points.append(c.f[(c.f >= f1) & (c.f <= f2)])
     others = len(np.flatnonzero(counts)) - len(used)
     eff = ["measured curves (the latest stored sweep, ln|Z| and phase interpolated linearly in "
            "ln f) in place of the model for " + "; ".join(items)
@@ -1182,7 +1178,8 @@ def _measured_effects(rail: Rail, parts: Parts, counts: NDArray,
                    "(tan_delta - j)(1/(2 pi f C_eff) - 1/(2 pi f C)), taking each sweep as "
                    "measured at 0 V on the model's C: " + ", ".join(shifted))
     eff.append(f"|Z| checked on {pdn.MIN_PER_DECADE} points per decade, the lossless "
-               f"anti-resonances of the models and every measured point in the band ({points}),"
+               "anti-resonances of the models and every measured point in the band "
+               f"({np.unique(np.concatenate(points)).size}),"
                " peaks refined on the data interpolated in ln f: with measured curves the "
                "check is only as fine as the data (a resonance narrower than a sweep's point "
                "spacing is not seen)")
@@ -1459,7 +1456,7 @@ def _measured_story(rail: Rail, cands: Parts, net: Network, board: pdn.Branches,
         measured = any(c is not None for c, n in zip(net.measured, start, strict=True) if n)
         effects.append(head[0].lower() + head[1:] + "; nothing changed there" if measured else
                        "no part of the bank planned on the models has a measured curve over "
-                       "the band, and no measured part does better there")
+                       "the band, so the measured curves change nothing")
         return effects, []
     if on_data.met:
         tail = (f": on them {n1} parts hold ({changes})." if changes else ".")
