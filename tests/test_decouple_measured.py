@@ -263,6 +263,25 @@ def test_higher_esr_in_the_data_fails_the_model_bank_and_the_planner_adds_parts(
     assert_worst_is_real_and_maximal(limited, sweeps)
 
 
+def test_better_data_let_the_planner_remove_parts(cli, make_store):
+    # P measured with a third of its catalog ESR: the model's bank holds on the data with
+    # parts to spare, and pruning on the data removes them
+    f = np.geomspace(1e5, 1e9, 1601)
+    sweeps = {"P": (f, capacitor.impedance(f, 1e-6, 0.010 / 3, 0.5e-9))}
+    store = with_sweeps(make_store, ESR_ROWS, sweeps)
+    code, planned, _ = run_json(cli, store, *ESR_ARGS, "--measured")
+    one = {**planned, "bank": [{**planned["bank"][0], "count": 1}], "board": []}
+    # derived: n identical parts in parallel divide Z by n
+    n_model = math.ceil(dense_max({**one, "bank": [{**one["bank"][0],
+                                                    "curve_source": "model"}]}, sweeps) / 0.004)
+    n_data = math.ceil(dense_max(one, sweeps) / 0.004)
+    assert code == 0 and n_data < n_model and planned["parts"] == n_data
+    assert planned["model_check"]["met"] is False
+    assert_worst_is_real_and_maximal(planned, sweeps)
+    assert "holds on the measured curves" in planned["explanation"][0]
+    assert f"{n_data - n_model:+d} P" in planned["explanation"][0]
+
+
 def test_a_resonance_between_grid_points_is_found_at_the_measured_points(make_store, cli,
                                                                           tmp_path):
     # A's data carry a narrow extra resonance (Q 100, 0.004 decade wide) half-way between two
