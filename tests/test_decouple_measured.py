@@ -166,6 +166,8 @@ def test_total_with_measured_branches_equals_an_independent_evaluation(make_stor
     f = np.concatenate([np.geomspace(1e5 / 3, 3e9, 3001), PARTIAL[:3],
                         np.nextafter(PARTIAL[:1], 0)])
     curves = dict(res.curves(f))
+    # reference: the documented model text evaluated independently (scipy interpolation of the
+    # data, circuit theory for the rest)
     assert_allclose(curves["total"], z_independent(data, sweeps, f), rtol=1e-9)
     # a line's curve is its copies in parallel
     assert_allclose(curves["3 x A"], z_independent(
