@@ -92,6 +92,7 @@ from partsel.engine import ceramic, pdn
 from partsel.errors import FileFormatError, ModelError, QueryError
 from partsel.jobs.models import BIAS_SOURCES, bias_ratio_columns
 from partsel.store.db import Store
+from partsel.store.query import membership
 
 if TYPE_CHECKING:
     from partsel.jobs.measured import StoredSweep
@@ -381,19 +382,10 @@ def _where(choice: Choice) -> tuple[str, list[Any]]:
     if choice.lifecycles:
         conds.append("list_contains(?, coalesce(lower(lifecycle), 'active'))")
         params.append([x.lower() for x in choice.lifecycles])
-    for col, values, fold in (("\"case\"", choice.cases, False),
-                              ("dielectric", choice.dielectrics, True),
-                              ("technology", choice.technologies, True),
-                              ("maker", choice.makers, True)):
-        if values:
-            if fold:
-                conds.append(f"list_contains(?, lower({col}))")
-                params.append([v.lower() for v in values])
-            else:
-                conds.append(f"list_contains(?, {col})")
-                params.append(list(values))
-    if choice.in_stock:
-        conds.append("stock > 0")
+    more, more_params = membership(choice.cases, choice.dielectrics, choice.technologies,
+                                   choice.makers, choice.in_stock)
+    conds += more
+    params += more_params
     return " AND ".join(conds), params
 
 
