@@ -26,6 +26,8 @@ import sys
 import time
 from pathlib import Path
 
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))  # run from a checkout
+
 OUT = Path(__file__).parent / "out"
 RAIL = ["decouple", "--rail", "1.0V", "--ripple", "3%", "--step", "10A", "--band",
         "10kHz..100MHz"]

@@ -5,12 +5,16 @@ Run: python bench/bench_fit.py
 
 from __future__ import annotations
 
+import sys
 import time
+from pathlib import Path
 
 import numpy as np
 
-from partsel.engine import capacitor, inductor
-from partsel.engine.fit import fit_capacitor, fit_inductor
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))  # run from a checkout
+
+from partsel.engine import capacitor, inductor  # noqa: E402
+from partsel.engine.fit import fit_capacitor, fit_inductor  # noqa: E402
 
 
 def _noisy(z: np.ndarray, rng: np.random.Generator, level: float = 0.02) -> np.ndarray:
