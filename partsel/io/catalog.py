@@ -32,6 +32,17 @@ def file_type(path: Path) -> str:
     return kind
 
 
+def _read_xlsx(p: Path) -> pd.DataFrame:
+    """The first sheet as text: calamine (compiled, about 6x faster than openpyxl on large
+    sheets) where installed, else openpyxl."""
+    try:
+        import python_calamine  # noqa: F401
+        engine = "calamine"
+    except ImportError:
+        engine = "openpyxl"
+    return pd.read_excel(p, dtype=str, keep_default_na=False, engine=engine)
+
+
 def read_cells(path: str | Path) -> pd.DataFrame:
     """The file's table as strings; the header row gives the column names as written."""
     p = Path(path)
@@ -44,7 +55,7 @@ def read_cells(path: str | Path) -> pd.DataFrame:
         if kind == "csv":
             df = _read_csv(p)
         elif kind == "xlsx":
-            df = pd.read_excel(p, dtype=str, keep_default_na=False, engine="openpyxl")
+            df = _read_xlsx(p)
         else:
             df = pd.read_parquet(p)
     except CatalogError:
