@@ -159,3 +159,15 @@ def test_importer_never_crashes_and_never_accepts_garbage(cells):
     for col in ("esr", "esl", "rated_voltage", "srf"):
         v = frame[col].iat[0]
         assert v is None or (v == v and 0 <= v < float("inf"))
+
+
+def test_spreadsheet_habits_windows_1252_and_lost_leading_zeros(tmp_path, make_store):
+    # a CSV written as Windows-1252 (the micro sign as byte 0xB5) and a case code that a
+    # spreadsheet printed as the number 402 (EIA case codes are four digits: 0402)
+    path = tmp_path / "win.csv"
+    path.write_bytes("part_number,maker,kind,value,case\nW1,Winco,capacitor,0.1 µF,402\n"
+                     .encode("cp1252"))
+    with open_store(tmp_path / "w.duckdb", write=True) as s:
+        import_catalog(s, path)
+        value, case = s.con.execute("SELECT value, \"case\" FROM parts").fetchone()
+    assert value == pytest.approx(1e-7) and case == "0402"

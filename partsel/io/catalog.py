@@ -106,8 +106,20 @@ def _as_text(col: pd.Series) -> pd.Series:
     return out
 
 
+def _encoding(p: Path) -> str:
+    """UTF-8 (with or without a byte-order mark), else Windows-1252: the two encodings that
+    spreadsheet programs write CSV in. Bytes that are not valid UTF-8 are read as Windows-1252
+    (which decodes every byte, so 'µ' written by such a program comes out right)."""
+    try:
+        p.read_bytes().decode("utf-8")
+    except UnicodeDecodeError:
+        return "cp1252"
+    return "utf-8-sig"
+
+
 def _read_csv(p: Path) -> pd.DataFrame:
-    with p.open("r", encoding="utf-8-sig", newline="") as fh:
+    encoding = _encoding(p)
+    with p.open("r", encoding=encoding, newline="") as fh:
         sample = fh.read(65536)
     if not sample.strip():
         raise CatalogError(f"{p.name} is empty: a catalog has a header row and one part per row")
@@ -116,7 +128,7 @@ def _read_csv(p: Path) -> pd.DataFrame:
     except csv.Error:
         delimiter = ","
     try:
-        return pd.read_csv(p, dtype=str, keep_default_na=False, encoding="utf-8-sig",
+        return pd.read_csv(p, dtype=str, keep_default_na=False, encoding=encoding,
                            sep=delimiter, skip_blank_lines=True, on_bad_lines="error")
     except pd.errors.ParserError as exc:
         raise CatalogError(f"cannot read {p.name}: {str(exc).strip()} (every row must have "

@@ -306,7 +306,8 @@ def parse_catalog(cells: pd.DataFrame) -> tuple[pd.DataFrame, list[Problem]]:
         out["tolerance"] = _parse_unique(tol_keyed, parse_tol, "tolerance", problems, rows)
     else:
         out["tolerance"] = None
-    out["case"] = cells["case"].where(cells["case"] != "", None) if "case" in cells else None
+    out["case"] = cells["case"].map(normalise_case).where(cells["case"] != "", None) \
+        if "case" in cells else None
     _check_rows(out, rows, problems)
     _provenance(out, cells, rows, problems)
     known = set(NAMES) | {p + "_source" for p in MODEL_PARAMETERS}
