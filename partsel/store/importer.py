@@ -33,7 +33,7 @@ from partsel.catalog import (
     REQUIRED,
 )
 from partsel.errors import CatalogError, PartselError
-from partsel.io.catalog import normalise_header, read_cells
+from partsel.io.catalog import normalise_case, normalise_header, read_cells
 from partsel.io.mapping import Mapping, apply_mapping
 from partsel.store.db import Store
 
