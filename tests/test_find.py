@@ -188,3 +188,17 @@ def test_srf_ratio_floor(make_store):
         got = find(s, Search("inductor", inductive_to=20e6, srf_ratio=10.0))
     assert [r["part_number"] for r in got.rows] == ["X12"]
     assert got.rows[0]["srf_ratio"] == pytest.approx(12.0)
+
+
+def test_inductor_band_search_leaves_out_parts_without_srf(make_store):
+    # derived: without C_p the model's |Z| = |DCR + j w L| rises for ever, so a part with no SRF
+    # would always pass an "above" limit; it is left out and the note says so
+    rows = [{"part_number": "NOSRF", "maker": "Testco", "kind": "inductor", "value": "220uH",
+             "dcr": "0.2ohm"},
+            {"part_number": "SRF30", "maker": "Testco", "kind": "inductor", "value": "10uH",
+             "dcr": "0.1ohm", "srf": "30MHz", "rp": "5kohm"}]
+    store = make_store(rows)
+    with open_store(store) as s:
+        got = find(s, Search("inductor", band=(10e6, 20e6), above=100.0, limit=0))
+    assert [r["part_number"] for r in got.rows] == ["SRF30"]
+    assert any("without an SRF left out" in n for n in got.notes)

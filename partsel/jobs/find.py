@@ -186,12 +186,16 @@ def find(store: Store, search: Search) -> FindResult:
         effects.append("inductor model: (L + DCR) parallel to C_p = 1/((2 pi SRF)^2 L) and Rp")
         ok = np.isfinite(value)
         metrics = {"zero_phase_hz": inductor.zero_phase_frequency(value, dcr, cp)}
-        if search.inductive_to is not None:
+        if search.inductive_to is not None or search.band is not None:
+            # without an SRF the model has no winding capacitance and would claim a rising
+            # |Z| and a positive phase at every frequency: such parts cannot be judged
             known = np.isfinite(a["srf"])
             if (~known & ok).any():
                 notes.append(f"{_count(int((~known & ok).sum()), 'inductor')} without an SRF "
                              "left out: their self-resonance cannot be checked")
-            ok &= known & inductor.is_inductive_to(search.inductive_to, value, dcr, cp)
+            ok &= known
+        if search.inductive_to is not None:
+            ok &= inductor.is_inductive_to(search.inductive_to, value, dcr, cp)
             metrics["srf_margin"] = metrics["zero_phase_hz"] / search.inductive_to
             metrics["srf_ratio"] = a["srf"] / search.inductive_to
             if search.srf_ratio > 1.0:
