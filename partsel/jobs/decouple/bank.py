@@ -1,0 +1,147 @@
+"""Checking a given bank: the bank file reader and the check against a rail."""
+
+from __future__ import annotations
+
+import csv
+import math
+import time
+from collections.abc import Sequence
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+from numpy.typing import NDArray
+
+from partsel.errors import FileFormatError, ModelError, QueryError
+from partsel.jobs.decouple.candidates import Parts, _parts_from, minimum_rated_voltage
+from partsel.jobs.decouple.evaluate import _result
+from partsel.jobs.decouple.inputs import Rail
+from partsel.jobs.decouple.measured import MeasuredCurve, _not_reaching, measured_curves
+from partsel.jobs.decouple.result import Result, _fq
+from partsel.store.db import Store
+
+
+@dataclass(frozen=True)
+class BankEntry:
+    """One row of a bank file: a part number, how many, and optionally its maker."""
+
+    part_number: str
+    count: int
+    maker: str | None = None
+
+
+def read_bank(path: str | Path) -> list[BankEntry]:
+    """Read a bank file: CSV with a header naming ``part_number`` and ``count`` (and
+    optionally ``maker``); blank lines and lines starting with '#' are skipped."""
+    p = Path(path)
+    try:
+        text = p.read_text(encoding="utf-8-sig")
+    except FileNotFoundError:
+        raise FileFormatError(f"no bank file {p}: give a CSV with part_number,count "
+                              "rows") from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise FileFormatError(f"cannot read the bank file {p}: {exc}") from None
+    lines = [(n, ln) for n, ln in enumerate(text.splitlines(), 1)
+             if ln.strip() and not ln.lstrip().startswith("#")]
+    if not lines:
+        raise FileFormatError(f"the bank file {p} is empty: write a header part_number,count "
+                              "and one row per part")
+    rows = list(csv.reader([ln for _, ln in lines]))
+    header = [h.strip().lower() for h in rows[0]]
+    if "part_number" not in header or "count" not in header:
+        raise FileFormatError(f"{p}, line {lines[0][0]}: the header must name part_number and "
+                              f"count (and optionally maker), found {', '.join(header)}")
+    ip, ic = header.index("part_number"), header.index("count")
+    im = header.index("maker") if "maker" in header else None
+    out: list[BankEntry] = []
+    seen: dict[tuple[str, str | None], int] = {}
+    for (n, _), row in zip(lines[1:], rows[1:], strict=True):
+        cells = [c.strip() for c in row] + [""] * len(header)
+        pn, cnt = cells[ip], cells[ic]
+        maker = cells[im] or None if im is not None else None
+        if not pn:
+            raise FileFormatError(f"{p}, line {n}: the part number is empty")
+        try:
+            value = float(cnt)
+        except ValueError:
+            value = math.nan
+        if not (math.isfinite(value) and value == int(value) and value >= 1):
+            raise FileFormatError(f"{p}, line {n}: count '{cnt}' must be a whole number >= 1")
+        key = (pn.lower(), maker.lower() if maker else None)
+        if key in seen:
+            raise FileFormatError(f"{p}, line {n}: {pn} is listed again (first on line "
+                                  f"{seen[key]}): give one row with the total count")
+        seen[key] = n
+        out.append(BankEntry(pn, int(value), maker))
+    if not out:
+        raise FileFormatError(f"the bank file {p} has a header but no parts")
+    return out
+
+
+def check(store: Store, rail: Rail, entries: Sequence[BankEntry], *, measured: bool = False,
+          measured_only: bool = False) -> Result:
+    """Evaluate a given bank against ``rail`` with the same models as :func:`plan`.
+
+    ``measured`` uses each part's latest stored sweep in place of its model where the sweep
+    has points; ``measured_only`` refuses a part whose sweep does not cover the whole band.
+    """
+    rail.validate()
+    if not entries:
+        raise QueryError("the bank is empty: list at least one part")
+    t0 = time.perf_counter()
+    rows = [store.find_part(e.part_number, e.maker) for e in entries]
+    notes: list[str] = []
+    for r in rows:
+        pn = r["part_number"]
+        if r.get("kind") != "capacitor":
+            raise QueryError(f"{pn} is an {r.get('kind')}, not a capacitor: a decoupling bank "
+                             "holds capacitors only")
+        if r.get("esr") is None or r.get("esl") is None:
+            missing = " and ".join(k.upper() for k in ("esr", "esl") if r.get(k) is None)
+            raise ModelError(f"{pn} has no {missing} in the store, so its impedance is unknown: "
+                             "import a catalog row or a fit that gives it")
+        if r.get("technology") == "mlcc" and not r.get("dielectric"):
+            notes.append(f"{pn}: MLCC without a dielectric code: taken without DC-bias loss, "
+                         "which is optimistic if it is class II")
+        rated = r.get("rated_voltage")
+        need = float(minimum_rated_voltage(rail.voltage, [r.get("technology")])[0])
+        if rated is None:
+            notes.append(f"{pn}: rated voltage unknown")
+        elif rated < rail.voltage:
+            notes.append(f"{pn}: rated {_fq(rated, 'V')}, below the rail voltage")
+        elif rated < need:
+            notes.append(f"{pn}: rated {_fq(rated, 'V')}, below the usual margin "
+                         f"({_fq(need, 'V')} for {r.get('technology') or 'this technology'})")
+        if r.get("lifecycle") in ("nrnd", "obsolete"):
+            notes.append(f"{pn}: lifecycle {r['lifecycle']}")
+    cols: dict[str, NDArray] = {}
+    for key in ("id", "part_number", "maker", "technology", "dielectric", "case", "mounting",
+                "lifecycle", "bias_v", "bias_ratio"):
+        cols[key] = np.empty(len(rows), dtype=object)
+        cols[key][:] = [r.get(key) for r in rows]
+    for key in ("value", "tolerance", "esr", "esl", "tan_delta", "rated_voltage", "price"):
+        cols[key] = np.array([np.nan if r.get(key) is None else float(r[key]) for r in rows])
+    parts = _parts_from(cols, rail)
+    curves = None
+    if measured or measured_only:
+        curves, ranges = measured_curves(store, parts, rail.band)
+        if measured_only:
+            _refuse_uncovered(parts, curves, ranges, rail.band)
+        elif (text := _not_reaching(curves, ranges)) is not None:
+            notes.append(text)
+    counts = np.array([e.count for e in entries], dtype=float)
+    res = _result(rail, "check", parts, counts, notes, {}, None, "", curves)
+    res.stats["seconds"] = time.perf_counter() - t0
+    return res
+
+
+def _refuse_uncovered(parts: Parts, curves: Sequence[MeasuredCurve | None],
+                      ranges: Sequence[tuple[float, float] | None],
+                      band: tuple[float, float]) -> None:
+    for pn, c, r in zip(parts.part_number, curves, ranges, strict=True):
+        if r is None:
+            raise QueryError(f"{pn} has no stored measured sweep; leave out --measured-only to "
+                             "use its model")
+        if c is None or not c.covers(band):
+            raise QueryError(f"{pn} was measured from {_fq(r[0], 'Hz')} to {_fq(r[1], 'Hz')} "
+                             "only; narrow --band to that range or use --measured")

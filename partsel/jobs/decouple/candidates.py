@@ -1,0 +1,212 @@
+"""The parts the planner may use: loaded from the store with the rail's layers applied, then
+reduced to the candidates worth considering (package notes, step 1).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+from numpy.typing import NDArray
+
+from partsel import units
+from partsel.engine import pdn
+from partsel.errors import QueryError
+from partsel.jobs.decouple.capacitance import capacitance_at_bias, worst_case_ratio
+from partsel.jobs.decouple.inputs import Choice, Prefer, Rail
+from partsel.store.db import Store
+from partsel.store.query import membership
+
+# Default minimum rated voltage as a multiple of the rail voltage, per technology (shared
+# domain notes section 7, rule of thumb): MnO2 tantalum used at <= 50 % of rated; polymer
+# 10 % below rated up to 10 V, 20 % above; everything else a 25 % margin (class II ceramics
+# lose capacitance with bias, which the planner applies separately).
+VOLTAGE_MARGIN = {"tantalum": 2.0}
+DEFAULT_VOLTAGE_MARGIN = 1.25
+
+
+def polymer_margin(voltage: float) -> float:
+    return 1.0 / 0.9 if voltage <= 10.0 else 1.0 / 0.8
+
+
+@dataclass
+class Parts:
+    """Capacitors as model arrays, with the layers of the rail applied."""
+
+    id: NDArray
+    part_number: NDArray
+    maker: NDArray
+    value: NDArray            # nominal C [F]
+    c_eff: NDArray            # C at the rail's DC bias (and worst case, when asked) [F]
+    bias_source: NDArray      # index into BIAS_LABELS
+    bias_ratio: NDArray       # C at bias / nominal C
+    worst_ratio: NDArray      # tolerance x temperature x aging factor (1 when not asked)
+    esr: NDArray
+    tan_delta: NDArray
+    esl: NDArray              # body ESL [H]
+    mount_l: NDArray          # [H]
+    price: NDArray            # NaN when unknown
+    case: NDArray
+    technology: NDArray
+    dielectric: NDArray
+    rated_voltage: NDArray
+    mounting: NDArray
+    lifecycle: NDArray
+
+    @property
+    def l_total(self) -> NDArray:
+        return self.esl + self.mount_l
+
+    def __len__(self) -> int:
+        return len(self.id)
+
+    def take(self, idx: NDArray) -> Parts:
+        return Parts(**{k: getattr(self, k)[idx] for k in self.__dataclass_fields__})
+
+    def branches(self, counts: NDArray | float = 1.0) -> pdn.Branches:
+        return pdn.Branches.of(self.c_eff, self.esr, self.l_total, self.tan_delta, counts)
+
+
+_COLUMNS = ("id, part_number, maker, value, tolerance, esr, esl, tan_delta, technology, "
+            "dielectric, \"case\", mounting, rated_voltage, price, stock, lifecycle, bias_v, "
+            "bias_ratio")
+
+
+def _parts_from(cols: dict[str, NDArray], rail: Rail) -> Parts:
+    value = np.asarray(cols["value"], dtype=float)
+    c_bias, source = capacitance_at_bias(
+        rail.voltage, value, cols["technology"], cols["dielectric"], cols["case"],
+        np.asarray(cols["rated_voltage"], dtype=float), cols["bias_v"], cols["bias_ratio"])
+    worst = worst_case_ratio(np.asarray(cols["tolerance"], dtype=float), cols["technology"],
+                             cols["dielectric"]) if rail.worst_case else np.ones(len(value))
+    mounting = cols["mounting"]
+    return Parts(
+        id=cols["id"], part_number=cols["part_number"], maker=cols["maker"], value=value,
+        c_eff=c_bias * worst, bias_source=source, bias_ratio=c_bias / value,
+        worst_ratio=worst, esr=np.asarray(cols["esr"], dtype=float),
+        tan_delta=np.nan_to_num(np.asarray(cols["tan_delta"], dtype=float)),
+        esl=np.asarray(cols["esl"], dtype=float),
+        mount_l=rail.board.mounting(cols["case"], mounting),
+        price=np.asarray(cols["price"], dtype=float), case=cols["case"],
+        technology=cols["technology"], dielectric=cols["dielectric"],
+        rated_voltage=np.asarray(cols["rated_voltage"], dtype=float), mounting=mounting,
+        lifecycle=cols["lifecycle"])
+
+
+def _where(choice: Choice) -> tuple[str, list[Any]]:
+    conds = ["kind = 'capacitor'"]
+    params: list[Any] = []
+    if choice.lifecycles:
+        conds.append("list_contains(?, coalesce(lower(lifecycle), 'active'))")
+        params.append([x.lower() for x in choice.lifecycles])
+    more, more_params = membership(choice.cases, choice.dielectrics, choice.technologies,
+                                   choice.makers, choice.in_stock)
+    conds += more
+    params += more_params
+    return " AND ".join(conds), params
+
+
+def minimum_rated_voltage(voltage: float, technology: NDArray,
+                          override: float | None = None) -> NDArray[np.float64]:
+    """Lowest acceptable rated voltage per part [V]: ``override``, else the rail voltage times
+    the margin of its technology (:data:`VOLTAGE_MARGIN`)."""
+    if override is not None:
+        return np.full(len(technology), float(override))
+    m = np.array([polymer_margin(voltage) if t == "polymer" else
+                  VOLTAGE_MARGIN.get(t or "", DEFAULT_VOLTAGE_MARGIN) for t in technology])
+    return voltage * m
+
+
+def load_candidates(store: Store, rail: Rail, choice: Choice) -> tuple[Parts, list[str], int]:
+    """Capacitors that pass the filters and carry a usable model: (parts, notes, considered)."""
+    where, params = _where(choice)
+    cols = store.arrays(f"SELECT {_COLUMNS} FROM parts WHERE {where} ORDER BY id", params)
+    considered = len(cols["id"])
+    notes: list[str] = []
+    if considered == 0:
+        raise QueryError("no capacitor in the store passes the filters (case, technology, "
+                         "dielectric, maker, lifecycle, stock): widen them")
+    tech = cols["technology"]
+    rated = np.asarray(cols["rated_voltage"], dtype=float)
+    need = minimum_rated_voltage(rail.voltage, tech, choice.min_voltage)
+    keep = np.ones(considered, dtype=bool)
+
+    def drop(mask: NDArray, why: str) -> None:
+        nonlocal keep
+        k = int((mask & keep).sum())
+        if k:
+            notes.append(f"{k} capacitors left out: {why}")
+        keep &= ~mask
+
+    drop(~(rated >= need), "rated voltage unknown or below "
+         + (f"{units.format_quantity(choice.min_voltage, 'V')}" if choice.min_voltage
+            is not None else "the default margin over the rail voltage (x1.25; tantalum x2; "
+            "polymer x1.11 up to 10 V, x1.25 above)"))
+    esr = np.asarray(cols["esr"], dtype=float)
+    esl = np.asarray(cols["esl"], dtype=float)
+    value = np.asarray(cols["value"], dtype=float)
+    drop(~(np.isfinite(esr) & np.isfinite(esl) & (value > 0)),
+         "no ESR or ESL in the store (their impedance cannot be evaluated)")
+    diel_unknown = np.array([t == "mlcc" and not d for t, d in
+                             zip(tech, cols["dielectric"], strict=True)], dtype=bool)
+    drop(diel_unknown, "MLCCs without a dielectric code (their DC-bias loss is unknown)")
+    if choice.prefer == "cost" or choice.max_cost is not None:
+        drop(~np.isfinite(np.asarray(cols["price"], dtype=float)),
+             "no price in the store (needed by --prefer cost / --max-cost)")
+    idx = np.flatnonzero(keep)
+    if idx.size == 0:
+        raise QueryError("no capacitor is left to plan with: " + "; ".join(notes))
+    parts = _parts_from({k: v[idx] for k, v in cols.items()}, rail)
+    return parts, notes, considered
+
+
+# -- candidate reduction -----------------------------------------------------------------------
+
+def weights(parts: Parts, prefer: Prefer, max_parts: int) -> NDArray[np.float64]:
+    """Objective weight of one part: 1 (+ a price tie-break) for ``count``, its price (+ a
+    count tie-break) for ``cost``. Tie-breaks stay below one unit of the main objective."""
+    price = parts.price
+    known = np.isfinite(price)
+    if prefer == "count":
+        top = float(price[known].max()) if known.any() and price[known].max() > 0 else 1.0
+        p = np.where(known, price, top)
+        return 1.0 + 0.5 / max_parts * p / top
+    low = float(price[price > 0].min()) if np.any(price > 0) else 1.0
+    return price + 0.5 / max_parts * low
+
+
+def reduce_candidates(parts: Parts, w: NDArray, f_band: tuple[float, float],
+                      per_bin: int = 3) -> NDArray[np.intp]:
+    """Indices of the parts worth considering (package notes, step 1).
+
+    Bins: log10(SRF) in tenths of a decade (SRFs more than 30x outside the band share one bin
+    at each side) and log10(R at SRF) in quarters. In each bin the Pareto front of (mounted L,
+    weight), at most ``per_bin`` parts spread over it (1 keeps the lowest L, for the count
+    objective, where the weight is only a tie-break).
+    """
+    c, l_tot = parts.c_eff, parts.l_total
+    with np.errstate(divide="ignore"):
+        srf = 1.0 / (2 * np.pi * np.sqrt(l_tot * c))
+        r_srf = parts.esr + parts.tan_delta * np.sqrt(l_tot / c)
+    lo, hi = np.log10(f_band[0] / 30.0), np.log10(f_band[1] * 30.0)
+    s_bin = np.floor(10 * np.clip(np.log10(srf), lo, hi)).astype(np.int64)
+    r_bin = np.floor(4 * np.log10(np.maximum(r_srf, 1e-6))).astype(np.int64)
+    # Far above the band a part acts as a capacitor: rank those by C. Elsewhere by mounted L
+    # (far below the band a part acts as R + j omega L; at a common SRF smaller L is larger C).
+    above = np.log10(srf) > hi
+    key_l = np.where(above, -c, l_tot)
+    order = np.lexsort((w, key_l, r_bin, s_bin))
+    sb, rb = s_bin[order], r_bin[order]
+    start = np.flatnonzero(np.concatenate([[True], (sb[1:] != sb[:-1]) | (rb[1:] != rb[:-1])]))
+    ends = np.append(start[1:], len(order))
+    keep: list[int] = []
+    for a, b in zip(start, ends, strict=True):
+        grp = order[a:b]                      # ascending key_l, then weight
+        best_w = np.minimum.accumulate(w[grp])
+        front = grp[np.concatenate([[True], w[grp][1:] < best_w[:-1]])]
+        if len(front) > per_bin:
+            pick = np.unique(np.round(np.linspace(0, len(front) - 1, per_bin)).astype(int))
+            front = front[pick]
+        keep.extend(int(i) for i in front)
+    return np.array(sorted(keep), dtype=np.intp)

@@ -1,0 +1,140 @@
+"""A bank evaluated against a rail (:class:`Result`): the figures, the model text it carries,
+and the rows it renders (bank lines and board branches).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Any, Literal
+
+import numpy as np
+from numpy.typing import NDArray
+
+from partsel import units
+from partsel.engine import pdn
+from partsel.jobs.decouple.candidates import Parts
+from partsel.jobs.decouple.capacitance import BIAS_LABELS
+from partsel.jobs.decouple.inputs import Board, Rail
+from partsel.jobs.decouple.measured import MeasuredCurve, Network, curve_source
+
+MODEL_TEXT = ("Z_k = esr_ohm + tan_delta/(w c_eff_f) + j(w esl_total_h - 1/(w c_eff_f)), "
+              "w = 2 pi f; Z = 1 / sum(count / Z_k) over bank and board (c_eff_f null: no "
+              "capacitor, Z_k = esr_ohm + j w esl_total_h)")
+MEASURED_TEXT = ("; a line whose curve_source is not 'model' uses, inside measured_band_hz, "
+                 "the latest stored sweep of the part instead: ln|Z| and unwrapped phase "
+                 "linear in ln f between its points, plus j w mount_l_h, plus (tan_delta - j)"
+                 "(1/(w c_eff_f) - 1/(w value_f))")
+
+
+@dataclass
+class Result:
+    """A bank evaluated against a rail: the figures, the reasons, and the curves behind them."""
+
+    rail: Rail
+    mode: Literal["plan", "check"]
+    met: bool
+    lines: list[dict[str, Any]]         # one per part number, bulk first
+    board: list[dict[str, Any]]         # plane and regulator branches
+    max_z: float                        # worst |Z| over the closed band [ohm]
+    f_max_z: float                      # where [Hz]
+    peaks: list[dict[str, float]]       # interior local maxima of |Z| in the band
+    failures: list[dict[str, Any]]      # parts of the band above the target, with reasons
+    explanation: list[str]              # one sentence per failure, plus why the plan stopped
+    effects: list[str]
+    notes: list[str]
+    bounds: dict[str, float]
+    stats: dict[str, Any]
+    branches: pdn.Branches              # bank lines then board, counts applied (models)
+    labels: list[str]
+    network: Network | None = None      # the same with measured curves, when any are used
+    model_check: dict[str, Any] | None = None   # the bank on its models alone, when measured
+    measured: bool = False              # measured curves were asked for
+
+    @property
+    def margin_ohm(self) -> float:
+        return self.rail.target - self.max_z
+
+    @property
+    def margin_db(self) -> float:
+        if not math.isfinite(self.max_z):
+            return -math.inf
+        return float(20.0 * np.log10(self.rail.target / self.max_z)) if self.max_z > 0 \
+            else math.inf
+
+    @property
+    def parts(self) -> int:
+        return int(sum(r["count"] for r in self.lines))
+
+    @property
+    def cost(self) -> float | None:
+        if not self.lines or any(r["price"] is None for r in self.lines):
+            return None
+        return float(sum(r["count"] * r["price"] for r in self.lines))
+
+    def curves(self, f: NDArray) -> list[tuple[str, NDArray]]:
+        """(label, Z) of every line (its copies in parallel), the board branches and the
+        total, on the frequencies ``f``."""
+        net = self.network or self.branches
+        z = net.impedance(f) / np.maximum(self.branches.count, 1.0)[:, None]
+        out = [(lab, z[i]) for i, lab in enumerate(self.labels)]
+        if len(self.branches.used()):
+            out.append(("total", net.total(f)))
+        return out
+
+    def to_dict(self) -> dict[str, Any]:
+        """The result as plain data (SI units in every key name)."""
+        return {
+            "mode": self.mode, "met": self.met, "target_ohm": self.rail.target,
+            "design_target_ohm": self.rail.design_target, "worst_case": self.rail.worst_case,
+            "rail_v": self.rail.voltage, "band_hz": list(self.rail.band),
+            "max_z_ohm": self.max_z, "f_max_z_hz": self.f_max_z,
+            "margin_ohm": self.margin_ohm, "margin_db": self.margin_db,
+            "parts": self.parts, "lines": len(self.lines), "cost": self.cost,
+            "bank": self.lines, "board": self.board,
+            "model": MODEL_TEXT + (MEASURED_TEXT if self.network is not None else ""),
+            "measured_curves": self.measured, "model_check": self.model_check,
+            "peaks": self.peaks, "failures": self.failures,
+            "explanation": self.explanation,
+            "bounds": self.bounds, "effects": self.effects, "notes": self.notes,
+            "search": self.stats,
+        }
+
+
+def _line(parts: Parts, i: int, count: int, curve: MeasuredCurve | None,
+          band: tuple[float, float]) -> dict[str, Any]:
+    c, l_tot = float(parts.c_eff[i]), float(parts.l_total[i])
+    price = float(parts.price[i])
+    return {
+        "part_number": str(parts.part_number[i]), "maker": str(parts.maker[i]),
+        "count": int(count), "value_f": float(parts.value[i]), "c_eff_f": c,
+        "bias_ratio": float(parts.bias_ratio[i]),
+        "bias_source": BIAS_LABELS[int(parts.bias_source[i])],
+        "worst_case_ratio": float(parts.worst_ratio[i]),
+        "esr_ohm": float(parts.esr[i]), "tan_delta": float(parts.tan_delta[i]),
+        "esl_h": float(parts.esl[i]), "mount_l_h": float(parts.mount_l[i]),
+        "esl_total_h": l_tot, "srf_hz": float(1.0 / (2 * np.pi * np.sqrt(l_tot * c)))
+        if l_tot > 0 else math.inf,
+        "case": parts.case[i], "technology": parts.technology[i],
+        "dielectric": parts.dielectric[i],
+        "rated_voltage_v": float(parts.rated_voltage[i]), "lifecycle": parts.lifecycle[i],
+        "price": price if math.isfinite(price) else None,
+        "curve_source": curve_source(curve, band),
+        "measured_band_hz": list(curve.band) if curve is not None else None,
+        "sweep_file": curve.source if curve is not None else None,
+    }
+
+
+def _board_lines(board: Board) -> list[dict[str, Any]]:
+    out = []
+    if board.plane_c:
+        out.append({"name": "plane", "count": 1, "c_eff_f": board.plane_c, "esr_ohm": 0.0,
+                    "tan_delta": board.plane_tan_delta, "esl_total_h": board.plane_l})
+    if board.vrm_r is not None and board.vrm_l is not None:
+        out.append({"name": "regulator", "count": 1, "c_eff_f": None, "esr_ohm": board.vrm_r,
+                    "tan_delta": 0.0, "esl_total_h": board.vrm_l})
+    return out
+
+
+def _fq(x: float, unit: str) -> str:
+    return units.format_quantity(x, unit)

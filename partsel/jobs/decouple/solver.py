@@ -1,0 +1,338 @@
+"""The search for counts: greedy fill, linearised LP rounds and pruning with the exact check
+(package notes, steps 2-4), and the same on measured curves (step 5).
+"""
+
+from __future__ import annotations
+
+import time
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+from numpy.typing import NDArray
+
+from partsel.engine import pdn
+from partsel.jobs.decouple.measured import Network
+
+_CHECK_SLACK = 1e-9   # relative slack of the exact check (rounding of |Z| near the target)
+_GRID_SLACK = 1e-6    # the search grid asks this much more, so refinement rarely fails
+
+
+@dataclass
+class Search:
+    """Candidates evaluated on a frequency grid: Y_k(f) of one part, Y of the board.
+
+    The candidates are models (``pdn.Branches``) or, in step 5, a :class:`Network` with
+    measured curves: only their values on the grid matter here."""
+
+    f: NDArray
+    y_parts: NDArray          # (K, F)
+    y_board: NDArray          # (F,)
+    y_target: float           # 1/Z_t, with the grid slack
+
+    @classmethod
+    def build(cls, f: NDArray, cands: pdn.Branches | Network, board: pdn.Branches,
+              target: float) -> Search:
+        y_parts = 1.0 / cands.impedance(f)
+        y_board = board.admittance(f) if len(board) else np.zeros(len(f), dtype=complex)
+        return cls(f, y_parts, y_board, (1.0 + _GRID_SLACK) / target)
+
+    def add_frequencies(self, f_new: NDArray, cands: pdn.Branches | Network,
+                        board: pdn.Branches) -> Search:
+        f = np.concatenate([self.f, f_new])
+        y_parts = np.concatenate([self.y_parts, 1.0 / cands.impedance(f_new)], axis=1)
+        y_board = np.concatenate([self.y_board, board.admittance(f_new) if len(board)
+                                  else np.zeros(len(f_new), dtype=complex)])
+        return Search(f, y_parts, y_board, self.y_target)
+
+    def admittance(self, counts: NDArray) -> NDArray:
+        nz = np.flatnonzero(counts)
+        return self.y_board + np.einsum("k,kf->f", counts[nz], self.y_parts[nz])
+
+
+@dataclass(frozen=True)
+class Limits:
+    """What a bank may not exceed: parts, total price, distinct part numbers (lines)."""
+
+    max_parts: int = 500
+    max_cost: float | None = None
+    max_lines: int | None = None
+
+    def allows(self, counts: NDArray, price: NDArray) -> bool:
+        return bool(counts.sum() <= self.max_parts
+                    and (self.max_cost is None
+                         or counts @ np.nan_to_num(price) <= self.max_cost * (1.0 + 1e-12))
+                    and (self.max_lines is None or np.count_nonzero(counts) <= self.max_lines))
+
+    def text(self) -> str:
+        out = f"of at most {self.max_parts} parts"
+        if self.max_lines is not None:
+            out += f" on at most {self.max_lines} lines"
+        if self.max_cost is not None:
+            out += f" costing at most {self.max_cost:g}"
+        return out
+
+
+def greedy(search: Search, w: NDArray, price: NDArray, max_steps: int, limits: Limits,
+           start: NDArray | None = None,
+           allowed: NDArray | None = None) -> tuple[NDArray, NDArray, bool]:
+    """Greedy fill (package notes, step 2) with the candidates ``allowed`` (default all),
+    never exceeding ``limits.max_lines``.
+
+    Returns (counts that hold on the grid or the last state, the best counts within the
+    limits, whether the first holds). Each step is one (K x F) evaluation.
+    """
+    k_n = search.y_parts.shape[0]
+    counts = np.zeros(k_n) if start is None else start.astype(float).copy()
+    cols = np.arange(k_n) if allowed is None else np.flatnonzero(allowed)
+    y_cols = search.y_parts[cols]
+    y = search.admittance(counts)
+    y_t = search.y_target
+    cur = np.maximum(0.0, 1.0 - np.abs(y) / y_t).sum()
+    best_within, best_ratio = counts.copy(), _worst_ratio(y, y_t)
+    for _ in range(max_steps):
+        if cur <= 0.0:
+            return counts, best_within, True
+        s = np.maximum(0.0, 1.0 - np.abs(y[None, :] + y_cols) / y_t).sum(axis=1)
+        gain = (cur - s) / w[cols]
+        if limits.max_lines is not None and np.count_nonzero(counts) >= limits.max_lines:
+            gain[counts[cols] == 0] = -np.inf
+        j = int(np.argmax(gain)) if len(cols) else 0
+        if not len(cols) or not gain[j] > 0:
+            break
+        k = cols[j]
+        counts[k] += 1
+        y = y + search.y_parts[k]
+        cur = float(s[j])
+        if limits.allows(counts, price):
+            ratio = _worst_ratio(y, y_t)
+            if ratio < best_ratio:
+                best_within, best_ratio = counts.copy(), ratio
+    return counts, best_within, cur <= 0.0
+
+
+def _worst_ratio(y: NDArray, y_t: float) -> float:
+    with np.errstate(divide="ignore"):
+        return float(np.max(y_t / np.abs(y)))
+
+
+def linearised_lp(search: Search, around: NDArray, w: NDArray, price: NDArray,
+                  limits: Limits) -> NDArray | None:
+    """The linear programme of one convex-concave step (package notes, step 3): minimise
+    w.n subject to Re(conj(u) Y(n)) >= Y_t on the grid, u the phase of the bank ``around``,
+    and the part and cost limits. Returns the (fractional) counts, or None when it has no
+    solution."""
+    from scipy.optimize import linprog
+
+    y = search.admittance(around)
+    mag = np.abs(y)
+    u = np.where(mag > 0, y / np.where(mag > 0, mag, 1.0), 1.0)
+    a = (np.conj(u)[:, None] * search.y_parts.T).real / search.y_target       # (F, K)
+    lb = 1.0 - (np.conj(u) * search.y_board).real / search.y_target
+    rows = ~((lb <= 0) & np.all(a >= 0, axis=1))        # rows the board alone satisfies
+    a_ub, b_ub = [-a[rows], np.ones((1, len(w)))], [-lb[rows], [float(limits.max_parts)]]
+    if limits.max_cost is not None:
+        a_ub.append(np.nan_to_num(price)[None, :])
+        b_ub.append([limits.max_cost])
+    res = linprog(w, A_ub=np.vstack(a_ub), b_ub=np.concatenate(b_ub), bounds=(0, None),
+                  method="highs")
+    return res.x if res.status == 0 else None
+
+
+@dataclass
+class Outcome:
+    """What :func:`solve` found: counts per candidate, whether they hold, how it went."""
+
+    counts: NDArray
+    met: bool
+    stats: dict[str, Any]
+
+
+class _Solver:
+    """The state of one search: the grid (growing with cuts), the exact check, the limits."""
+
+    def __init__(self, cands: pdn.Branches | Network, board: pdn.Branches, target: float,
+                 band: tuple[float, float], w: NDArray, price: NDArray,
+                 limits: Limits, grid: NDArray | None = None) -> None:
+        self.cands, self.board, self.target, self.band = cands, board, target, band
+        self.w, self.price, self.limits = w, price, limits
+        if grid is None:
+            grid = pdn.log_grid(*band, pdn.MIN_PER_DECADE)
+        self.search = Search.build(grid, cands, board, target)
+        self.cap = max(4 * limits.max_parts, 200)
+        self.strict = False
+        self.stats: dict[str, Any] = {"candidates": len(cands), "greedy_parts": 0,
+                                      "rounds": 0, "cuts": 0, "pruned": 0}
+
+    def scan(self, counts: NDArray) -> pdn.Scan:
+        # While searching, grid maxima below half the target are not refined (the grid holds
+        # the lossless anti-resonances and 200 points per decade, so they cannot hide a peak
+        # above it); the bank returned passes the full check (``strict``).
+        bank = _bank(self.cands, counts, self.board)
+        if self.strict:
+            return pdn.scan(*self.band, bank)
+        return pdn.scan(*self.band, bank, refine_above=0.5 * self.target, polish=False)
+
+    def holds(self, counts: NDArray) -> bool:
+        if not counts.any() and not len(self.board):
+            return False
+        return self.scan(counts).max_z <= self.target * (1.0 + _CHECK_SLACK)
+
+    def allows(self, counts: NDArray) -> bool:
+        return self.limits.allows(counts, self.price)
+
+    def fill(self, start: NDArray | None = None, limits: Limits | None = None,
+             allowed: NDArray | None = None) -> tuple[NDArray, NDArray, bool]:
+        """Greedy fill from ``start`` until the bank holds exactly (cuts added on the way)."""
+        limits = limits or self.limits
+        counts, best_within, ok = greedy(self.search, self.w, self.price, self.cap, limits,
+                                         start, allowed)
+        for _ in range(50):
+            if not ok:
+                break
+            sc = self.scan(counts)
+            limit = self.target * (1.0 + _CHECK_SLACK)
+            if sc.max_z <= limit:
+                return counts, best_within, True
+            bad = np.unique(np.append(sc.peak_f[sc.peak_z > limit], sc.f_max))
+            self.stats["cuts"] += len(bad)
+            self.search = self.search.add_frequencies(bad, self.cands, self.board)
+            counts, best_within, ok = greedy(self.search, self.w, self.price, self.cap,
+                                             limits, counts, allowed)
+        return counts, best_within, False
+
+    def fewer_lines(self, counts: NDArray, max_lines: int) -> NDArray | None:
+        """Backward elimination of lines: drop the line whose removal, refilled from the
+        remaining lines on the grid, costs least; check it exactly; repeat down to
+        ``max_lines``. None when it fails."""
+        free = Limits(self.cap, None, None)
+        while np.count_nonzero(counts) > max_lines:
+            trials = []
+            for k in np.flatnonzero(counts):
+                allowed = counts > 0
+                allowed[k] = False
+                new, _, ok = greedy(self.search, self.w, self.price, self.cap, free,
+                                    np.where(allowed, counts, 0.0), allowed)
+                if ok:
+                    trials.append((float(new @ self.w), int(k)))
+            for _, k in sorted(trials)[:3]:
+                allowed = counts > 0
+                allowed[k] = False
+                new, _, ok = self.fill(np.where(allowed, counts, 0.0), free, allowed)
+                if ok:
+                    counts = self.prune(new)
+                    break
+            else:
+                return None
+        return counts
+
+    def prune(self, counts: NDArray) -> NDArray:
+        """Remove single parts, highest weight first, while the exact check holds (step 4)."""
+        counts = counts.copy()
+        changed = True
+        while changed:
+            changed = False
+            for k in np.argsort(-self.w, kind="stable"):
+                while counts[k] > 0:
+                    counts[k] -= 1
+                    if self.holds(counts):
+                        self.stats["pruned"] += 1
+                        changed = True
+                    else:
+                        counts[k] += 1
+                        break
+        return counts
+
+
+def solve(cands: pdn.Branches, board: pdn.Branches, target: float,
+          band: tuple[float, float], w: NDArray, price: NDArray,
+          limits: Limits | None = None, rounds: int = 6) -> Outcome:
+    """Counts of ``cands`` (one part each) that keep |Z| <= target over ``band`` with the
+    ``board`` branches in parallel, minimising sum(w * counts) within the limits (module
+    notes, steps 2-4). ``met`` is False when no bank within the limits was found; the counts
+    are then the best attempt (lowest worst |Z| on the grid within the limits)."""
+    t0 = time.perf_counter()
+    limits = limits or Limits()
+    sv = _Solver(cands, board, target, band, w, price, limits)
+    counts, best_within, ok = sv.fill()
+    sv.stats["greedy_parts"] = int(counts.sum())
+    best = sv.prune(counts) if ok and sv.allows(counts) else None
+    around = counts
+    if limits.max_lines is not None:
+        # Also from the bank without the line limit, by backward elimination of lines.
+        free, _, ok_free = sv.fill(limits=Limits(limits.max_parts, limits.max_cost, None))
+        fewer = sv.fewer_lines(sv.prune(free), limits.max_lines) if ok_free else None
+        if fewer is not None and sv.allows(fewer) and (best is None or fewer @ w < best @ w):
+            best = around = fewer
+        elif not ok:
+            around = free
+    for _ in range(rounds):
+        x = linearised_lp(sv.search, around, w, price, limits)
+        sv.stats["rounds"] += 1
+        if x is None:
+            break
+        start = np.floor(x + 1e-9)
+        if limits.max_lines is not None:
+            keep = np.argsort(-(x * w), kind="stable")[:limits.max_lines]
+            start = np.where(np.isin(np.arange(len(x)), keep), start, 0.0)
+        new, _, ok = sv.fill(start)
+        if not ok:
+            break
+        new = sv.prune(new)
+        if not sv.allows(new) or (best is not None and new @ w >= best @ w - 1e-9):
+            break
+        best = around = new
+    if best is not None:
+        sv.strict = True
+        checked, _, ok = sv.fill(best)
+        best_within, best = (best, None) if not (ok and sv.allows(checked)) else (best, checked)
+    sv.stats["seconds"] = time.perf_counter() - t0
+    if best is None:
+        return Outcome(best_within, False, sv.stats)
+    return Outcome(best, True, sv.stats)
+
+
+def _bank(cands: pdn.Branches, counts: NDArray, board: pdn.Branches) -> pdn.Branches:
+    bank = pdn.Branches(cands.c, cands.esr, cands.esl, cands.tan_delta,
+                        np.asarray(counts, dtype=float))
+    return pdn.Branches.concat(bank, board) if len(board) else bank
+
+
+class _MeasuredSolver(_Solver):
+    """The same search on a :class:`Network`: the grid also holds every measured point in the
+    band, and the exact check is :meth:`Network.scan`."""
+
+    def __init__(self, cands: Network, board: pdn.Branches, target: float,
+                 band: tuple[float, float], w: NDArray, price: NDArray,
+                 limits: Limits) -> None:
+        grid = np.unique(np.concatenate([pdn.log_grid(*band, pdn.MIN_PER_DECADE),
+                                         cands.sample_points(*band)]))
+        super().__init__(cands, board, target, band, w, price, limits, grid)
+        self.net = cands
+
+    def scan(self, counts: NDArray) -> pdn.Scan:
+        # as in _Solver.scan: maxima below half the target are left unrefined while searching
+        net = self.net.with_counts(counts, self.board)
+        return net.scan(*self.band, refine_above=0.0 if self.strict else 0.5 * self.target)
+
+
+def solve_measured(cands: Network, board: pdn.Branches, target: float,
+                   band: tuple[float, float], w: NDArray, price: NDArray, limits: Limits,
+                   start: NDArray) -> Outcome:
+    """Step 5 (package notes): from the bank ``start`` planned on the models, add parts until
+    it holds on the measured curves (greedy fill with constraint generation), then remove the
+    parts they do not need (pruning). ``met`` is False when no bank within the limits holds on
+    them; the counts are then the best attempt within the limits."""
+    t0 = time.perf_counter()
+    sv = _MeasuredSolver(cands, board, target, band, w, price, limits)
+    counts, best_within, ok = sv.fill(np.asarray(start, dtype=float))
+    sv.stats["greedy_parts"] = int(counts.sum())
+    best = sv.prune(counts) if ok and sv.allows(counts) else None
+    if best is not None:
+        sv.strict = True
+        checked, _, ok = sv.fill(best)
+        best = checked if ok and sv.allows(checked) else None
+    sv.stats["seconds"] = time.perf_counter() - t0
+    if best is None:
+        return Outcome(best_within, False, sv.stats)
+    return Outcome(best, True, sv.stats)
