@@ -73,12 +73,19 @@ def save(fig: Figure, path: str | Path) -> Path:
         ax_z.legend(fontsize=8, loc="best")
     if fig.title:
         ax_z.set_title(fig.title)
+    return write(figure, p)
+
+
+def write(figure, path: Path) -> Path:
+    """Lay out, save and close a matplotlib figure; an unwritable path is a PartselError."""
+    import matplotlib.pyplot as plt
+
     figure.tight_layout()
     try:
-        figure.savefig(p, dpi=120)
+        figure.savefig(path, dpi=120)
     except OSError as exc:
-        raise PartselError(f"cannot write the plot {p}: {exc.strerror}; choose another path") \
-            from None
+        raise PartselError(f"cannot write the plot {path}: {exc.strerror}; choose another "
+                           "path") from None
     finally:
         plt.close(figure)
-    return p
+    return path

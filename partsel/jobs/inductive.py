@@ -400,6 +400,8 @@ def plot(result: CheckResult, path: str | Path, per_decade: int = 200) -> Path:
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
 
+    from partsel.io import plot as plotting
+
     f1, f2 = plot_band(result)
     f = _plot_grid(result.models, f1, f2, per_decade)
     m = result.models
@@ -450,12 +452,4 @@ def plot(result: CheckResult, path: str | Path, per_decade: int = 200) -> Path:
                     "\u25bc; hatched: capacitive)")
     ax_z.legend(fontsize=8, loc="best")
     ax_z.set_title("Inductor check: |Z|, phase and inductive range")
-    fig.tight_layout()
-    try:
-        fig.savefig(p, dpi=120)
-    except OSError as exc:
-        raise PartselError(f"cannot write the plot {p}: {exc.strerror}; choose another path") \
-            from None
-    finally:
-        plt.close(fig)
-    return p
+    return plotting.write(fig, p)
