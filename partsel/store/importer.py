@@ -258,8 +258,10 @@ def parse_catalog(cells: pd.DataFrame) -> tuple[pd.DataFrame, list[Problem]]:
         seen[norm] = raw
     missing = [c for c in REQUIRED if c not in headers]
     if missing:
-        problems.append(Problem(0, ", ".join(missing), "required column missing; the file has "
-                                + ", ".join(map(str, cells.columns))))
+        word = "columns" if len(missing) > 1 else "column"
+        problems.append(Problem(0, ", ".join(missing), f"required {word} missing; the file has "
+                                + ", ".join(map(str, cells.columns))
+                                + ": rename them or map them with --map MAP.toml"))
     if problems:
         return pd.DataFrame(), problems
     cells = cells.set_axis(headers, axis=1)
