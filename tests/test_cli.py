@@ -39,14 +39,19 @@ def test_version_and_help_on_every_command(cli):
     group = typer.main.get_command(app)
     names = sorted(group.commands)
     assert {"find", "show", "curve", "import", "demo"} <= set(names)
+    paths = []
     for name in names:
-        r = cli(name, "--help")
-        assert r.exit_code == 0, name
-        assert "Example" in r.stdout or "partsel " in r.stdout, f"{name} --help has no example"
         sub = group.commands[name]
-        for p in getattr(sub, "params", []):
+        paths.append(((name,), sub))
+        for child, cmd in getattr(sub, "commands", {}).items():
+            paths.append(((name, child), cmd))
+    for path, cmd in paths:
+        r = cli(*path, "--help")
+        assert r.exit_code == 0, path
+        assert "Example" in r.stdout, f"{' '.join(path)} --help has no example"
+        for p in getattr(cmd, "params", []):
             if getattr(p, "param_type_name", "") == "option" and p.name not in ("help",):
-                assert p.help, f"{name} option {p.name} has no help text"
+                assert p.help, f"{' '.join(path)} option {p.name} has no help text"
 
 
 @pytest.mark.parametrize("args,needle", [
