@@ -12,9 +12,14 @@ from pathlib import Path
 from typing import Any
 
 import pytest
+from hypothesis import settings
 from typer.testing import CliRunner
 
 from partsel.cli import app
+
+# No per-example deadline: a loaded CI machine must not turn a slow example into a failure.
+settings.register_profile("partsel", deadline=None)
+settings.load_profile("partsel")
 
 
 @pytest.fixture(autouse=True)
