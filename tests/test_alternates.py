@@ -266,7 +266,7 @@ def test_class_ii_candidate_out_of_tolerance_at_bias_is_refused(make_store):
     assert failed(res) == {"DROPS": ["value"], "C0G": ["value"]}
     drops = next(c for c in res.near_misses if c.part["part_number"] == "DROPS")
     assert drops.value_eff == pytest.approx(0.6e-6, rel=1e-12)
-    assert "at 5 V (measured curve)" in drops.failed[0].detail
+    assert "at 5 V (catalog curve)" in drops.failed[0].detail
     assert "-25.0 %" in drops.failed[0].detail and "±10 %" in drops.failed[0].detail
     assert res.original_value_eff == pytest.approx(0.8e-6, rel=1e-12)
 
@@ -276,10 +276,10 @@ def test_working_voltage_is_the_default_bias(make_store, cli):
     store = make_store(rows)
     res = run(store, working_voltage=5.0, within_db=None, explain=True)
     assert failed(res) == {"DROPS": ["value"]}
-    assert (res.bias, res.original_bias_source) == (5.0, "measured curve")
+    assert (res.bias, res.original_bias_source) == (5.0, "catalog curve")
     r = cli("--store", store, "alternates", "ORIG", "--working-voltage", "5V", "--explain")
     # derived: 1 uF x 0.8 at 5 V
-    assert "1 uF (800 nF at 5 V, measured curve)" in r.stdout.splitlines()[0]
+    assert "1 uF (800 nF at 5 V, catalog curve)" in r.stdout.splitlines()[0]
 
 
 def test_value_window_without_bias(make_store):

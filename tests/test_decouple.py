@@ -239,7 +239,7 @@ def test_bias_loss_sets_the_count(cli, make_store):
                              "10kHz..1MHz")
     assert code == 0
     (line,) = data["bank"]
-    assert line["bias_source"] == "measured curve"
+    assert line["bias_source"] == "catalog curve"
     assert_allclose(line["c_eff_f"], 6.6e-6, rtol=1e-12)
     assert line["count"] == 25
     assert_holds_independently(data)
@@ -247,7 +247,7 @@ def test_bias_loss_sets_the_count(cli, make_store):
     code, data, _ = run_json(cli, store, "--rail", "2.5V", "--target", "0.1ohm", "--band",
                              "10kHz..1MHz")
     assert code == 0 and data["bank"][0]["count"] == 11
-    assert any("DC bias 2.5 V: measured curve for B22U" in e for e in data["effects"])
+    assert any("DC bias 2.5 V: catalog curve for B22U" in e for e in data["effects"])
 
 
 def test_parts_without_a_curve_get_a_labelled_estimate(cli, make_store):
@@ -287,10 +287,10 @@ def test_capacitance_beyond_the_measured_curve_is_not_extrapolated_upwards():
     est = ceramic.estimate_bias_ratio(6.0, rated[:1], value[:1], case[:1], diel[:1])[0]
     assert est < 0.9
     assert_allclose(c[0], 10e-6 * est, rtol=1e-12)
-    assert dec.BIAS_LABELS[src[0]] == "measured curve, estimate beyond it"
+    assert dec.BIAS_LABELS[src[0]] == "catalog curve, estimate beyond it"
     # inside its range the curve wins: linear interpolation 1 -> 0.9 over 0..8 V at 6 V
     assert_allclose(c[1], 10e-6 * (1 - 0.1 * 6 / 8), rtol=1e-12)
-    assert dec.BIAS_LABELS[src[1]] == "measured curve"
+    assert dec.BIAS_LABELS[src[1]] == "catalog curve"
 
 
 def test_worst_case_multiplies_tolerance_temperature_and_aging(cli, catalog):

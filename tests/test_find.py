@@ -129,7 +129,7 @@ def test_bias_layer_uses_curve_then_estimate(make_store):
         res = find(s, Search("capacitor", band=(1e5, 1e6), below=1e3, bias=3.3, limit=0))
     by = {r["part_number"]: r for r in res.rows}
     assert by["CURVE"]["c_eff_f"] == pytest.approx(4e-6)  # the part's own curve at 3.3 V
-    assert by["CURVE"]["bias_source"] == "measured curve"
+    assert by["CURVE"]["bias_source"] == "catalog curve"
     assert by["EST"]["bias_source"] == "estimated" and by["EST"]["c_eff_f"] < 10e-6
     assert by["C0G"]["c_eff_f"] == pytest.approx(10e-9)  # class I: no DC-bias loss (EIA-198)
     assert any("estimated" in e for e in res.effects)

@@ -1,6 +1,7 @@
 r"""Class II ceramic effects on capacitance: DC-bias loss and aging.
 
-DC bias has no standard model. Where a part carries its own measured curve, that curve wins
+DC bias has no standard model. Where a part carries its own curve (the catalog's bias_curve,
+from its datasheet or a measurement), that curve wins
 (:func:`bias_ratio_from_curve`); otherwise :func:`estimate_bias_ratio` gives a rule-of-thumb
 estimate that callers must label as an estimate:
 

@@ -67,6 +67,7 @@ from numpy.typing import NDArray
 from partsel.catalog import LIFECYCLES
 from partsel.engine import capacitor, ceramic, inductor
 from partsel.errors import QueryError, UnitError
+from partsel.jobs import models
 from partsel.jobs.models import Models
 from partsel.jobs.show import log_grid
 from partsel.standards import aecq200, eia198, safety
@@ -210,7 +211,7 @@ class Candidate:
     max_diff_db: float
     f_max_diff_hz: float
     value_eff: float          # C at the bias (capacitors with a bias), else the nominal value
-    bias_source: str          # "none", "measured curve" or "estimated"
+    bias_source: str          # one of partsel.jobs.models.BIAS_SOURCES
     esr_ratio: float | None
     rules: list[RuleResult]
 
@@ -237,7 +238,7 @@ class AlternatesResult:
     order: str = ("curve distance (RMS dB difference of |Z| over the band), then price, "
                   "then stock")
     bias: float | None = None            # DC bias applied to capacitors [V]
-    original_bias_source: str = "none"   # "none", "measured curve" or "estimated"
+    original_bias_source: str = "none"   # one of partsel.jobs.models.BIAS_SOURCES
 
 
 # --- helpers ------------------------------------------------------------------------------------
@@ -355,7 +356,7 @@ def _own_curve_ratio(row: dict[str, Any], voltage: float) -> float:
     return float(ceramic.bias_ratio_from_curve(voltage, cv, cr)[0])
 
 
-BIAS_SOURCES = ("none", "measured curve", "estimated")
+BIAS_SOURCES = models.BIAS_SOURCES[:3]  # the SQL interpolation holds the curve at its ends
 
 
 def curve_distance(f: NDArray[np.float64], z_cand: NDArray[np.complex128],
@@ -760,7 +761,7 @@ def alternates_for(store: Store, original: dict[str, Any],
                                 a["rated_voltage"], value, a["curve_ratio"])
         effects.append(
             f"DC bias {_q(bias, 'V')}: original {BIAS_SOURCES[int(o_src[0])]}; candidates: "
-            f"measured curve for {int(np.count_nonzero(src == 1))}, rule-of-thumb estimate "
+            f"catalog curve for {int(np.count_nonzero(src == 1))}, rule-of-thumb estimate "
             f"for {int(np.count_nonzero(src == 2))} (estimated)")
     else:
         ratio, src = np.ones(n), np.zeros(n, dtype=np.int8)

@@ -136,7 +136,9 @@ def _c_effective(a: dict[str, np.ndarray], bias: float,
     ratio, source = bias_ratio_columns(bias, a["value"], a["technology"], a["dielectric"],
                                        a["case"], a["rated_voltage"], a["bias_v"],
                                        a["bias_ratio"])
-    effects.append(f"DC bias {bias:g} V: measured curve for {int((source == 1).sum())} parts, "
+    effects.append(f"DC bias {bias:g} V: the part's catalog curve for "
+                   f"{int(((source == 1) | (source == 3)).sum())} parts (beyond its last point the "
+                   f"estimate where lower for {int((source == 3).sum())}), "
                    f"rule-of-thumb estimate for {int((source == 2).sum())} class II parts "
                    "(estimated)")
     return a["value"] * ratio, source

@@ -73,7 +73,7 @@ class Models:
         return replace(self, value=np.asarray(value, dtype=float))
 
 
-BIAS_SOURCES = ("none", "measured curve", "estimated", "measured curve, estimate beyond it")
+BIAS_SOURCES = ("none", "catalog curve", "estimated", "catalog curve, estimate beyond it")
 
 
 def curve_matrix(bias_v: Sequence[Any], bias_ratio: Sequence[Any]

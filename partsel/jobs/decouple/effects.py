@@ -28,7 +28,7 @@ def _effects(rail: Rail, parts: Parts, counts: NDArray,
     bias = [f"{BIAS_LABELS[k]} for {', '.join(v)}" for k, v in sorted(by_source.items()) if k]
     eff.append(f"DC bias {_fq(rail.voltage, 'V')}: " + ("; ".join(bias) if bias else
                "no part in the bank loses capacitance (class I or not ceramic)")
-               + (" (estimated: rule-of-thumb curve, the part has no measured one)"
+               + (" (estimated: rule-of-thumb curve where the part has no curve of its own)"
                   if 2 in by_source or 3 in by_source else ""))
     if rail.worst_case:
         eff.append("worst case (low side) on every capacitance: tolerance (catalog, else "
