@@ -202,3 +202,26 @@ def test_inductor_band_search_leaves_out_parts_without_srf(make_store):
         got = find(s, Search("inductor", band=(10e6, 20e6), above=100.0, limit=0))
     assert [r["part_number"] for r in got.rows] == ["SRF30"]
     assert any("without an SRF left out" in n for n in got.notes)
+
+
+def test_bias_above_the_rating_leaves_the_part_out(make_store):
+    # common practice, no source: a capacitor is not used above its rated voltage
+    rows = [_cap("R6V3", 1e-6, 0.01, 0.5e-9, rated_voltage="6.3V", dielectric="X5R", case="0603"),
+            _cap("R16V", 1e-6, 0.01, 0.5e-9, rated_voltage="16V", dielectric="X5R", case="0603")]
+    store = make_store(rows)
+    with open_store(store) as s:
+        res = find(s, Search("capacitor", band=(1e6, 1e7), below=10.0, bias=12.0, limit=0))
+    assert [r["part_number"] for r in res.rows] == ["R16V"]
+    assert any("rated below the bias 12 V left out" in n for n in res.notes)
+
+
+def test_show_resonance_q_uses_the_whole_series_resistance(make_store):
+    from partsel.jobs.show import report
+    rows = [_cap("T1", 10e-6, 0.002, 0.7e-9, tan_delta="0.05")]
+    store = make_store(rows)
+    with open_store(store) as s:
+        rep = report(s, "T1")
+    # derived: Q = sqrt(L/C) / (ESR + tan_delta/(w0 C)) at w0 = 1/sqrt(LC)
+    w0 = 1 / np.sqrt(0.7e-9 * 10e-6)
+    r = 0.002 + 0.05 / (w0 * 10e-6)
+    assert rep.derived["resonance_q"] == pytest.approx(np.sqrt(0.7e-9 / 10e-6) / r, rel=1e-9)

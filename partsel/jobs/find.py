@@ -167,6 +167,13 @@ def find(store: Store, search: Search) -> FindResult:
             l_tot = esl + search.mount_l
             effects.append(f"mounting inductance {search.mount_l * 1e9:g} nH added to each ESL")
         ok = np.isfinite(value) & np.isfinite(esr) & np.isfinite(esl)
+        if search.bias is not None:
+            # a part rated below the working voltage is not a candidate at that voltage
+            over = a["rated_voltage"] < abs(search.bias)
+            if (over & ok).any():
+                notes.append(f"{_count(int((over & ok).sum()), 'capacitor')} rated below the "
+                             f"bias {search.bias:g} V left out")
+            ok &= ~over
         metrics: dict[str, np.ndarray] = {}
         if search.band:
             esr0, l0 = np.nan_to_num(esr), np.nan_to_num(l_tot)

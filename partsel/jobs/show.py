@@ -51,8 +51,10 @@ def report(store: Store, part_number: str, maker: str | None = None) -> PartRepo
     srf = float(m.srf()[0])
     if part["kind"] == "capacitor":
         derived["srf_hz"] = srf
-        if part.get("esr"):
-            derived["resonance_q"] = float(capacitor.resonance_q(m.value, m.esr, m.esl)[0])
+        if part.get("esr") is not None and np.isfinite(srf):
+            # sqrt(L/C) over the whole series resistance at the SRF (ESR + tan_delta/(w C))
+            r_srf = capacitor.series_resistance(srf, m.value, m.esr, m.tan_delta)
+            derived["resonance_q"] = float((np.sqrt(m.esl / m.value) / r_srf)[0])
         derived["min_z_ohm"] = float(np.abs(m.impedance(
             capacitor.min_impedance_frequency(m.value, m.esr, m.esl, m.tan_delta)))[0, 0]) \
             if np.isfinite(srf) else float("nan")
@@ -71,18 +73,26 @@ def report(store: Store, part_number: str, maker: str | None = None) -> PartRepo
               "phase_deg": float(np.degrees(np.angle(zz))), "esr_ohm": float(zz.real),
               "q": float(abs(zz.imag) / zz.real) if zz.real > 0 else float("inf")}
         w = 2 * np.pi * f
+        # apparent C (below the SRF) or L (below the zero-phase frequency); above it the part
+        # has the other sign of reactance and the figure is left out
         if part["kind"] == "capacitor":
-            pt["c_eff_f"] = float(-1.0 / (w * zz.imag)) if zz.imag else float("inf")
+            pt["c_eff_f"] = float(-1.0 / (w * zz.imag)) if zz.imag < 0 else float("nan")
         else:
-            pt["l_eff_h"] = float(zz.imag / w)
+            pt["l_eff_h"] = float(zz.imag / w) if zz.imag > 0 else float("nan")
         points.append(pt)
     cautions = []
+    if part["kind"] == "inductor" and not part.get("srf"):
+        cautions.append(NO_SRF)
     from partsel.standards import safety
     if safety.needs_caution(part.get("safety_class"), part.get("rated_voltage")):
         cautions.append(safety.caution_text())
     sweeps = store.con.execute("SELECT count(*) FROM sweeps WHERE maker = ? AND part_number = ?",
                                [part["maker"], part["part_number"]]).fetchone()[0]
     return PartReport(part, model, derived, points, cautions, sweeps)
+
+
+NO_SRF = ("no SRF in the catalog: the model has no winding capacitance, so |Z| keeps rising and "
+          "the phase stays inductive at every frequency; do not trust it above a few MHz")
 
 
 @dataclass
@@ -105,7 +115,10 @@ def curves(store: Store, part_numbers: list[str], band: tuple[float, float] | No
     """
     rows = [store.find_part(pn, maker) for pn in part_numbers]
     m = Models.from_rows(rows)
-    effects = ["catalog models"]
+    effects = ["stored models (catalog values, or a measured fit where one was saved)"]
+    for r in rows:
+        if r["kind"] == "inductor" and not r.get("srf"):
+            effects.append(f"caution, {r['part_number']}: {NO_SRF}")
     if (measured or measured_only) and bias is not None:
         raise QueryError("--bias cannot be applied to a measured curve (it was measured at its "
                          "own bias): leave out --measured or --bias")
@@ -115,6 +128,11 @@ def curves(store: Store, part_numbers: list[str], band: tuple[float, float] | No
     if bias is not None:
         ratio, src = bias_ratios(rows, bias)
         m = m.with_value(m.value * ratio)
+        for r in rows:
+            rated = r.get("rated_voltage")
+            if r["kind"] == "capacitor" and rated is not None and abs(bias) > rated:
+                effects.append(f"caution, {r['part_number']}: the bias {bias:g} V is above its "
+                               f"rated voltage {rated:g} V")
         effects.append(f"DC bias {bias:g} V (" + ", ".join(
             f"{r['part_number']}: {s}" for r, s in zip(rows, src, strict=True) if s != "none")
             + ")")
