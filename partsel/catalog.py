@@ -9,6 +9,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Literal
 
+from partsel.errors import CatalogError
+
 ColumnType = Literal["text", "quantity", "fraction", "int", "number", "curve"]
 
 
@@ -71,3 +73,38 @@ MOUNTINGS = ("smd", "through_hole")
 # Model parameters whose origin the store records next to the value.
 MODEL_PARAMETERS = ("value", "esr", "tan_delta", "esl", "dcr", "srf", "rp")
 PROVENANCES = ("datasheet", "measured fit", "estimated by rule")
+
+# Other spellings of the words of a few text columns, read as the catalog's own word.
+ALIASES = {
+    "technology": {"ceramic": "mlcc", "aluminium": "aluminum", "thin film": "thin_film",
+                   "thin-film": "thin_film", "al_polymer": "polymer", "polymer_aluminum": "polymer",
+                   "wire_wound": "wirewound", "wire-wound": "wirewound"},
+    "mounting": {"through hole": "through_hole", "through-hole": "through_hole",
+                 "tht": "through_hole", "surface mount": "smd", "smt": "smd"},
+    "lifecycle": {"not recommended": "nrnd", "not_recommended": "nrnd", "eol": "obsolete",
+                  "discontinued": "obsolete", "production": "active"},
+    "kind": {"cap": "capacitor", "ind": "inductor"},
+}
+
+
+def canonical(column: str, text: str, allowed: tuple[str, ...]) -> str:
+    """The catalog's word for ``text`` in a text column (lower case, aliases resolved), or a
+    CatalogError listing the words allowed."""
+    aliases = ALIASES.get(column, {})
+    raw = text.strip().lower()
+    key = raw.replace(" ", "_") if column != "lifecycle" else raw
+    key = aliases.get(raw, aliases.get(key, key)).replace(" ", "_")
+    if key not in allowed:
+        raise CatalogError(f"'{text}' is not a known {column}: use one of " + ", ".join(allowed))
+    return key
+
+
+# EIA inch codes that spreadsheets print without their leading zero when the cell is a number.
+_LEADING_ZERO_CASES = {"201": "0201", "402": "0402", "603": "0603", "805": "0805",
+                       "204": "0204", "306": "0306", "508": "0508"}
+
+
+def normalise_case(text: str) -> str:
+    """'402' (a case code that lost its leading zero as a spreadsheet number) -> '0402'."""
+    t = text.strip()
+    return _LEADING_ZERO_CASES.get(t.removesuffix(".0"), t)

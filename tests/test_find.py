@@ -225,3 +225,19 @@ def test_show_resonance_q_uses_the_whole_series_resistance(make_store):
     w0 = 1 / np.sqrt(0.7e-9 * 10e-6)
     r = 0.002 + 0.05 / (w0 * 10e-6)
     assert rep.derived["resonance_q"] == pytest.approx(np.sqrt(0.7e-9 / 10e-6) / r, rel=1e-9)
+
+
+def test_filters_are_spelled_as_the_catalog_does(make_store):
+    from partsel.errors import CatalogError, UnitError
+    rows = [_cap("A", 1e-6, 0.01, 0.5e-9, case="0402", dielectric="X7R", lifecycle="obsolete")]
+    store = make_store(rows)
+    base = {"band": (1e6, 1e7), "below": 10.0, "limit": 0}
+    with open_store(store) as s:
+        # aliases and a case code that lost its leading zero still match (EIA case 0402)
+        got = find(s, Search("capacitor", cases=("402",), technologies=("ceramic",),
+                             lifecycles=("EOL",), **base))
+        assert [r["part_number"] for r in got.rows] == ["A"]
+        with pytest.raises(UnitError, match="X9Z"):  # not an EIA-198 code
+            find(s, Search("capacitor", dielectrics=("X9Z",), **base))
+        with pytest.raises(CatalogError, match="not a known technology"):
+            find(s, Search("capacitor", technologies=("ceramix",), **base))

@@ -19,17 +19,6 @@ SUFFIXES = {".csv": "csv", ".txt": "csv", ".tsv": "csv", ".xlsx": "xlsx", ".xlsm
             ".parquet": "parquet", ".pq": "parquet"}
 
 
-# EIA inch codes that spreadsheets print without their leading zero when the cell is a number.
-_LEADING_ZERO_CASES = {"201": "0201", "402": "0402", "603": "0603", "805": "0805",
-                       "204": "0204", "306": "0306", "508": "0508"}
-
-
-def normalise_case(text: str) -> str:
-    """'402' (a case code that lost its leading zero as a spreadsheet number) -> '0402'."""
-    t = text.strip()
-    return _LEADING_ZERO_CASES.get(t.removesuffix(".0"), t)
-
-
 def normalise_header(name: str) -> str:
     """'Rated Voltage' -> 'rated_voltage'; catalog names are matched in this form."""
     return re.sub(r"[\s\-]+", "_", name.strip().lower())

@@ -12,10 +12,18 @@ from typing import Any, Literal
 
 import numpy as np
 
+from partsel.catalog import (
+    CAPACITOR_TECHNOLOGIES,
+    INDUCTOR_TECHNOLOGIES,
+    LIFECYCLES,
+    canonical,
+    normalise_case,
+)
 from partsel.engine import band as band_metrics
 from partsel.engine import capacitor, inductor
 from partsel.errors import QueryError
 from partsel.jobs.models import BIAS_SOURCES, bias_ratio_columns
+from partsel.standards import eia198
 from partsel.store.db import Store
 from partsel.store.query import membership
 
@@ -52,8 +60,15 @@ class Search:
     limit: int = 20                     # 0 = all
 
     def validate(self) -> None:
+        """Refuse contradictory or unknown criteria; spell the list filters as the catalog does
+        (so that a filter that cannot match anything is an error, not an empty answer)."""
         if self.kind not in ("capacitor", "inductor"):
             raise QueryError(f"unknown kind '{self.kind}': use capacitor or inductor")
+        self.technologies = tuple(canonical("technology", t, CAPACITOR_TECHNOLOGIES
+                                            + INDUCTOR_TECHNOLOGIES) for t in self.technologies)
+        self.lifecycles = tuple(canonical("lifecycle", x, LIFECYCLES) for x in self.lifecycles)
+        self.dielectrics = tuple(eia198.decode(d).code for d in self.dielectrics)
+        self.cases = tuple(normalise_case(c) for c in self.cases)
         if (self.below is not None or self.above is not None) and self.band is None:
             raise QueryError("an impedance limit needs a band: add --band F1..F2")
         if self.band is not None and not 0 < self.band[0] <= self.band[1]:

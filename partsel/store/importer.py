@@ -31,9 +31,11 @@ from partsel.catalog import (
     NAMES,
     PROVENANCES,
     REQUIRED,
+    canonical,
+    normalise_case,
 )
 from partsel.errors import CatalogError, PartselError
-from partsel.io.catalog import normalise_case, normalise_header, read_cells
+from partsel.io.catalog import normalise_header, read_cells
 from partsel.io.mapping import Mapping, apply_mapping
 from partsel.store.db import Store
 
@@ -89,18 +91,6 @@ class InsertCounts(NamedTuple):
     kept_fits: int
 
 
-ALIASES = {
-    "technology": {"ceramic": "mlcc", "aluminium": "aluminum", "thin film": "thin_film",
-                   "thin-film": "thin_film", "al_polymer": "polymer", "polymer_aluminum": "polymer",
-                   "wire_wound": "wirewound", "wire-wound": "wirewound"},
-    "mounting": {"through hole": "through_hole", "through-hole": "through_hole",
-                 "tht": "through_hole", "surface mount": "smd", "smt": "smd"},
-    "lifecycle": {"not recommended": "nrnd", "not_recommended": "nrnd", "eol": "obsolete",
-                  "discontinued": "obsolete", "production": "active"},
-    "kind": {"cap": "capacitor", "ind": "inductor"},
-}
-
-
 def _parse_unique(cells: pd.Series, parse: Callable[[str], Any], column: str,
                   problems: list[Problem], row_numbers: np.ndarray) -> pd.Series:
     """Parse each distinct non-empty text once; record a problem for each failing row."""
@@ -122,17 +112,7 @@ def _parse_unique(cells: pd.Series, parse: Callable[[str], Any], column: str,
 
 
 def _choice(column: str, allowed: tuple[str, ...]) -> Callable[[str], str]:
-    aliases = ALIASES.get(column, {})
-
-    def parse(text: str) -> str:
-        key = text.strip().lower().replace(" ", "_") if column != "lifecycle" else \
-            text.strip().lower()
-        key = aliases.get(text.strip().lower(), aliases.get(key, key)).replace(" ", "_")
-        if key not in allowed:
-            raise CatalogError(f"'{text}' is not a known {column}: use one of "
-                               + ", ".join(allowed))
-        return key
-    return parse
+    return lambda text: canonical(column, text, allowed)
 
 
 def _dielectric(text: str) -> str:
