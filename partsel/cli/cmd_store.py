@@ -45,7 +45,8 @@ def import_cmd(
     Example: partsel import export.xlsx --map export.toml --check
     """
     from partsel.io.mapping import read_mapping
-    from partsel.store.importer import check_catalog, import_catalog, refused_rows
+    from partsel.store.importer import (check_catalog, import_catalog, look_alike_columns,
+                                        refused_rows)
 
     file = Path(file_name)
     mapped = read_mapping(mapping) if mapping is not None else None
@@ -53,12 +54,15 @@ def import_cmd(
         frame, problems = check_catalog(file, mapped)
         for p in problems:
             echo(f"{file.name}: {p}")
+        for remark in look_alike_columns(frame.attrs.get("extra_columns", [])):
+            echo(f"{file.name}: {remark}")
         if problems:
             rows = len(frame) if len(frame) else None
             refused = f"{refused_rows(problems, rows)} of {rows} rows refused; " if rows else ""
             note(f"{file.name}: {len(problems)} problem(s); {refused}nothing was written")
             raise typer.Exit(1)
-        echo(f"{file.name}: {len(frame)} rows, no problems (nothing was written)")
+        n = len(frame)
+        echo(f"{file.name}: {n} row{'' if n == 1 else 's'}, no problems (nothing was written)")
         return
     progress = None
     if is_terminal():
@@ -69,6 +73,8 @@ def import_cmd(
     with open_store_for(ctx, write=True) as store:
         summary = import_catalog(store, file, mapped, progress=progress)
     echo(summary.text())
+    for remark in summary.remarks:
+        note(f"{file.name}: {remark}")
 
 
 @app.command("demo")

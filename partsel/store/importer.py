@@ -69,6 +69,7 @@ class ImportSummary:
     estimated: dict[str, int]
     unchanged: int = 0
     kept_fits: int = 0
+    remarks: tuple[str, ...] = ()   # e.g. extra columns that look like misspelt catalog columns
 
     def text(self) -> str:
         est = ", ".join(f"{k} for {v}" for k, v in self.estimated.items() if v)
@@ -76,8 +77,10 @@ class ImportSummary:
         fits = (f"; kept the measured-fit model of {self.kept_fits} part"
                 f"{'s' if self.kept_fits != 1 else ''} (undo with 'partsel fit PART --undo')"
                 if self.kept_fits else "")
-        return (f"{self.file}: {self.rows} rows read, {self.added} parts added, {self.replaced} "
-                f"replaced{same}, {self.refused} refused"
+        def n(count: int, word: str) -> str:
+            return f"{count} {word}{'' if count == 1 else 's'}"
+        return (f"{self.file}: {n(self.rows, 'row')} read, {n(self.added, 'part')} added, "
+                f"{self.replaced} replaced{same}, {self.refused} refused"
                 + (f"; estimated by rule: {est}" if est else "") + fits)
 
 
@@ -294,6 +297,7 @@ def parse_catalog(cells: pd.DataFrame) -> tuple[pd.DataFrame, list[Problem]]:
     _provenance(out, cells, rows, problems)
     known = set(NAMES) | {p + "_source" for p in MODEL_PARAMETERS}
     extras = [c for c in cells.columns if c not in known]
+    out.attrs["extra_columns"] = extras
     if extras:
         out["extra"] = _extra_json(cells[extras])
     else:
@@ -363,6 +367,20 @@ def fill_estimates(frame: pd.DataFrame) -> None:
             frame.loc[need, f"{p}_source"] = "estimated by rule"
 
 
+def look_alike_columns(extras: list[str]) -> list[str]:
+    """Remarks for extra columns whose name is close to a catalog column (likely typos):
+    they are kept with the part, but the catalog column stays empty."""
+    import difflib
+    known = list(NAMES)
+    out = []
+    for name in extras:
+        close = difflib.get_close_matches(name, known, n=1, cutoff=0.75)
+        if close:
+            out.append(f"column '{name}' is not a catalog column and is kept as an extra column; "
+                       f"did you mean '{close[0]}'?")
+    return out
+
+
 def check_catalog(path: str | Path, mapping: Mapping | None = None
                   ) -> tuple[pd.DataFrame, list[Problem]]:
     """Read and parse a catalog file (through a column mapping, when given) without touching
@@ -422,7 +440,8 @@ def import_catalog(store: Store, path: str | Path, mapping: Mapping | None = Non
                  ("esr", "esl")}
     counts = insert_frame(store, frame, source_file=p.name, progress=progress)
     return ImportSummary(p.name, len(frame), counts.added, counts.replaced, 0, estimated,
-                         counts.unchanged, counts.kept_fits)
+                         counts.unchanged, counts.kept_fits,
+                         remarks=tuple(look_alike_columns(frame.attrs.get("extra_columns", []))))
 
 
 _BIAS_V_SQL = "CAST(regexp_extract_all(bias_curve, '([0-9.eE+-]+)V:', 1) AS DOUBLE[])"
