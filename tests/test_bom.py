@@ -79,13 +79,15 @@ def test_malformed_lines_are_named_and_the_rest_read():
             ",,3,\n"              # no part number
             "A3,,4,3,3V\n"        # decimal comma: one cell too many
             "A4,,-1,\n"           # negative quantity
-            "A5,,2,12V\n")
+            "A5,,2,12V\n"
+            "A6,,0,\n")           # zero quantity
     lines = {ln.line: ln for ln in parse_parts_list(text)}
     assert lines[2].error == "quantity 'ten' is not a whole number: write e.g. 10"
     assert lines[3].error is not None and "5 volts" in lines[3].error
     assert lines[4].error == "no part number: every line needs one"
     assert lines[5].error.startswith("5 cells where the header has 4")
-    assert lines[6].error == "quantity '-1' is not a whole number: write e.g. 10"
+    assert lines[6].error == "quantity -1 must be a whole number of 1 or more"
+    assert lines[8].error == "quantity 0 must be a whole number of 1 or more"
     assert (lines[7].part_number, lines[7].quantity, lines[7].working_voltage,
             lines[7].error) == ("A5", 2, 12.0, None)
     # a bad line keeps only its part number
@@ -97,7 +99,7 @@ part_numbers = st.text(st.sampled_from("ABCDEFGHJKLMNPQRSTUVWXYZ0123456789-"), m
 volts = st.sampled_from(["", "3.3V", "5V", "12 V", "0.8V", "48V", "1e1V"])
 
 
-@given(st.lists(st.tuples(part_numbers, st.integers(0, 10**6), volts), min_size=1,
+@given(st.lists(st.tuples(part_numbers, st.integers(1, 10**6), volts), min_size=1,
                 max_size=30))
 def test_valid_lines_read_back(rows):
     buf = io.StringIO()
@@ -164,6 +166,37 @@ def test_statuses_and_reasons(make_store):
     assert lines[8].status == "found" and lines[8].found_maker == "Betaco"
     assert lines[9].status == "found"          # part numbers match case-insensitively
     assert lines[10].status == "malformed" and lines[10].needs_action
+    # ACT and act are one part: flagged on both lines, not refused
+    assert lines[2].listed_on == lines[9].listed_on == [2, 9]
+    assert lines[3].listed_on == [] and lines[3].listed_text is None
+
+
+def test_stock_below_the_quantity(make_store):
+    store = make_store([cap("FEW", stock="100"), cap("NONE", stock="0")])
+    text = "part_number,quantity\nFEW,100\nNONE,5\n"
+    lines = by_line(check(store, text))
+    # common practice, no source: a line can be built when stock >= quantity
+    assert not lines[2].needs_action
+    assert lines[3].reasons == ["out of stock"]          # not also "below the quantity"
+    lines = by_line(check(store, "part_number,quantity\nFEW,101\n"))
+    assert lines[2].reasons == ["stock 100 below the quantity 101"]
+
+
+def test_repeated_part_totals_its_quantities(make_store):
+    store = make_store([cap("FEW", stock="100"), cap("TWIN", maker="Alphaco"),
+                        cap("TWIN", maker="Betaco", stock="50")])
+    text = ("part_number,maker,quantity\nFEW,,60\nTWIN,Alphaco,30\nfew,Testco,40\n"
+            "TWIN,Betaco,30\nFEW,,1\nTWIN,Betaco,20\n")
+    lines = by_line(check(store, text))
+    # derived: 60 + 40 + 1 = 101 > stock 100, though each line alone fits
+    for n in (2, 4, 6):
+        assert lines[n].listed_on == [2, 4, 6]
+        assert lines[n].reasons == ["stock 100 below the quantity 101 (lines 2, 4, 6 together)"]
+        assert lines[n].listed_text == "part listed on lines 2, 4, 6"
+    # the same part number from two makers is two parts; Betaco: 30 + 20 = 50 = stock
+    assert lines[3].listed_on == [] and not lines[3].needs_action
+    assert lines[5].listed_on == lines[7].listed_on == [5, 7]
+    assert not lines[5].needs_action and not lines[7].needs_action
 
 
 def test_alternates_are_the_best_active_in_stock(make_store):
@@ -224,6 +257,11 @@ def test_cli_exit_codes(make_store, cli, tmp_path):
     assert r.exit_code == 1
     assert "bad.csv line 4: quantity 'many' is not a whole number: write e.g. 10" in r.stderr
     assert "ALT1" in r.stdout
+    assert "part listed on lines 2, 4" not in r.stdout  # line 4 is malformed, not a repeat
+    twice = write(tmp_path, "part_number,quantity\nACT,4\nACT,-4\nACT,2\n", "twice.csv")
+    r = cli("--store", store, "bom", twice)
+    assert "twice.csv line 3: quantity -4 must be a whole number of 1 or more" in r.stderr
+    assert r.stdout.count("part listed on lines 2, 4") == 2
     r = cli("--store", store, "bom", tmp_path / "missing.csv")
     assert r.exit_code == 2
     assert r.stderr.strip().splitlines()[-1].startswith("Error: no such parts list")

@@ -228,8 +228,10 @@ def bom_cmd(
     """Check a parts list: is every part known, active and in stock, and what can replace it.
 
     A line needs action when its part is unknown, obsolete, not recommended for new designs
-    (nrnd), out of stock, rated below the line's working voltage, or when the line cannot be
-    read. Exit code 0: nothing needs action; 1: some line needs action; 2: the file cannot be
+    (nrnd), out of stock or short of the quantity, rated below the line's working voltage, or
+    when the line cannot be read (a quantity must be a whole number of 1 or more). A part listed
+    on several lines is flagged on each, and their quantities are totalled against the stock.
+    Exit code 0: nothing needs action; 1: some line needs action; 2: the file cannot be
     read at all.
 
     Example: partsel bom parts_list.csv --format csv --out report.csv
@@ -279,7 +281,8 @@ def _bom_text(report: Any, fmt: str) -> str:
         elif ln.status != "found":
             action = ln.note or ln.status
         else:
-            action = "; ".join(ln.reasons) or "none"
+            action = "; ".join(ln.reasons + ([ln.listed_text] if ln.listed_text else [])) \
+                or "none"
         d["action"] = action
         d["alternates"] = "; ".join(
             f"{a['part_number']} ({a['distance_db']:.2f} dB)" if fmt == "table" else

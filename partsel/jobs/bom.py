@@ -8,11 +8,14 @@ that cannot be read at all raises :class:`partsel.errors.FileFormatError`.
 
 Statuses: ``found``; ``unknown`` (no such part; close matches named); ``ambiguous`` (several
 makers share the number and the line names none); ``malformed``. A found part needs action when
-it is obsolete, nrnd (not recommended for new designs), out of stock (stock 0), or a capacitor
-whose rating, derated by technology, is below the line's working voltage
-(:func:`partsel.jobs.alternates.derating`). Those lines get the best alternates: the same rules
-as :func:`partsel.jobs.alternates.alternates_for`, with candidates active and in stock, and the
-line's working voltage as the voltage rule and the DC bias.
+it is obsolete, nrnd (not recommended for new designs), out of stock (stock 0), short of stock
+(stock below the quantity), or a capacitor whose rating, derated by technology, is below the
+line's working voltage (:func:`partsel.jobs.alternates.derating`). A part (maker and part
+number) found on several lines is flagged on each of them, not refused: their quantities are
+totalled for the stock check. A quantity must be a whole number of 1 or more. Lines that need
+action get the best alternates: the same rules as :func:`partsel.jobs.alternates.alternates_for`,
+with candidates active and in stock, and the line's working voltage as the voltage rule and the
+DC bias.
 """
 
 from __future__ import annotations
@@ -38,7 +41,7 @@ HEADERS = {  # normalised header -> field
     "quantity": "quantity", "qty": "quantity",
     "working_voltage": "working_voltage", "voltage": "working_voltage",
 }
-_WHOLE = re.compile(r"[0-9]+(?:\.0*)?")
+_WHOLE = re.compile(r"[+-]?[0-9]+(?:\.0*)?")
 
 
 @dataclass(frozen=True)
@@ -68,6 +71,7 @@ class LineReport:
     lifecycle: str | None = None
     stock: int | None = None
     reasons: list[str] = field(default_factory=list)   # why the line needs action
+    listed_on: list[int] = field(default_factory=list)  # all lines of a part listed twice or more
     alternates: list[dict[str, Any]] = field(default_factory=list)
     note: str | None = None
     error: str | None = None
@@ -76,12 +80,20 @@ class LineReport:
     def needs_action(self) -> bool:
         return self.status != "found" or bool(self.reasons)
 
+    @property
+    def listed_text(self) -> str | None:
+        """'part listed on lines 2, 5' when the line's part is on several lines, else None."""
+        if not self.listed_on:
+            return None
+        return f"part listed on lines {', '.join(str(n) for n in self.listed_on)}"
+
     def as_dict(self) -> dict[str, Any]:
         return {"line": self.line, "part_number": self.part_number, "maker": self.maker,
                 "quantity": self.quantity, "working_voltage_v": self.working_voltage,
                 "status": self.status, "found_maker": self.found_maker, "kind": self.kind,
                 "lifecycle": self.lifecycle, "stock": self.stock,
                 "needs_action": self.needs_action, "reasons": self.reasons,
+                "listed_on": self.listed_on,
                 "error": self.error, "note": self.note, "alternates": self.alternates}
 
 
@@ -173,8 +185,10 @@ def _line(number: int, cells: Sequence[str], fields: Sequence[str | None]) -> Li
     quantity = None
     if got.get("quantity"):
         q = got["quantity"]
-        if _WHOLE.fullmatch(q):
+        if _WHOLE.fullmatch(q) and int(float(q)) >= 1:
             quantity = int(float(q))
+        elif _WHOLE.fullmatch(q):
+            errors.append(f"quantity {int(float(q))} must be a whole number of 1 or more")
         else:
             errors.append(f"quantity '{q}' is not a whole number: write e.g. 10")
     wv = None
@@ -223,10 +237,17 @@ def check_bom(store: Store, lines: Sequence[ListLine], alternates: int = 3) -> B
             rep.status = "unknown"
             rep.note = _unknown_note(store, ln)
     parts = {int(p["id"]): p for p in store.parts_by_id(list(set(chosen.values())))}
+    same: dict[int, list[int]] = {}  # part id -> report positions
+    for pos, pid in chosen.items():
+        same.setdefault(pid, []).append(pos)
     cautions: set[str] = set()
     for pos, pid in chosen.items():
         part = parts[pid]
-        _judge(store, reports[pos], part, alternates)
+        group = [reports[p] for p in same[pid]]
+        if len(group) > 1:
+            reports[pos].listed_on = [r.line for r in group]
+        total = sum(r.quantity for r in group if r.quantity is not None)
+        _judge(store, reports[pos], part, alternates, total or None)
         if safety.needs_caution(part.get("safety_class"), part.get("rated_voltage")) or any(
                 safety.needs_caution(a.get("safety_class"), a.get("rated_voltage_v"))
                 for a in reports[pos].alternates):
@@ -244,8 +265,10 @@ def _unknown_note(store: Store, ln: ListLine) -> str:
                                          else ""))
 
 
-def _judge(store: Store, rep: LineReport, part: dict[str, Any], n_alternates: int) -> None:
-    """Fill a found line's status figures, the reasons it needs action, and its alternates."""
+def _judge(store: Store, rep: LineReport, part: dict[str, Any], n_alternates: int,
+           quantity: int | None) -> None:
+    """Fill a found line's status figures, the reasons it needs action, and its alternates;
+    ``quantity`` is the total over every line of the part (None when no line gives one)."""
     rep.found_maker = part["maker"]
     rep.kind = part["kind"]
     rep.lifecycle = part.get("lifecycle") or "active"
@@ -256,6 +279,10 @@ def _judge(store: Store, rep: LineReport, part: dict[str, Any], n_alternates: in
         rep.reasons.append("not recommended for new designs (nrnd)")
     if rep.stock == 0:
         rep.reasons.append("out of stock")
+    elif rep.stock is not None and quantity is not None and rep.stock < quantity:
+        whose = f" (lines {', '.join(str(n) for n in rep.listed_on)} together)" \
+            if rep.listed_on else ""
+        rep.reasons.append(f"stock {rep.stock} below the quantity {quantity}{whose}")
     wv = rep.working_voltage
     if wv is not None and part["kind"] != "capacitor":
         rep.note = "working voltage not checked: the part is an inductor"
