@@ -307,6 +307,30 @@ def test_fit_undo_through_the_cli(store, cli, tmp_path):
     _one_error(cli("--store", store, "fit", "C100N", "--undo"), "not a measured fit")
 
 
+def test_sweep_in_mhz_without_a_unit_is_stored_but_its_fit_refused(store, cli, tmp_path):
+    # a 100 nF part measured 10 kHz..1 GHz, written in MHz under a header without a unit:
+    # read as Hz the fit would give 1e6 x 100 nF = 0.1 F (derived: |Z| = 1/(2 pi f C))
+    f = np.logspace(4, 9, 100)
+    path = _sweep_csv(tmp_path / "mhz.csv", f / 1e6, capacitor.impedance(f, 100e-9, 10e-3,
+                                                                         0.8e-9),
+                      header="frequency,|Z|,phase")
+    before = _dump(store)["parts"]
+    res = cli("--store", store, "sweep", "import", path, "--part", "C100N", "--fit")
+    assert res.exit_code != 0 and "Traceback" not in res.output
+    assert "stored 100 points" in res.stdout and "within 1 dB" not in res.stdout
+    err = res.stderr.strip().splitlines()
+    assert "the fit was refused" in err[0]
+    assert len(err) == 2 and err[1].startswith("Error: ")
+    for needle in ("check the frequency unit", "--freq-unit MHz", "--keep-anyway"):
+        assert needle in err[1]
+    assert _dump(store)["parts"] == before and len(_dump(store)["sweeps"]) == 1
+    _one_error(cli("--store", store, "fit", "C100N"), "--keep-anyway")
+    res = cli("--store", store, "fit", "C100N", "--keep-anyway")
+    assert res.exit_code == 0 and "implausible fit" in res.stderr
+    with open_store(store) as s:
+        assert s.find_part("C100N")["value"] == pytest.approx(0.1, rel=1e-3)
+
+
 def test_fit_without_sweep_and_bad_options(store, cli):
     before = _dump(store)
     _one_error(cli("--store", store, "fit", "C100N"), "no measured sweep", "sweep import")

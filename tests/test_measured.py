@@ -20,6 +20,7 @@ from partsel.engine import capacitor, inductor
 from partsel.errors import FileFormatError, ModelError, QueryError
 from partsel.jobs.find import Search, find
 from partsel.jobs.measured import (
+    ImplausibleFit,
     curve_band,
     fit_part,
     import_sweep,
@@ -218,6 +219,45 @@ def test_fit_that_does_not_converge_is_refused(store, monkeypatch):
     with open_store(store, write=True) as s, pytest.raises(ModelError, match="did not converge"):
         fit_part(s, "C100N")
     assert _dump(store) == before
+
+
+def test_fit_of_a_sweep_read_in_the_wrong_unit_is_refused(store):
+    # a 100 nF part measured 0.01..1000 MHz, the frequencies read as Hz: every frequency is
+    # 1e6 too low, so the fitted C comes out 1e6 too high (derived: |Z| = 1/(2 pi f C))
+    f = np.logspace(4, 9, 100)
+    with open_store(store, write=True) as s:
+        store_sweep(s, "C100N", f / 1e6, capacitor.impedance(f, 100e-9, 10e-3, 0.8e-9))
+    before = _dump(store)
+    with open_store(store, write=True) as s, pytest.raises(ImplausibleFit) as exc:
+        fit_part(s, "C100N")
+    msg = str(exc.value)
+    assert "\n" not in msg and "not stored" in msg and "--keep-anyway" in msg
+    assert "check the frequency unit of the sweep" in msg and "--freq-unit MHz" in msg
+    assert "100 nF" in msg and "1e+06x" in msg     # 0.1 F / 100 nF = 1e6 (derived)
+    assert _dump(store) == before
+    with open_store(store, write=True) as s:
+        dry = fit_part(s, "C100N", save=False)
+        assert any("implausible fit" in w for w in dry.warnings)
+        kept = fit_part(s, "C100N", keep_anyway=True)
+        part = s.find_part("C100N")
+    assert kept.saved and part["value"] == pytest.approx(0.1, rel=1e-3)   # 100 nF x 1e6
+
+
+def test_fit_of_an_inductor_swept_far_below_its_srf_is_refused(store):
+    # 10 uH with a catalog SRF of 25 MHz, swept 100 Hz..100 kHz: the sweep ends 250x below
+    # the SRF, more than the one decade the rule allows (rule of thumb, fit_doubts)
+    f = np.logspace(2, 5, 60)
+    cp = float(inductor.winding_capacitance(10e-6, 25e6))
+    with open_store(store, write=True) as s:
+        store_sweep(s, "L10U", f, inductor.impedance(f, 10e-6, 40e-3, cp))
+        with pytest.raises(ImplausibleFit, match="within a decade of the catalog SRF 25 MHz"):
+            fit_part(s, "L10U")
+        assert s.find_part("L10U")["srf_source"] != "measured fit"
+    # the same part swept up to 3 MHz (within a decade of 25 MHz) is stored
+    f = np.logspace(2, np.log10(3e6), 60)
+    with open_store(store, write=True) as s:
+        store_sweep(s, "L10U", f, inductor.impedance(f, 10e-6, 40e-3, cp))
+        assert fit_part(s, "L10U").saved
 
 
 def test_reimport_keeps_a_measured_fit_and_updates_the_rest(store, tmp_path):

@@ -55,6 +55,9 @@ def sweep_import_cmd(
                                                   "away (see 'partsel fit')."),
     tan_delta: bool = typer.Option(False, "--tan-delta", help="With --fit: also fit the "
                                                               "capacitor's dielectric loss."),
+    keep_anyway: bool = typer.Option(False, "--keep-anyway",
+                                     help="With --fit: store a fit even when it disagrees with "
+                                          "the catalog (see 'partsel fit')."),
 ) -> None:
     """Store a measured impedance sweep with a part (Touchstone or CSV).
 
@@ -82,7 +85,14 @@ def sweep_import_cmd(
         for r in res.remarks:
             note(f"Warning: {r}")
         if fit:
-            _fit_and_report(store, sw.part_number, sw.maker, tan_delta, True, None, True, "table")
+            from partsel.jobs.measured import ImplausibleFit
+            try:
+                _fit_and_report(store, sw.part_number, sw.maker, tan_delta, True, None, True,
+                                "table", keep_anyway)
+            except ImplausibleFit:
+                note("The sweep is stored; the fit was refused and the part's model is "
+                     "unchanged.")
+                raise
 
 
 @sweep_app.command("list")
@@ -126,6 +136,10 @@ def fit_cmd(
                                                           "model."),
     undo: bool = typer.Option(False, "--undo", help="Put back the model the last fit "
                                                     "replaced."),
+    keep_anyway: bool = typer.Option(False, "--keep-anyway",
+                                     help="Store the fit even when the fitted C or L is over "
+                                          "10x from the catalog value or the sweep misses the "
+                                          "catalog SRF by over a decade."),
     fmt: str = typer.Option("table", "--format", "-f", metavar="table|json",
                             help="Output: a table for reading, or JSON with SI numbers."),
 ) -> None:
@@ -133,7 +147,10 @@ def fit_cmd(
 
     Least squares on log|Z| and phase. Reports the fitted values, the residual in dB over the
     band and where the model departs from the data. The fitted values become the part's model
-    with provenance "measured fit"; the model they replace is kept (see --undo).
+    with provenance "measured fit"; the model they replace is kept (see --undo). A fit whose C
+    or L is more than 10x from the catalog value, or whose sweep does not reach within a decade
+    of the catalog SRF, is refused (most often a frequency unit read wrong) unless
+    --keep-anyway.
 
     Example: partsel fit PART --tan-delta
     """
@@ -144,12 +161,12 @@ def fit_cmd(
         raise QueryError("fit reports as a table or JSON: use --format table or json")
     with open_store_for(ctx, write=not dry_run) as store:
         if undo:
-            if dry_run or band or tan_delta or no_rp:
+            if dry_run or band or tan_delta or no_rp or keep_anyway:
                 raise QueryError("--undo takes no other fit options")
             _undo(store, part, maker, fmt)
             return
         _fit_and_report(store, part, maker, tan_delta, not no_rp,
-                        units.parse_band(band) if band else None, not dry_run, fmt)
+                        units.parse_band(band) if band else None, not dry_run, fmt, keep_anyway)
 
 
 def _undo(store, part: str, maker: str | None, fmt: str) -> None:
@@ -171,12 +188,14 @@ def _undo(store, part: str, maker: str | None, fmt: str) -> None:
 
 
 def _fit_and_report(store, part: str, maker: str | None, tan_delta: bool, rp: bool,
-                    band: tuple[float, float] | None, save: bool, fmt: str) -> None:
+                    band: tuple[float, float] | None, save: bool, fmt: str,
+                    keep_anyway: bool = False) -> None:
     from partsel.jobs.measured import fit_part
     from partsel.render import cell
     from partsel.units import format_quantity as fq
 
-    res = fit_part(store, part, maker=maker, tan_delta=tan_delta, rp=rp, band=band, save=save)
+    res = fit_part(store, part, maker=maker, tan_delta=tan_delta, rp=rp, band=band, save=save,
+                   keep_anyway=keep_anyway)
     fit = res.fit
     pn = res.part["part_number"]
     units = _UNIT[res.part["kind"]]

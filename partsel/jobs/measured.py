@@ -41,6 +41,12 @@ CSV_SUFFIXES = (".csv", ".txt", ".tsv")
 POOR_FIT_DB = 1.0          # RMS residual above which a fit is flagged as poor [dB]
 SHUNT_GROUND_LOOP_HZ = 100e3   # shunt-thru below this may carry a ground-loop error (rule of thumb)
 FIT_REASON = "replaced by a measured fit"   # start of the history reason a fit writes
+PLAUSIBLE_RATIO = 10.0     # a fitted C or L further than this factor from the stored value
+SRF_REACH = 10.0           # a sweep must reach within this factor of the part's catalog SRF
+
+
+class ImplausibleFit(ModelError):
+    """A fit that converged but disagrees with the part's catalog data (likely a unit error)."""
 
 
 @dataclass(frozen=True)
@@ -257,7 +263,7 @@ def _run_fit(kind: str, f: NDArray, z: NDArray, tan_delta: bool, rp: bool,
 
 def fit_part(store: Store, part_number: str, *, maker: str | None = None,
              tan_delta: bool = False, rp: bool = True, band: tuple[float, float] | None = None,
-             save: bool = True) -> PartFit:
+             save: bool = True, keep_anyway: bool = False) -> PartFit:
     """Fit a part's equivalent circuit to its latest stored sweep; store it unless ``save`` is
     false.
 
@@ -265,7 +271,14 @@ def fit_part(store: Store, part_number: str, *, maker: str | None = None,
     C_p (stored as the SRF) and, with ``rp``, the parallel loss R_p. ``band`` limits the fit to
     the sweep's points inside it. The fitted values replace the stored model with provenance
     "measured fit"; the model they replace is kept in ``model_history``. A fit that did not
-    converge is refused and changes nothing.
+    converge is refused and changes nothing, and so is one that :func:`fit_doubts` finds
+    implausible, unless ``keep_anyway`` (with ``save`` false its doubts become warnings).
+
+    Raises
+    ------
+    ImplausibleFit
+        the fitted C or L is more than 10x from the stored value, or the sweep does not reach
+        within a decade of the catalog SRF; nothing is stored.
     """
     part = store.find_part(part_number, maker)
     if part["kind"] == "inductor" and tan_delta:
@@ -288,7 +301,10 @@ def fit_part(store: Store, part_number: str, *, maker: str | None = None,
     else:
         model = {"value": prm["value"], "dcr": prm["dcr"], "srf": prm["srf"],
                  "rp": prm["rp"] if math.isfinite(prm["rp"]) else None}
+    doubts = fit_doubts(part, model["value"], (float(f[0]), float(f[-1])))
     warnings = _fit_warnings(result, sweep, f)
+    if not save or keep_anyway:
+        warnings += [f"implausible fit: {d}" for d in doubts]
     out = PartFit(part, sweep, result, _model_of(part), model, False, (float(f[0]),
                   float(f[-1])), warnings)
     if not save:
@@ -297,8 +313,41 @@ def fit_part(store: Store, part_number: str, *, maker: str | None = None,
         raise ModelError(f"the fit of {part['part_number']} did not converge "
                          f"({result.message.rstrip('.')}); the stored model was not changed: "
                          "try --band to leave out points the model cannot follow")
+    if doubts and not keep_anyway:
+        where = ("give --freq-unit MHz or put the unit in the column header, e.g. "
+                 "'Frequency (MHz)'" if sweep.fixture is None else
+                 "see the unit on the Touchstone option line ('# MHz ...')")
+        raise ImplausibleFit(f"the fit of {part['part_number']} was not stored: "
+                             f"{'; '.join(doubts)}; check the frequency unit of the sweep: "
+                             f"{where}; to store this fit anyway add --keep-anyway")
     _save_fit(store, out)
     out.saved = True
+    return out
+
+
+def fit_doubts(part: dict[str, Any], fitted_value: float,
+               band: tuple[float, float]) -> list[str]:
+    """Why a fitted model does not fit the part's catalog data; empty when it does.
+
+    Two rules of thumb (no published source): a fitted C or L more than ``PLAUSIBLE_RATIO``
+    (10x) above or below the stored value is not the same part, and a sweep that ends more
+    than a decade below, or starts more than a decade above, the part's catalog SRF (when it
+    has one) cannot have seen the part near its resonance. Both are what a frequency column
+    read in the wrong unit gives (MHz read as Hz shifts every frequency by 1e6).
+    """
+    out = []
+    sym, unit = ("C", "F") if part["kind"] == "capacitor" else ("L", "H")
+    value = part.get("value")
+    if value and math.isfinite(fitted_value) and fitted_value > 0:
+        ratio = fitted_value / float(value)
+        if not 1 / PLAUSIBLE_RATIO <= ratio <= PLAUSIBLE_RATIO:
+            out.append(f"the fitted {sym} of {format_quantity(fitted_value, unit)} is "
+                       f"{ratio:.3g}x the stored {format_quantity(float(value), unit)} "
+                       f"({part.get('value_source') or 'catalog'})")
+    srf = part.get("srf")
+    if srf and not band[0] / SRF_REACH <= float(srf) <= band[1] * SRF_REACH:
+        out.append(f"the sweep ({_span(*band)}) does not reach within a decade of the catalog "
+                   f"SRF {format_quantity(float(srf), 'Hz')}")
     return out
 
 
