@@ -26,6 +26,9 @@ class Col:
     header: str
     unit: str | None = None   # None: shown as text; "" a plain number; else a unit symbol
     digits: int = 3
+    flag: str | None = None   # key of a provenance column: "*" marks an estimate by rule
+
+ESTIMATE_MARK = "*"
 
 
 def cell(value: Any, col: Col) -> str:
@@ -44,7 +47,8 @@ def cell(value: Any, col: Col) -> str:
 
 def table(rows: Sequence[dict[str, Any]], cols: Sequence[Col]) -> str:
     from tabulate import tabulate
-    body = [[cell(r.get(c.key), c) for c in cols] for r in rows]
+    body = [[cell(r.get(c.key), c) + (ESTIMATE_MARK if c.flag and r.get(c.flag) ==
+                                       "estimated by rule" else "") for c in cols] for r in rows]
     return tabulate(body, headers=[c.header for c in cols], tablefmt="simple",
                     disable_numparse=True)
 

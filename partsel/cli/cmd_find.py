@@ -13,8 +13,8 @@ from partsel.render import Col
 
 CAP_COLS = [Col("part_number", "part"), Col("maker", "maker"), Col("value", "C", "F"),
             Col("case", "case"), Col("dielectric", "diel."), Col("technology", "tech."),
-            Col("rated_voltage", "rated", "V"), Col("esr", "ESR", "ohm"),
-            Col("esl", "ESL", "H"), Col("srf_hz", "SRF", "Hz"),
+            Col("rated_voltage", "rated", "V"), Col("esr", "ESR", "ohm", flag="esr_source"),
+            Col("esl", "ESL", "H", flag="esl_source"), Col("srf_hz", "SRF", "Hz"),
             Col("max_z_ohm", "max |Z|", "ohm"), Col("f_max_hz", "at", "Hz"),
             Col("lifecycle", "life"), Col("stock", "stock", "")]
 IND_COLS = [Col("part_number", "part"), Col("maker", "maker"), Col("value", "L", "H"),
@@ -177,6 +177,15 @@ def find_cmd(
     if search.kind == "inductor" and search.band:
         cols = cols[:-2] + [Col("max_z_ohm", "max |Z|", "ohm"),
                             Col("min_z_ohm", "min |Z|", "ohm")] + cols[-2:]
+    if search.kind == "capacitor" and search.above is not None:
+        # an "above" search is decided by the band minimum: show it next to the maximum
+        at_max = [i for i, c in enumerate(cols) if c.key == "f_max_hz"][0]
+        cols = cols[:at_max + 1] + [Col("min_z_ohm", "min |Z|", "ohm"),
+                                    Col("f_min_hz", "at", "Hz")] + cols[at_max + 1:]
+    if search.kind == "capacitor" and search.mount_l:
+        cols = [Col("esl_mounted", "ESL+mount", "H") if c.key == "esl" else c for c in cols]
+        for r in result.rows:
+            r["esl_mounted"] = (r.get("esl") or 0.0) + search.mount_l
     if search.measured:
         cols = cols[:-2] + [Col("curve", "curve")] + cols[-2:]
     if search.kind == "inductor" and search.min_q:
@@ -188,3 +197,6 @@ def find_cmd(
          f"{result.order}. Model: " + "; ".join(result.effects))
     for n in result.notes:
         note(n)
+    if fmt == "table" and any(r.get(f"{p}_source") == "estimated by rule" for r in result.rows
+                              for p in ("esr", "esl")):
+        note("* estimated by rule of thumb: the catalog gives no value (see 'partsel show PART')")

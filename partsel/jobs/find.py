@@ -172,7 +172,7 @@ def find(store: Store, search: Search) -> FindResult:
         # one query, so every column comes back in the same row order
         a = store.arrays(f"SELECT {cols} FROM parts WHERE {where}", params)
         value, esr, esl, td = a["value"], a["esr"], a["esl"], a["tan_delta"]
-        effects.append("series R-L-C model: ESR(f) = esr + tan_delta/(2 pi f C)")
+        effects.append("series R-L-C, ESR(f) = esr + tan_delta/(2 pi f C)")
         c_eff = value
         bias_src = None
         if search.bias is not None:
@@ -207,7 +207,7 @@ def find(store: Store, search: Search) -> FindResult:
                          f"isat, irms FROM parts WHERE {where}", params)
         value, dcr = a["value"], a["dcr"]
         cp = inductor.winding_capacitance(value, a["srf"])
-        effects.append("inductor model: (L + DCR) parallel to C_p = 1/((2 pi SRF)^2 L) and Rp")
+        effects.append("(L + DCR) in parallel with C_p = 1/((2 pi SRF)^2 L) and Rp")
         ok = np.isfinite(value)
         metrics = {"zero_phase_hz": inductor.zero_phase_frequency(value, dcr, cp)}
         if search.inductive_to is not None or search.band is not None:
