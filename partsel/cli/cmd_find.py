@@ -113,7 +113,7 @@ def find_cmd(
 
       partsel find capacitor --below 0.5ohm --band 1MHz..30MHz
 
-      partsel find capacitor --below 50mohm --band 100kHz..10MHz --case 0805 --bias 3.3V
+      partsel find capacitor --below 0.1ohm --band 1MHz..10MHz --case 0805 --bias 3.3V
 
       partsel find inductor --inductive-to 100MHz --value 10nH..100nH
 
