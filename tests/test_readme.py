@@ -49,5 +49,7 @@ def test_readme_usage_block_runs(cli, tmp_path, monkeypatch):
         assert r.exit_code == code, f"partsel {' '.join(argv)}\n{r.output}"
         assert "Error:" not in r.output and "Traceback" not in r.output
         assert r.output.strip(), f"partsel {' '.join(argv)} said nothing"
+        if "find" in argv:  # an example search should find something on the demo catalog
+            assert "(no parts)" not in r.stdout, f"partsel {' '.join(argv)} found nothing"
     for made in ("z.png", "inductors.png", "pdn.png", "part.lib", "part.s1p", "parts.parquet"):
         assert (tmp_path / made).stat().st_size > 0, made
