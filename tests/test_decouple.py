@@ -612,12 +612,52 @@ def test_parse_mount_l_round_trip(one, by_case, give_one):
      "no capacitor in the store passes the filters"),
     (["--rail", "0V", "--target", "3mohm", "--band", "1MHz..10MHz"],
      "the rail voltage must be positive"),
+    # a ripple is a share of the rail (Z_t = V x ripple / step): a bare 3 would be 300 %
+    (["--rail", "1V", "--ripple", "3", "--step", "1A", "--band", "1MHz..10MHz"],
+     "write it as a percentage such as 3%"),
+    (["--rail", "1V", "--ripple", "150%", "--step", "1A", "--band", "1MHz..10MHz"],
+     "--ripple 150 % is more than the whole rail"),
+    (["--rail", "1V", "--target", "3mohm", "--band", "1MHz..10MHz", "--technology",
+      "paper"], "'paper' is not a known technology: use one of mlcc, film"),
+    (["--rail", "1V", "--target", "3mohm", "--band", "1MHz..10MHz", "--lifecycle", "old"],
+     "'old' is not a known lifecycle"),
+    (["--rail", "1V", "--target", "3mohm", "--band", "1MHz..10MHz", "--dielectric", "Q9Q"],
+     "unknown dielectric code 'Q9Q'"),
 ])
 def test_cli_errors(cli, catalog, args, message):
     r = cli("--store", catalog, "decouple", *args)
     assert r.exit_code == 2, r.output
     assert r.stderr.startswith("Error: ") and len(r.stderr.strip().splitlines()) == 1
     assert message in r.stderr
+
+
+def test_ripple_as_a_fraction_or_percentage(make_store):
+    # derived: Z_t = V x ripple / step = 1 V x 0.03 / 1 A = 30 mohm
+    for r in (0.03, 1.0):
+        assert_allclose(dec.Rail.from_ripple(1.0, r, 1.0, (1e6, 1e7)).target, r, rtol=1e-12)
+    with pytest.raises(QueryError, match="such as 3%"):
+        dec.Rail.from_ripple(1.0, 3.0, 1.0, (1e6, 1e7))
+
+
+def test_list_filters_are_spelled_as_the_catalog_does(make_store):
+    store = make_store(CATALOG)
+    rail = dec.Rail(3.3, 0.02, (1e5, 5e7))
+    with open_store(store) as s:
+        plain = dec.plan(s, rail, dec.Choice(technologies=("mlcc",), dielectrics=("X7R",),
+                                             cases=("0402", "0603", "0805"),
+                                             lifecycles=("active", "nrnd")))
+        # aliases: ceramic -> mlcc (catalog.ALIASES), x7r -> X7R (EIA-198), 402 -> 0402
+        # (a case code that lost its leading zero), "not recommended" -> nrnd
+        alias = dec.Choice(technologies=("Ceramic",), dielectrics=("x7r",),
+                           cases=("402", "603", "0805"),
+                           lifecycles=("Active", "not recommended"))
+        again = dec.plan(s, rail, alias)
+    assert alias.technologies == ("mlcc",) and alias.dielectrics == ("X7R",)
+    assert alias.cases == ("0402", "0603", "0805")
+    assert alias.lifecycles == ("active", "nrnd")
+    assert [ln["part_number"] for ln in again.lines] == [
+        ln["part_number"] for ln in plain.lines]
+    assert again.lines and {ln["dielectric"] for ln in again.lines} == {"X7R"}
 
 
 def test_check_unknown_part_and_inductor(cli, make_store, tmp_path):

@@ -195,8 +195,8 @@ def decouple_cmd(
         "--target", metavar="Z", help="Target impedance, e.g. 3mohm; or give --ripple and "
         "--step.")] = None,
     ripple: Annotated[str | None, typer.Option(
-        "--ripple", metavar="PCT", help="Allowed ripple as a share of the rail, e.g. 3%: "
-        "Z_t = V x ripple / step.")] = None,
+        "--ripple", metavar="PCT", help="Allowed ripple as a share of the rail, e.g. 3% "
+        "(or 0.03): Z_t = V x ripple / step.")] = None,
     step: Annotated[str | None, typer.Option(
         "--step", metavar="I", help="Load current step, e.g. 10A.")] = None,
     band: Annotated[str | None, typer.Option(
@@ -232,14 +232,14 @@ def decouple_cmd(
         "--case", metavar="CASE,...", help="EIA case code(s) to use, e.g. 0402,0603.")] = None,
     technology: Annotated[Texts, typer.Option(
         "--technology", metavar="TECH,...",
-        help="mlcc, film, aluminum, polymer, tantalum.")] = None,
+        help="mlcc (or ceramic), film, aluminum, polymer, tantalum.")] = None,
     dielectric: Annotated[Texts, typer.Option(
         "--dielectric", metavar="CODE,...", help="EIA-198 code(s), e.g. X7R.")] = None,
     maker: Annotated[Texts, typer.Option(
         "--maker", metavar="NAME,...", help="Maker name(s).")] = None,
     lifecycle: Annotated[Texts, typer.Option(
         "--lifecycle", metavar="STATE,...",
-        help="Lifecycle states to use (default active).")] = None,
+        help="Lifecycle states to use: active, nrnd, obsolete (default active).")] = None,
     min_voltage: Annotated[str | None, typer.Option(
         "--min-voltage", metavar="V", help="Rated voltage at least V (default: 1.25 x rail; "
         "tantalum 2 x; polymer 1.11 x up to 10 V, 1.25 x above).")] = None,

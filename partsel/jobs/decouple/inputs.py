@@ -9,8 +9,10 @@ from typing import Literal
 import numpy as np
 from numpy.typing import NDArray
 
+from partsel.catalog import CAPACITOR_TECHNOLOGIES, LIFECYCLES, canonical, normalise_case
 from partsel.engine import pdn
 from partsel.errors import QueryError
+from partsel.standards import eia198
 
 Prefer = Literal["count", "cost"]
 
@@ -116,6 +118,10 @@ class Rail:
         for name, v in (("--rail", voltage), ("--ripple", ripple), ("--step", step)):
             if not (math.isfinite(v) and v > 0):
                 raise QueryError(f"{name} must be positive, got {v:g}")
+        if ripple > 1.0:  # a ripple is a share of the rail: more than all of it is a typo
+            raise QueryError(f"--ripple {100 * ripple:g} % is more than the whole rail (a bare "
+                             "number such as 3 reads as 300 %): write it as a percentage such "
+                             "as 3%")
         z = float(pdn.target_impedance(voltage, ripple, step))
         return cls(voltage, z, band, board or Board(), worst_case, margin, ripple, step)
 
@@ -149,6 +155,14 @@ class Choice:
     prefer: Prefer = "count"
 
     def validate(self) -> None:
+        """Refuse unknown limits; spell the list filters as the catalog does (aliases such as
+        ceramic -> mlcc, EOL -> obsolete, 402 -> 0402), so that an unknown word is an error
+        rather than an empty choice."""
+        self.technologies = tuple(canonical("technology", t, CAPACITOR_TECHNOLOGIES)
+                                  for t in self.technologies)
+        self.lifecycles = tuple(canonical("lifecycle", x, LIFECYCLES) for x in self.lifecycles)
+        self.dielectrics = tuple(eia198.decode(d).code for d in self.dielectrics)
+        self.cases = tuple(normalise_case(c) for c in self.cases)
         if self.prefer not in ("count", "cost"):
             raise QueryError(f"unknown --prefer '{self.prefer}': use count or cost")
         if self.max_parts < 1:
