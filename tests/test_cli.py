@@ -117,3 +117,12 @@ def test_module_runs_as_a_program(tmp_path):
                           "find", "capacitor", "--below", "1ohm"], capture_output=True, text=True)
     assert out.returncode == 2 and out.stderr.startswith("Error: ")
     assert "Traceback" not in out.stderr
+
+
+def test_wrong_maker_names_the_right_one(cli, make_store):
+    store = make_store([{"part_number": "M1", "maker": "Rightco", "kind": "capacitor",
+                         "value": "1uF", "esr": "10mohm", "esl": "0.5nH"}])
+    r = cli("--store", store, "show", "M1", "--maker", "Wrongco")
+    assert r.exit_code == 2
+    assert r.stderr.startswith("Error: part 'M1' is not from maker 'Wrongco'")
+    assert "it is from Rightco" in r.stderr

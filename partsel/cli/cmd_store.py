@@ -20,7 +20,7 @@ def import_cmd(
                                     "nothing."),
     mapping: str = typer.Option(None, "--map", metavar="MAP.toml",
                                 help="Column mapping for a file with its own column names, "
-                                     "units and words (TOML; see below)."),
+                                     "units and words (TOML; see the example above)."),
 ) -> None:
     """Add or replace parts from a catalog file, all or nothing.
 
@@ -87,7 +87,8 @@ def demo_cmd(
 ) -> None:
     """Fill the store with invented demo parts (for trying partsel and for benchmarks).
 
-    Parts are added or replaced by maker and part number, so running it twice changes nothing.
+    Parts are added or replaced by maker and part number: running it twice with the same
+    --parts and --seed replaces the same parts with identical ones.
 
     Example: partsel --store big.duckdb demo --parts 1000000
     """

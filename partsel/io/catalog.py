@@ -131,5 +131,10 @@ def _read_csv(p: Path) -> pd.DataFrame:
         return pd.read_csv(p, dtype=str, keep_default_na=False, encoding=encoding,
                            sep=delimiter, skip_blank_lines=True, on_bad_lines="error")
     except pd.errors.ParserError as exc:
+        m = re.search(r"Expected (\d+) fields in line (\d+), saw (\d+)", str(exc))
+        if m:
+            raise CatalogError(f"cannot read {p.name}: line {m[2]} has {m[3]} cells where the "
+                               f"header has {m[1]}; quote a cell that holds the delimiter "
+                               f"'{delimiter}'") from None
         raise CatalogError(f"cannot read {p.name}: {str(exc).strip()} (every row must have "
                            "as many cells as the header)") from None

@@ -82,6 +82,12 @@ class Store:
         matches when there is none, or when several makers share the number and none was given.
         """
         rows = self._match(part_number, maker)
+        if not rows and maker:
+            others = sorted({r["maker"] for r in self._match(part_number, None)})
+            if others:
+                raise PartNotFound(f"part '{part_number}' is not from maker '{maker}' in the store "
+                                   f"{self.path}; it is from {', '.join(others)}: change or drop "
+                                   "--maker")
         if not rows:
             hint = self._suggest(part_number)
             who = f" from maker '{maker}'" if maker else ""
