@@ -307,6 +307,15 @@ def test_fit_undo_through_the_cli(store, cli, tmp_path):
     _one_error(cli("--store", store, "fit", "C100N", "--undo"), "not a measured fit")
 
 
+def test_sweep_column_errors_name_the_options(store, cli, tmp_path):
+    f = np.logspace(4, 9, 20)
+    path = _sweep_csv(tmp_path / "odd.csv", f, capacitor.impedance(f, 100e-9, 10e-3, 0.8e-9),
+                      header="Frequency (Hz),level,angle2")
+    line = _one_error(cli("--store", store, "sweep", "import", path, "--part", "C100N"),
+                      "--mag-col and --phase-col or --r-col and --x-col")
+    assert "mag_col" not in line
+
+
 def test_sweep_in_mhz_without_a_unit_is_stored_but_its_fit_refused(store, cli, tmp_path):
     # a 100 nF part measured 10 kHz..1 GHz, written in MHz under a header without a unit:
     # read as Hz the fit would give 1e6 x 100 nF = 0.1 F (derived: |Z| = 1/(2 pi f C))

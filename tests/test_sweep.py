@@ -107,6 +107,38 @@ def test_errors_name_line_and_column(text, where):
     assert where in str(info.value)
 
 
+@pytest.mark.parametrize("header, f_scale", [
+    ("MHz,Z_ohm,theta_deg", 1e6), ("Hz,|Z| ohm,phase_deg", 1.0), ("kHz,|Z| ohm,theta_deg", 1e3),
+    ("GHz,Z_ohm,phase_deg", 1e9),
+])
+def test_unit_only_frequency_header_and_spelled_magnitude_and_phase(header, f_scale):
+    # the unit taken from a header that is only the unit: k = 1e3, M = 1e6, G = 1e9 (SI
+    # brochure); Z = |Z| exp(j phase) (definition)
+    s = read_sweep_csv(_polar_csv(header, f_scale=f_scale))
+    np.testing.assert_allclose(s.f, F, rtol=1e-15)
+    np.testing.assert_allclose(s.z, Z, rtol=1e-14)
+    assert list(s.columns) == ["frequency", "|Z|", "phase"]
+
+
+def test_column_messages_name_keywords_or_command_options():
+    unknown = "f,a,b\n" + "1,1,1\n" * 6
+    nofreq = "when,mag,phase\n" + "1,1,1\n" * 6
+    with pytest.raises(FileFormatError, match="mag_col= and phase_col= or r_col= and x_col="):
+        read_sweep_csv(unknown)
+    with pytest.raises(FileFormatError) as info:
+        read_sweep_csv(unknown, cli=True)
+    msg = str(info.value)
+    assert "--mag-col and --phase-col or --r-col and --x-col" in msg and "_col" not in msg
+    with pytest.raises(FileFormatError, match="--freq-col"):
+        read_sweep_csv(nofreq, cli=True)
+    with pytest.raises(FileFormatError, match="--x-col"):
+        read_sweep_csv("f,r,q\n" + "1,1,1\n" * 6, r_col="r", cli=True)
+    with pytest.raises(FileFormatError, match="--mag-col and --phase-col or --r-col"):
+        read_sweep_csv(GOOD, mag_col="mag", r_col="mag", cli=True)
+    with pytest.raises(FileFormatError, match="--phase-unit rad"):
+        read_sweep_csv(GOOD.replace("3,1,0", "3,1,north"), cli=True)
+
+
 def test_unknown_column_name_lists_the_columns():
     with pytest.raises(FileFormatError, match="'f', 'mag', 'phase'"):
         read_sweep_csv(GOOD, mag_col="modulus")

@@ -73,7 +73,8 @@ def sweep_import_cmd(
                    "phase_unit": phase_unit}
     with open_store_for(ctx, write=True) as store:
         res = import_sweep(store, Path(file_name), part, maker=maker,
-                           fixture=fixture.lower() if fixture else None, **csv_options)
+                           fixture=fixture.lower() if fixture else None, cli=True,
+                           **csv_options)
         sw = res.sweep
         lo, hi = sw.band
         from partsel.units import format_quantity as fq

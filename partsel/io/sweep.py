@@ -3,12 +3,13 @@
 The first line that is not blank and not a comment (``#`` or ``!``) is the header. Column names
 match case-insensitively. A header may carry its unit in brackets or parentheses
 ("Frequency (MHz)", "|Z| [ohm]", "Phase (deg)") or after a final underscore ("frequency_hz",
-"r_ohm"). Cells are plain numbers, in the column's unit, or quantities with their own unit
-("1 MHz", "22 mohm"), read by :func:`partsel.units.parse_quantity`. The delimiter is the one of
-``,``, ``;`` and tab that the header line uses most.
+"r_ohm") or after a space ("|Z| ohm"); a header that is only a frequency unit ("MHz") names the
+frequency column and its unit. Cells are plain numbers, in the column's unit, or quantities with
+their own unit ("1 MHz", "22 mohm"), read by :func:`partsel.units.parse_quantity`. The
+delimiter is the one of ``,``, ``;`` and tab that the header line uses most.
 
 When no columns are named the obvious ones are taken: frequency/freq/f; R and X (r/real/re,
-x/imag/im) when both are present, else |Z| (|z|/mag/magnitude/z_abs) with phase
+x/imag/im) when both are present, else |Z| (|z|/z/mag/magnitude/z_abs) with phase
 (phase/angle/theta). :attr:`Sweep.columns` and :attr:`Sweep.source` say which were used.
 """
 
@@ -27,7 +28,7 @@ from partsel.errors import FileFormatError, UnitError
 
 MIN_POINTS = 5
 FREQ_NAMES = ("frequency", "freq", "f")
-MAG_NAMES = ("|z|", "mag", "magnitude", "z_abs", "abs(z)", "zmag", "z_mag", "impedance")
+MAG_NAMES = ("|z|", "mag", "magnitude", "z_abs", "abs(z)", "zmag", "z_mag", "impedance", "z")
 PHASE_NAMES = ("phase", "angle", "theta", "arg", "z_phase", "phase(z)")
 R_NAMES = ("r", "real", "re", "re(z)", "z_re", "resistance")
 X_NAMES = ("x", "imag", "im", "im(z)", "z_im", "reactance")
@@ -36,6 +37,12 @@ PHASE_UNITS = {"deg": math.pi / 180.0, "degree": math.pi / 180.0, "degrees": mat
 _BRACKET = re.compile(r"(.*?)\s*[(\[]\s*([^()\[\]]*?)\s*[)\]]\s*\Z")
 _SUFFIX_UNITS = ("hz", "khz", "mhz", "ghz", "ohm", "ohms", "mohm", "kohm", "deg", "rad",
                  "degrees", "radians")
+_FREQ_UNITS = ("hz", "khz", "mhz", "ghz")
+# How messages name the column and unit choices: keyword arguments, or the command's options.
+_KEYWORDS = {"freq": "freq_col=", "mag": "mag_col=", "phase": "phase_col=", "r": "r_col=",
+             "x": "x_col=", "radians": "phase_unit='rad'"}
+_OPTIONS = {"freq": "--freq-col", "mag": "--mag-col", "phase": "--phase-col", "r": "--r-col",
+            "x": "--x-col", "radians": "--phase-unit rad"}
 _PLAIN = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?\Z")
 _STARTS_NUMERIC = re.compile(r"[+-]?\.?\d")
 
@@ -77,15 +84,19 @@ def _split_header(header: str) -> tuple[str, str]:
     m = _BRACKET.match(header)
     if m and m.group(1):
         return m.group(1).strip(), m.group(2).strip()
-    base, sep, suffix = header.rpartition("_")
-    if sep and base and suffix.lower() in _SUFFIX_UNITS:
-        return base.strip(), suffix
+    if header.strip().lower() in _FREQ_UNITS:
+        return "frequency", header.strip()
+    for mark in ("_", " "):
+        base, sep, suffix = header.strip().rpartition(mark)
+        if sep and base.strip() and suffix.lower() in _SUFFIX_UNITS:
+            return base.strip(), suffix
     return header.strip(), ""
 
 
 class _Reader:
-    def __init__(self, text: str, label: str) -> None:
+    def __init__(self, text: str, label: str, names: dict[str, str]) -> None:
         self.label = label
+        self.names = names
         self.rows: list[tuple[int, list[str]]] = []
         lines = [(no, ln) for no, ln in enumerate(text.splitlines(), 1)
                  if ln.strip() and not ln.lstrip().startswith(("#", "!"))]
@@ -179,7 +190,7 @@ class _Reader:
             num, own = (m.group(1), m.group(2)) if m else (cell, None)
             if not _PLAIN.match(num):
                 raise self.fail(no, f"column '{col.header}': '{cell}' is not a phase; write a "
-                                "number of degrees (or radians with phase_unit='rad')")
+                                f"number of degrees (or radians with {self.names['radians']})")
             out[k] = float(num) * PHASE_UNITS[(own or unit).lower()]
             if not math.isfinite(out[k]):
                 raise self.fail(no, f"column '{col.header}': '{cell}' is out of range")
@@ -204,7 +215,7 @@ def read_sweep_csv(path: str | Path, *, freq_col: str | None = None,
                    mag_col: str | None = None, phase_col: str | None = None,
                    r_col: str | None = None, x_col: str | None = None,
                    freq_unit: str | None = None, z_unit: str | None = None,
-                   phase_unit: str | None = None) -> Sweep:
+                   phase_unit: str | None = None, cli: bool = False) -> Sweep:
     """Read an impedance sweep from CSV.
 
     Parameters
@@ -215,6 +226,7 @@ def read_sweep_csv(path: str | Path, *, freq_col: str | None = None,
     freq_unit : unit of plain frequency cells ("MHz"), overriding the header's unit
     z_unit : unit of plain |Z|, R and X cells ("mohm"), overriding the header's unit
     phase_unit : "deg" or "rad" for plain phase cells, overriding the header; default deg
+    cli : messages name the command's options (--mag-col) instead of keyword arguments
 
     Raises
     ------
@@ -226,15 +238,17 @@ def read_sweep_csv(path: str | Path, *, freq_col: str | None = None,
         a unit that does not fit the column (e.g. "5 nF" in the frequency column).
     """
     text, label = _load(path)
-    rd = _Reader(text, label)
+    n = _OPTIONS if cli else _KEYWORDS
+    rd = _Reader(text, label, n)
     fcol = rd.find(freq_col, FREQ_NAMES, "the frequency")
     if fcol is None:
-        raise rd.fail(rd.header_line, f"no frequency column; name one with freq_col=... "
+        raise rd.fail(rd.header_line, f"no frequency column; name one with {n['freq']} "
                       f"(columns are {rd.present()})")
     polar_given = mag_col is not None or phase_col is not None
     rect_given = r_col is not None or x_col is not None
     if polar_given and rect_given:
-        raise FileFormatError("give either mag_col/phase_col or r_col/x_col, not both")
+        raise FileFormatError(f"give either {n['mag']} and {n['phase']} or {n['r']} and "
+                              f"{n['x']}, not both")
     rcol = xcol = mcol = pcol = None
     if not polar_given:
         rcol = rd.find(r_col, R_NAMES, "R")
@@ -242,14 +256,15 @@ def read_sweep_csv(path: str | Path, *, freq_col: str | None = None,
     if rcol is None or xcol is None:
         if rect_given:
             raise rd.fail(rd.header_line, f"found no {'X' if rcol else 'R'} column to go with "
-                          f"{'R' if rcol else 'X'}; columns are {rd.present()}")
+                          f"{'R' if rcol else 'X'}; columns are {rd.present()}: name it with "
+                          f"{n['x'] if rcol else n['r']}")
         rcol = xcol = None
         mcol = rd.find(mag_col, MAG_NAMES, "|Z|")
         pcol = rd.find(phase_col, PHASE_NAMES, "the phase")
         if mcol is None or pcol is None:
             raise rd.fail(rd.header_line, f"cannot tell which columns hold |Z| and phase or "
-                          f"R and X; columns are {rd.present()}: name them with mag_col= and "
-                          "phase_col= or r_col= and x_col=")
+                          f"R and X; columns are {rd.present()}: name them with {n['mag']} and "
+                          f"{n['phase']} or {n['r']} and {n['x']}")
     rd.check_rows()
     f = rd.values(fcol, "Hz", freq_unit)
     lines = [no for no, _ in rd.rows]

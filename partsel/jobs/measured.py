@@ -76,13 +76,14 @@ class SweepImport:
 
 # -- reading sweep files -------------------------------------------------------------------------
 
-def read_sweep_file(path: str | Path, *, fixture: str | None = None,
+def read_sweep_file(path: str | Path, *, fixture: str | None = None, cli: bool = False,
                     **csv_options: str | None) -> tuple[NDArray, NDArray, str | None, str]:
     """Read a Touchstone (.s1p, .s2p, .ts) or CSV sweep: (f, z, fixture, note).
 
     Touchstone files need the fixture the part was measured in (``reflection``, ``shunt-thru``
     or ``series-thru``; a 1-port file is a reflection measurement); CSV files hold the
-    impedance itself and take ``csv_options`` (see :func:`partsel.io.sweep.read_sweep_csv`).
+    impedance itself and take ``csv_options`` (see :func:`partsel.io.sweep.read_sweep_csv`);
+    with ``cli`` their messages name the command's options.
     """
     from partsel.io.sweep import read_sweep_csv
     from partsel.io.touchstone import FIXTURES, impedance_from, read_touchstone
@@ -110,7 +111,7 @@ def read_sweep_file(path: str | Path, *, fixture: str | None = None,
         if fixture is not None:
             raise FileFormatError("--fixture is for Touchstone files; a CSV sweep holds the "
                                   "impedance itself")
-        sweep = read_sweep_csv(p, **csv_options)
+        sweep = read_sweep_csv(p, cli=cli, **csv_options)
         return sweep.f, sweep.z, None, sweep.source
     raise FileFormatError(f"cannot tell the sweep format of {p.name}: use a Touchstone file "
                           "(.s1p, .s2p, .ts) or a CSV file (.csv)")
@@ -193,11 +194,12 @@ def store_sweep(store: Store, part_number: str, f: ArrayLike, z: ArrayLike, *,
 
 
 def import_sweep(store: Store, path: str | Path, part_number: str, *, maker: str | None = None,
-                 fixture: str | None = None, **csv_options: str | None) -> SweepImport:
+                 fixture: str | None = None, cli: bool = False,
+                 **csv_options: str | None) -> SweepImport:
     """Read a sweep file (:func:`read_sweep_file`) and store it with the part."""
     p = Path(path)
     store.find_part(part_number, maker)  # a wrong part number fails before the file is read
-    f, z, fixture, note = read_sweep_file(p, fixture=fixture, **csv_options)
+    f, z, fixture, note = read_sweep_file(p, fixture=fixture, cli=cli, **csv_options)
     try:
         dated = datetime.fromtimestamp(p.stat().st_mtime).strftime("%Y-%m-%d %H:%M")
         note = f"{note}; file dated {dated}"
