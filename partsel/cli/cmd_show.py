@@ -92,7 +92,7 @@ def curve_cmd(
     mount_l: str = typer.Option(None, "--mount-l", metavar="L",
                                 help="Mounting inductance added to capacitors."),
     plot: Path = typer.Option(None, "--plot", metavar="FILE.png",
-                              help="Also write a plot of |Z| and phase."),
+                              help="Also write a plot of |Z| and phase (.png, .svg or .pdf)."),
     maker: str = typer.Option(None, "--maker", help="Maker, when several share a number."),
     measured: bool = typer.Option(False, "--measured",
                                   help="Use each part's stored measured curve where it has one "
@@ -113,6 +113,8 @@ def curve_cmd(
     from partsel.jobs.show import curves
 
     fmt = opt.check_format(fmt)
+    if plot is not None:
+        plotting.check_path(plot)
     rng = units.parse_band(band) if band else None
     lim = opt.quantity(limit, "ohm", "--limit-line")
     with open_store_for(ctx) as store:

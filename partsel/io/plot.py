@@ -26,11 +26,20 @@ class Figure:
     ylim: tuple[float, float] | None = None          # |Z| axis range [ohm]
 
 
-def save(fig: Figure, path: str | Path) -> Path:
-    """Draw |Z| (log-log) above phase (deg) and save to ``path`` (.png, .svg or .pdf)."""
+def check_path(path: str | Path) -> Path:
+    """A plot path that can be written: .png, .svg or .pdf in an existing folder (checked
+    before any work is done)."""
     p = Path(path)
     if p.suffix.lower() not in (".png", ".svg", ".pdf"):
         raise PartselError(f"cannot write a plot to '{p.name}': give a .png, .svg or .pdf name")
+    if not p.parent.is_dir():
+        raise PartselError(f"cannot write the plot {p}: the folder {p.parent} does not exist")
+    return p
+
+
+def save(fig: Figure, path: str | Path) -> Path:
+    """Draw |Z| (log-log) above phase (deg) and save to ``path`` (.png, .svg or .pdf)."""
+    p = check_path(path)
     import matplotlib
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
