@@ -6,6 +6,7 @@ from __future__ import annotations
 import itertools
 import json
 import math
+import re
 from pathlib import Path
 
 import numpy as np
@@ -20,7 +21,7 @@ from partsel.errors import FileFormatError, QueryError
 from partsel.jobs import decouple as dec
 from partsel.jobs.models import bias_ratios
 from partsel.store import open_store
-from partsel.units import format_quantity
+from partsel.units import format_quantity, parse_quantity
 
 TWO_PI = 2 * np.pi
 MU0 = 1.25663706212e-6        # H/m (CODATA 2018)
@@ -711,3 +712,36 @@ def test_demo_check_file_runs_against_the_demo_catalog(cli, tmp_path):
     data = json.loads(r.stdout)
     assert len(data["bank"]) == len(dec.read_bank(bank))
     assert_allclose(dense_max(data)[0], data["max_z_ohm"], rtol=1e-6)
+
+
+def test_counts_read_in_the_singular(cli, make_store, tmp_path):
+    store = make_store([_cap("A", 1e-6, 0.01, 0.4e-9)])
+    bank = tmp_path / "bank.csv"
+    bank.write_text("part_number,count\nA,1\n")
+    r = cli("--store", store, "decouple", "--rail", "1V", "--target", "1ohm", "--band",
+            "1MHz..10MHz", "--check", bank)
+    # common practice, no source: "1 part", not "1 parts"
+    assert "1 part on 1 line" in r.stdout and "1 parts" not in r.stdout
+    bank.write_text("part_number,count\nA,2\n")
+    r = cli("--store", store, "decouple", "--rail", "1V", "--target", "1ohm", "--band",
+            "1MHz..10MHz", "--check", bank)
+    assert "2 parts on 1 line" in r.stdout
+
+
+def test_margin_names_the_reference_of_each_ratio(cli, make_store):
+    store = make_store(_bias_catalog())
+    args = ["--rail", "5V", "--target", "0.1ohm", "--band", "10kHz..1MHz", "--max-parts", "10",
+            "--margin", "10%"]
+    code, data, _ = run_json(cli, store, *args)
+    assert code == 1
+    reason = data["failures"][0]["reason"]
+    m = re.search(r"reaches (\S+ \S+) at \S+ \S+ \(([0-9.]+) x the target less the 10 % "
+                  r"margin\)", reason)
+    assert m, reason
+    # derived: the ratio is |Z| / (target x (1 - margin)) = |Z| / 0.09 ohm
+    z = parse_quantity(m.group(1), "ohm")
+    assert_allclose(float(m.group(2)), z / 0.09, rtol=2e-3)
+    for p in data["peaks"]:   # the peaks are relative to the target itself
+        assert_allclose(p["ratio"], p["z_ohm"] / 0.1, rtol=1e-12)
+    r = cli("--store", store, "decouple", *args)
+    assert "x the target less the 10 % margin" in r.stdout

@@ -105,6 +105,11 @@ def parse_mount_l(values: list[str] | None) -> dict[str, Any]:
     return {"mount_l": one, "mount_l_by_case": by_case}
 
 
+def _count(n: int, word: str) -> str:
+    """'1 part', '3 parts'."""
+    return f"{n} {word}" if n == 1 else f"{n} {word}s"
+
+
 def _summary(res: Any) -> list[str]:
     fq = units.format_quantity
     rail = res.rail
@@ -148,7 +153,7 @@ def render_text(res: Any) -> str:
                      f"margin {margin:.3g} % of the target ({res.margin_db:.3g} dB)")
     cost = f", cost {res.cost:.4g}" if res.cost is not None else ""
     b = res.bounds
-    lines.append(f"{res.parts} parts on {len(res.lines)} lines{cost}")
+    lines.append(f"{_count(res.parts, 'part')} on {_count(len(res.lines), 'line')}{cost}")
     if "bank_c_f" in b:
         lines.append(f"capacitance at bias {fq(b['bank_c_f'], 'F')} (a capacitance alone needs "
                      f">= {fq(b['c_min_f'], 'F')} at the low edge); mounted inductance in "

@@ -67,7 +67,9 @@ def diagnose(rail: Rail, bank: pdn.Branches, sc: pdn.Scan, pool: Parts | None,
         where = (f"from {_fq(fa, 'Hz')} to {_fq(fb, 'Hz')}" if a > 0 and b < len(sc.f) - 1
                  else f"below {_fq(fb, 'Hz')}" if a == 0 and b < len(sc.f) - 1
                  else f"above {_fq(fa, 'Hz')}" if a > 0 else "over the whole band")
-        head = f"{where} |Z| reaches {_fq(zw, 'ohm')} at {_fq(fw, 'Hz')} ({zw / zt:.3g} x target)"
+        ref = "target" if not rail.margin else \
+            f"the target less the {100 * rail.margin:g} % margin"
+        head = f"{where} |Z| reaches {_fq(zw, 'ohm')} at {_fq(fw, 'Hz')} ({zw / zt:.3g} x {ref})"
         if abs(z.imag) >= z.real and z.imag > 0:
             l_need = zt / (2 * np.pi * fb)
             why = "inductive"

@@ -126,7 +126,7 @@ def _measured_story(rail: Rail, cands: Parts, net: Network, board: pdn.Branches,
     holds = sc.max_z <= rail.design_target * (1.0 + _CHECK_SLACK)
     n0, n1 = int(start.sum()), int(on_data.counts.sum())
     changes = _count_changes(cands, start, on_data.counts)
-    head = (f"The bank planned on the models ({n0} parts, "
+    head = (f"The bank planned on the models ({n0} part{'s' if n0 != 1 else ''}, "
             f"{'holding' if on_models.met else 'failing'} there) "
             f"{'holds' if holds else 'fails'} on the measured curves (worst "
             f"{_fq(sc.max_z, 'ohm')} at {_fq(sc.f_max, 'Hz')})")
@@ -137,7 +137,8 @@ def _measured_story(rail: Rail, cands: Parts, net: Network, board: pdn.Branches,
                        "the band, so the measured curves change nothing")
         return effects, []
     if on_data.met:
-        tail = (f": on them {n1} parts hold ({changes})." if changes else ".")
+        tail = (f": on them {n1} part{'s' if n1 != 1 else ''} "
+                f"{'hold' if n1 != 1 else 'holds'} ({changes})." if changes else ".")
     else:
         tail = ("; no bank within the limits was found that holds on them"
                 + (f" (the best attempt: {changes})" if changes else "") + ".")
