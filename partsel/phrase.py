@@ -28,10 +28,22 @@ KINDS = {"capacitor": "capacitor", "capacitors": "capacitor", "cap": "capacitor"
 TECH_WORDS = {t: t for t in CAPACITOR_TECHNOLOGIES + INDUCTOR_TECHNOLOGIES}
 TECH_WORDS.update({"aluminium": "aluminum", "thin-film": "thin_film", "ceramic": "mlcc",
                    "electrolytic": "aluminum"})
-FILLER = {"a", "an", "the", "with", "and", "that", "stays", "stay", "is", "are", "find",
+FILLER = {"a", "an", "the", "with", "and", "or", "that", "stays", "stay", "is", "are", "find",
           "parts", "part", "impedance", "|z|", "z", "for", "of", "me", "which", "whose",
           "in", "band", "frequency", "all"}
 _NUM = re.compile(r"^[-+]?(\d+(\.\d*)?|\.\d+)([eE][-+]?\d+)?$")
+# Words an engineer types, read as the grammar's own (applied before tokenising).
+_REWRITES = [
+    (re.compile(r"\b(?:less|lower|smaller) than\b|\bno more than\b", re.I), "below"),
+    (re.compile(r"\b(?:more|greater|higher|larger) than\b|\bno less than\b", re.I), "above"),
+    (re.compile(r"\bmilli-?ohms?\b", re.I), "mohm"),
+    (re.compile(r"\bkil-?ohms?\b|\bkilo-?ohms?\b", re.I), "kohm"),
+    (re.compile(r"\bmeg-?ohms?\b|\bmega-?ohms?\b", re.I), "Mohm"),
+    (re.compile(r"\bohms\b", re.I), "ohm"),
+    # "1-30 MHz" and "1 - 30 MHz": a band written with a dash
+    (re.compile(r"(?<![\w.])(\d+(?:\.\d+)?)\s*-\s*(\d+(?:\.\d+)?\s*[kMG]?Hz)\b"),
+     r"from \1 to \2"),
+]
 _CASE = re.compile(r"^\d{4}$")
 
 
@@ -89,6 +101,24 @@ def _band(r: _Reader, joiner: str) -> tuple[float, float]:
     return lo, hi
 
 
+def _show_band(band: tuple[float, float]) -> str:
+    lo, hi = (units.format_quantity(x, "Hz").replace(" ", "") for x in band)
+    return f"--band {lo}..{hi}"
+
+
+def _is_current(r: _Reader) -> bool:
+    """'at 0.5 A': a quantity in amperes follows."""
+    start = r.i
+    r.next()
+    try:
+        r.quantity("A", "a current")
+        return True
+    except QueryError:
+        return False
+    finally:
+        r.i = start
+
+
 def parse_phrase(text: str) -> tuple[dict[str, Any], str]:
     """Read a phrase such as 'capacitor below 0.5 ohm from 1 to 30 MHz'.
 
@@ -96,6 +126,8 @@ def parse_phrase(text: str) -> tuple[dict[str, Any], str]:
     """
     from partsel.standards import eia198
 
+    for pattern, repl in _REWRITES:
+        text = pattern.sub(repl, text)
     r = _Reader(text)
     kw: dict[str, Any] = {}
     shown: list[str] = []
@@ -117,12 +149,17 @@ def parse_phrase(text: str) -> tuple[dict[str, Any], str]:
             r.next()
             kw["above"], _ = r.quantity("ohm", "an impedance limit")
             shown.append(f"--above {fmt(kw['above'], 'ohm').replace(' ', '')}")
-        elif w in ("from", "between"):
+        elif w in ("from", "between") or ".." in w:
+            if ".." in w:
+                kw["band"] = units.parse_band(r.next())
+            else:
+                r.next()
+                kw["band"] = _band(r, "to" if w == "from" else "and")
+            shown.append(_show_band(kw["band"]))
+        elif w == "at" and _is_current(r):
             r.next()
-            kw["band"] = _band(r, "to" if w == "from" else "and")
-            lo, hi = kw["band"]
-            lo_text, hi_text = fmt(lo, "Hz").replace(" ", ""), fmt(hi, "Hz").replace(" ", "")
-            shown.append(f"--band {lo_text}..{hi_text}")
+            kw["current"], _ = r.quantity("A", "a current")
+            shown.append(f"--current {fmt(kw['current'], 'A').replace(' ', '')}")
         elif w == "inductive":
             r.next()
             if r.peek() == "up":
@@ -179,6 +216,28 @@ def parse_phrase(text: str) -> tuple[dict[str, Any], str]:
                 continue
             except Exception:  # not a dielectric code: try a value below
                 pass
+            start = r.i
+            try:  # "1 MHz to 30 MHz" without "from"
+                lo, _ = r.quantity("Hz", "a frequency")
+                if r.peek() == "to":
+                    r.next()
+                    hi, _ = r.quantity("Hz", "the high band edge")
+                    kw["band"] = (lo, hi)
+                    shown.append(_show_band(kw["band"]))
+                    continue
+            except QueryError:
+                pass
+            r.i = start
+            try:  # "with 3.3 V bias"
+                v, _ = r.quantity("V", "a voltage")
+                if r.peek() in ("bias", "dc"):
+                    r.i += 2 if r.peek(1) == "bias" else 1
+                    kw["bias"] = v
+                    shown.append(f"--bias {fmt(v, 'V').replace(' ', '')}")
+                    continue
+            except QueryError:
+                pass
+            r.i = start
             try:
                 v, _ = r.quantity("F|H", "a value")
             except QueryError:

@@ -241,3 +241,23 @@ def test_filters_are_spelled_as_the_catalog_does(make_store):
             find(s, Search("capacitor", dielectrics=("X9Z",), **base))
         with pytest.raises(CatalogError, match="not a known technology"):
             find(s, Search("capacitor", technologies=("ceramix",), **base))
+
+
+@pytest.mark.parametrize("phrase", [
+    "capacitor below 0.5 ohm 1-30 MHz",
+    "capacitor under 0.5 ohm 1 MHz to 30 MHz",
+    "capacitor below 500 milliohm from 1 MHz to 30 MHz",
+    "capacitor less than 0.5 ohms from 1 to 30 MHz",
+    "cap below 0.5ohm 1MHz..30MHz",
+])
+def test_phrase_grammar_reads_common_phrasings(phrase):
+    kw, echo = parse_phrase(phrase)
+    assert kw == {"kind": "capacitor", "below": 0.5, "band": (1e6, 30e6)}
+    assert echo == "partsel find capacitor --below 500mohm --band 1MHz..30MHz"
+
+
+def test_phrase_grammar_current_bias_and_lists():
+    kw, _ = parse_phrase("10uH inductor inductive to 10 MHz at 0.5 A")
+    assert kw["current"] == 0.5 and kw["inductive_to"] == 10e6
+    kw, _ = parse_phrase("capacitor below 0.1 ohm from 1 to 10 MHz, 0402 or 0603 with 3.3 V bias")
+    assert kw["cases"] == ("0402", "0603") and kw["bias"] == 3.3

@@ -26,6 +26,7 @@ from partsel.jobs.models import BIAS_SOURCES, bias_ratio_columns
 from partsel.standards import eia198
 from partsel.store.db import Store
 from partsel.store.query import membership
+from partsel.units import format_quantity
 
 Kind = Literal["capacitor", "inductor"]
 REL_SLACK = 1e-12
@@ -72,7 +73,9 @@ class Search:
         if (self.below is not None or self.above is not None) and self.band is None:
             raise QueryError("an impedance limit needs a band: add --band F1..F2")
         if self.band is not None and not 0 < self.band[0] <= self.band[1]:
-            raise QueryError("the band must run from a lower to a higher positive frequency")
+            lo, hi = (format_quantity(x, "Hz").replace(" ", "") for x in self.band)
+            raise QueryError(f"band '{lo}..{hi}' runs backwards or is not positive: write the "
+                             "low frequency first")
         for name in ("below", "above", "inductive_to", "value_min", "value_max", "current",
                      "mount_l", "ripple", "bias", "min_voltage"):
             v = getattr(self, name)
