@@ -116,9 +116,12 @@ def curves(store: Store, part_numbers: list[str], band: tuple[float, float] | No
     rows = [store.find_part(pn, maker) for pn in part_numbers]
     m = Models.from_rows(rows)
     effects = ["stored models (catalog values, or a measured fit where one was saved)"]
+    from partsel.standards import safety
     for r in rows:
         if r["kind"] == "inductor" and not r.get("srf"):
             effects.append(f"caution, {r['part_number']}: {NO_SRF}")
+        if safety.needs_caution(r.get("safety_class"), r.get("rated_voltage")):
+            effects.append(f"caution, {r['part_number']}: {safety.caution_text()}")
     if (measured or measured_only) and bias is not None:
         raise QueryError("--bias cannot be applied to a measured curve (it was measured at its "
                          "own bias): leave out --measured or --bias")
