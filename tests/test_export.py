@@ -127,6 +127,35 @@ def test_fitted_model_exported_through_the_cli_simulates_like_the_fit(tmp_path, 
     assert p["esl"] == pytest.approx(0.9e-9, rel=1e-6)
 
 
+def test_spice_export_of_mains_and_high_voltage_parts_carries_the_caution(make_store, cli,
+                                                                           tmp_path):
+    from partsel.standards.safety import HAZARDOUS_VOLTAGE, caution_text
+
+    # an X2 part (IEC 60384-14 class) and one rated above the hazardous limit
+    hv = f"{HAZARDOUS_VOLTAGE * 2:g}V"
+    store = make_store(ROWS + [
+        {"part_number": "CX2-100N", "maker": "Testco", "kind": "capacitor", "value": "100nF",
+         "esr": "30mohm", "esl": "8nH", "technology": "film", "rated_voltage": "275V",
+         "safety_class": "X2"},
+        {"part_number": "C-HV", "maker": "Testco", "kind": "capacitor", "value": "10nF",
+         "esr": "50mohm", "esl": "1nH", "technology": "mlcc", "rated_voltage": hv}])
+    with open_store(store) as s:
+        text = spice_library(s, ["C-100N/16", "CX2-100N", "C-HV"])
+    for pn, end in (("CX2-100N", ".ENDS CX2_100N"), ("C-HV", ".ENDS C_HV")):
+        block = text[text.index(f"part number: {pn}"):text.index(end)]
+        assert f"* {caution_text()}" in block.splitlines()
+    low = text[text.index("part number: C-100N/16"):text.index(".ENDS C_100N_16")]
+    assert "Caution" not in low                       # 16 V, no safety class
+    out = tmp_path / "m.lib"
+    res = cli("--store", store, "export", "spice", "CX2-100N", "C-100N/16", "C-HV", "--out", out)
+    assert res.exit_code == 0, res.output
+    cautions = [ln for ln in res.stderr.splitlines() if ln.startswith("Caution: ")]
+    assert len(cautions) == 1 and "CX2-100N, C-HV" in cautions[0]
+    assert caution_text() in out.read_text()
+    res = cli("--store", store, "export", "spice", "C-100N/16")
+    assert res.exit_code == 0 and "Caution" not in res.output
+
+
 def test_spice_header_says_where_each_value_came_from(make_store):
     store = make_store(ROWS)
     with open_store(store) as s:

@@ -107,9 +107,9 @@ def test_names_and_header():
                                         "esr": "measured fit"})
     assert ".SUBCKT AB_1__ 1 2" in text and text.rstrip().endswith(".ENDS AB_1__")
     assert "* part number: AB-1 µ" in text
-    assert "= 1e-07 F  (datasheet)" in text
-    assert "= 5e-10 H  (estimated by rule)" in text
-    assert "= 0.01 ohm  (measured fit)" in text
+    assert "= 100 nF (1e-07 F)  (datasheet)" in text
+    assert "= 500 pH (5e-10 H)  (estimated by rule)" in text
+    assert "= 10 mohm (0.01 ohm)  (measured fit)" in text
     assert "exact at f_ref" not in text  # no loss note without tan_delta
     lossy = capacitor_subckt("X", 1e-7, 0.01, 5e-10, tan_delta=0.02)
     assert "exact at f_ref only" in lossy
@@ -119,6 +119,23 @@ def test_names_and_header():
     r_line = next(ln for ln in lossy.splitlines() if ln.startswith("R1 "))
     assert float(r_line.split()[3]) == pytest.approx(0.01 + 0.02 / (2 * math.pi * srf * 1e-7),
                                                      rel=1e-14)
+
+
+def test_inductor_header_is_readable_and_says_cp_comes_from_the_srf():
+    # 1 uH with a 101 MHz SRF: Cp = 1/((2 pi SRF)^2 L) (derived) = 2.483 pF
+    cp = 1 / ((2 * math.pi * 101e6) ** 2 * 1e-6)
+    text = inductor_subckt("L1", 1e-6, 0.1, cp, provenance={"value": "datasheet",
+                                                            "srf": "datasheet"})
+    lines = text.splitlines()
+    srf_line = next(ln for ln in lines if ln.startswith("* SRF"))
+    cp_line = next(ln for ln in lines if ln.startswith("* Cp"))
+    assert "= 101 MHz (1.01e+08 Hz)  (datasheet)" in srf_line
+    assert "2.48 pF" in cp_line and "derived from the SRF; datasheet" in cp_line
+    c_elem = next(ln for ln in lines if ln.startswith("C1 "))
+    assert float(c_elem.split()[3]) == cp       # the element keeps every digit (repr)
+    # a Cp with its own source is not said to be derived
+    own = inductor_subckt("L1", 1e-6, 0.1, cp, provenance={"cp": "measured fit"})
+    assert "derived" not in own and "(measured fit)" in own
 
 
 def test_full_precision_values():

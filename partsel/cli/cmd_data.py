@@ -263,14 +263,20 @@ def export_spice_cmd(
 ) -> None:
     """Write a SPICE subcircuit (.SUBCKT, pins 1 and 2) per part, with where each value came from.
 
+    Parts with a safety class or a rated voltage above the hazardous limit get a caution, on
+    standard error and in the netlist header.
+
     Example: partsel export spice PART1 PART2 --out parts.lib
     """
-    from partsel.jobs.export import spice_library
+    from partsel.jobs.export import spice_cautions, spice_library
 
     with open_store_for(ctx) as store:
         text = spice_library(store, list(parts), maker=maker,
                              f_ref=opt.quantity(f_ref, "Hz", "--f-ref"))
+        cautions = spice_cautions(store, list(parts), maker=maker)
     _write(text, out, "SPICE models")
+    for c in cautions:
+        note(c)
 
 
 @export_app.command("touchstone")

@@ -10,7 +10,8 @@ R_d = tan(delta) / (omega C) falls with frequency, so a model with tan_delta > 0
 R = ESR + tan(delta) / (2 pi f_ref C), exact at f_ref only. (A conductance G = omega C tan(delta)
 across C would be exact at every frequency but is itself frequency-dependent; a plain R-C ladder
 can approximate it over a band. Neither is written here.)
-Values are written with repr, which reads back as the same double.
+Element values are written with repr, which reads back as the same double; the header comments
+give each value readably with its SI number ("SRF = 101 MHz (1.00658e+08 Hz)").
 """
 
 from __future__ import annotations
@@ -20,6 +21,7 @@ import re
 from collections.abc import Mapping
 
 from partsel.errors import ModelError
+from partsel.units import format_quantity
 
 PROVENANCES = ("datasheet", "measured fit", "estimated by rule")
 
@@ -40,8 +42,18 @@ def _num(x: float) -> str:
     return repr(float(x))
 
 
+def _readable(val: float, unit: str) -> str:
+    """'101 MHz (1.00658e+08 Hz)': engineering notation, then the SI number to 6 digits."""
+    if not unit:
+        return f"{val:.6g}"
+    return f"{format_quantity(val, unit)} ({val:.6g} {unit})"
+
+
 def _header(kind: str, part: str, rows: list[tuple[str, str, float, str]],
-            provenance: Mapping[str, str] | None) -> list[str]:
+            provenance: Mapping[str, str] | None,
+            derived: Mapping[str, str] | None = None) -> list[str]:
+    """Comment lines: one per value with where it came from; ``derived`` names values worked
+    out from another (key -> "derived from the SRF"), with that value's source after it."""
     prov = dict(provenance or {})
     for key, where in prov.items():
         if where not in PROVENANCES:
@@ -50,7 +62,9 @@ def _header(kind: str, part: str, rows: list[tuple[str, str, float, str]],
     lines = [f"* partsel {kind} model", f"* part number: {' '.join(part.split())}"]
     for key, label, val, unit in rows:
         src = prov.get(key, "not stated")
-        lines.append(f"* {label:<10} = {_num(val)} {unit}".rstrip() + f"  ({src})")
+        if derived and key in derived:
+            src = f"{derived[key]}; {src}" if key in prov else derived[key]
+        lines.append(f"* {label:<10} = {_readable(val, unit)}  ({src})")
     return lines
 
 
@@ -90,7 +104,8 @@ def capacitor_subckt(name: str, value: float, esr: float, esl: float, tan_delta:
             f_ref = 1.0 / (2.0 * math.pi * math.sqrt(lser * c)) if lser > 0 else 1e3
         fr = _check("f_ref", f_ref, zero_ok=False)
         r = r + td / (2.0 * math.pi * fr * c)
-        lines += [f"* R below = ESR + tan_delta/(2 pi f_ref C) with f_ref = {_num(fr)} Hz.",
+        lines += [f"* R below = ESR + tan_delta/(2 pi f_ref C) with f_ref = "
+                  f"{_readable(fr, 'Hz')}.",
                   "* A constant SPICE resistor cannot follow the dielectric loss, which falls",
                   "* as 1/f: this model is exact at f_ref only."]
     elements = [("R1", r), ("L1", lser), ("C1", c)]
@@ -133,9 +148,12 @@ def inductor_subckt(name: str, value: float, dcr: float, cp: float, rp: float | 
     if has_rp:
         rows.append(("rp", "Rp", rp_val, "ohm"))
     prov = dict(provenance or {})
-    if "srf" in prov:
-        prov.setdefault("cp", prov["srf"])  # C_p comes from the SRF when the catalog has that
-    lines = _header("inductor", name, rows, prov)
+    derived = {}
+    if "srf" in prov and "cp" not in prov:
+        # C_p = 1/((2 pi SRF)^2 L) comes from the SRF: say so, with the SRF's source
+        prov["cp"] = prov["srf"]
+        derived["cp"] = "derived from the SRF"
+    lines = _header("inductor", name, rows, prov, derived)
     chain = [(e, v) for e, v in (("L1", lval), ("R1", r)) if v > 0]
     shunts = tuple((e, v) for e, v in (("C1", c), ("R2", rp_val)) if 0 < v < math.inf)
     return _subckt(spice_name(name), lines, chain, shunts)

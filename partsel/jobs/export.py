@@ -28,6 +28,7 @@ from partsel.io.touchstone import FIXTURES, write_touchstone
 from partsel.jobs.measured import FIT_REASON
 from partsel.jobs.models import Models
 from partsel.jobs.show import log_grid
+from partsel.standards import safety
 from partsel.store.db import Store
 from partsel.units import format_quantity
 
@@ -72,6 +73,8 @@ def spice_subckt(store: Store, part: dict[str, Any], f_ref: float | None = None)
     if part.get("value") is None:
         raise ModelError(f"{pn} has no value in the store; a SPICE model needs it")
     head = [f"* maker: {' '.join(str(part['maker']).split())}"]
+    if safety.needs_caution(part.get("safety_class"), part.get("rated_voltage")):
+        head.append(f"* {safety.caution_text()}")
     fit = _fit_note(store, part)
     if fit and any(v == "measured fit" for v in _provenance(part).values()):
         head.append(f"* {fit}")
@@ -90,6 +93,19 @@ def spice_subckt(store: Store, part: dict[str, Any], f_ref: float | None = None)
                                provenance=_provenance(part))
     first, second, rest = text.split("\n", 2)
     return "\n".join([first, second, *head, rest])
+
+
+def spice_cautions(store: Store, part_numbers: Sequence[str], *,
+                   maker: str | None = None) -> list[str]:
+    """The caution (:func:`partsel.standards.safety.caution_text`) naming the parts that need it:
+    a safety class, or a rated voltage above the hazardous limit; empty when none does."""
+    pns = []
+    for pn in part_numbers:
+        row = store.find_part(pn, maker)
+        if (safety.needs_caution(row.get("safety_class"), row.get("rated_voltage"))
+                and row["part_number"] not in pns):
+            pns.append(row["part_number"])
+    return [f"{safety.caution_text()} (parts: {', '.join(pns)})"] if pns else []
 
 
 def spice_library(store: Store, part_numbers: Sequence[str], *, maker: str | None = None,
