@@ -121,7 +121,7 @@ def curves(store: Store, part_numbers: list[str], band: tuple[float, float] | No
         if r["kind"] == "inductor" and not r.get("srf"):
             effects.append(f"caution, {r['part_number']}: {NO_SRF}")
         if safety.needs_caution(r.get("safety_class"), r.get("rated_voltage")):
-            effects.append(f"caution, {r['part_number']}: {safety.caution_text()}")
+            effects.append(f"{r['part_number']}: {safety.caution_text()}")
     if (measured or measured_only) and bias is not None:
         raise QueryError("--bias cannot be applied to a measured curve (it was measured at its "
                          "own bias): leave out --measured or --bias")
