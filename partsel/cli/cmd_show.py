@@ -75,7 +75,7 @@ def show_cmd(
         lines.append(f"\n{rep.sweeps} measured sweep(s) stored with this part.")
     echo("\n".join(lines))
     for c in rep.cautions:
-        note(f"Caution: {c}")
+        note(c if c.startswith("Caution") else f"Caution: {c}")
 
 
 @app.command("curve")
