@@ -745,3 +745,29 @@ def test_margin_names_the_reference_of_each_ratio(cli, make_store):
         assert_allclose(p["ratio"], p["z_ohm"] / 0.1, rtol=1e-12)
     r = cli("--store", store, "decouple", *args)
     assert "x the target less the 10 % margin" in r.stdout
+
+
+def test_caution_for_a_safety_or_high_voltage_part(cli, make_store, tmp_path):
+    # IEC 60384-14 X2 class; a 100 V rating is above the 60 V DC of safety.HAZARDOUS_VOLTAGE
+    store = make_store([
+        _cap("XCAP", 100e-9, 0.05, 5e-9, technology="film", dielectric="", case="1812",
+             rated_voltage="400V", safety_class="X2"),
+        _cap("HV", 1e-6, 0.01, 0.5e-9, dielectric="X7R", case="1206", rated_voltage="100V"),
+        _cap("LV", 1e-6, 0.01, 0.5e-9, dielectric="X7R", case="0603", rated_voltage="16V")])
+    bank = tmp_path / "bank.csv"
+    args = ["--rail", "1V", "--target", "1ohm", "--band", "1MHz..10MHz", "--check", bank]
+    for pn in ("XCAP", "HV"):
+        bank.write_text(f"part_number,count\n{pn},1\n")
+        r = cli("--store", store, "decouple", *args)
+        assert "Caution:" in r.stderr and "qualified engineer" in r.stderr
+        data = json.loads(cli("--store", store, "decouple", *args, "-f", "json").stdout)
+        assert len(data["cautions"]) == 1 and data["cautions"][0].startswith("Caution:")
+    bank.write_text("part_number,count\nLV,1\n")
+    r = cli("--store", store, "decouple", *args)
+    assert "Caution:" not in r.stderr
+    assert json.loads(cli("--store", store, "decouple", *args, "-f", "json").stdout)[
+        "cautions"] == []
+    # a plan that picks the high-voltage part carries the caution too
+    code, data, _ = run_json(cli, store, "--rail", "1V", "--target", "1ohm", "--band",
+                             "1MHz..10MHz", "--case", "1206")
+    assert [b["part_number"] for b in data["bank"]] == ["HV"] and data["cautions"]

@@ -345,6 +345,9 @@ def decouple_cmd(
         echo(render_text(res))
     for n in res.notes:
         note(n)
+    if fmt == "table":
+        for c in res.cautions:
+            note(c)
     if plot is not None:
         note(f"plot written to {_plot(res, plot)}")
     if not res.met:

@@ -116,7 +116,7 @@ def check(store: Store, rail: Rail, entries: Sequence[BankEntry], *, measured: b
             notes.append(f"{pn}: lifecycle {r['lifecycle']}")
     cols: dict[str, NDArray] = {}
     for key in ("id", "part_number", "maker", "technology", "dielectric", "case", "mounting",
-                "lifecycle", "bias_v", "bias_ratio"):
+                "lifecycle", "bias_v", "bias_ratio", "safety_class"):
         cols[key] = np.empty(len(rows), dtype=object)
         cols[key][:] = [r.get(key) for r in rows]
     for key in ("value", "tolerance", "esr", "esl", "tan_delta", "rated_voltage", "price"):

@@ -53,6 +53,7 @@ class Parts:
     rated_voltage: NDArray
     mounting: NDArray
     lifecycle: NDArray
+    safety_class: NDArray     # None when the part has none
 
     @property
     def l_total(self) -> NDArray:
@@ -70,7 +71,7 @@ class Parts:
 
 _COLUMNS = ("id, part_number, maker, value, tolerance, esr, esl, tan_delta, technology, "
             "dielectric, \"case\", mounting, rated_voltage, price, stock, lifecycle, bias_v, "
-            "bias_ratio")
+            "bias_ratio, safety_class")
 
 
 def _parts_from(cols: dict[str, NDArray], rail: Rail) -> Parts:
@@ -91,7 +92,7 @@ def _parts_from(cols: dict[str, NDArray], rail: Rail) -> Parts:
         price=np.asarray(cols["price"], dtype=float), case=cols["case"],
         technology=cols["technology"], dielectric=cols["dielectric"],
         rated_voltage=np.asarray(cols["rated_voltage"], dtype=float), mounting=mounting,
-        lifecycle=cols["lifecycle"])
+        lifecycle=cols["lifecycle"], safety_class=cols["safety_class"])
 
 
 def _where(choice: Choice) -> tuple[str, list[Any]]:

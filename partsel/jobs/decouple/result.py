@@ -17,6 +17,7 @@ from partsel.jobs.decouple.candidates import Parts
 from partsel.jobs.decouple.capacitance import BIAS_LABELS
 from partsel.jobs.decouple.inputs import Board, Rail
 from partsel.jobs.decouple.measured import MeasuredCurve, Network, curve_source
+from partsel.standards import safety
 
 MODEL_TEXT = ("Z_k = esr_ohm + tan_delta/(w c_eff_f) + j(w esl_total_h - 1/(w c_eff_f)), "
               "w = 2 pi f; Z = 1 / sum(count / Z_k) over bank and board (c_eff_f null: no "
@@ -63,6 +64,15 @@ class Result:
             else math.inf
 
     @property
+    def cautions(self) -> list[str]:
+        """The safety caution, once, when the bank holds a part with a safety class or rated
+        above :data:`partsel.standards.safety.HAZARDOUS_VOLTAGE`; else empty."""
+        if any(safety.needs_caution(r["safety_class"], r["rated_voltage_v"])
+               for r in self.lines):
+            return [safety.caution_text()]
+        return []
+
+    @property
     def parts(self) -> int:
         return int(sum(r["count"] for r in self.lines))
 
@@ -95,7 +105,7 @@ class Result:
             "model": MODEL_TEXT + (MEASURED_TEXT if self.network is not None else ""),
             "measured_curves": self.measured, "model_check": self.model_check,
             "peaks": self.peaks, "failures": self.failures,
-            "explanation": self.explanation,
+            "explanation": self.explanation, "cautions": self.cautions,
             "bounds": self.bounds, "effects": self.effects, "notes": self.notes,
             "search": self.stats,
         }
@@ -118,6 +128,7 @@ def _line(parts: Parts, i: int, count: int, curve: MeasuredCurve | None,
         "case": parts.case[i], "technology": parts.technology[i],
         "dielectric": parts.dielectric[i],
         "rated_voltage_v": float(parts.rated_voltage[i]), "lifecycle": parts.lifecycle[i],
+        "safety_class": parts.safety_class[i] or None,
         "price": price if math.isfinite(price) else None,
         "curve_source": curve_source(curve, band),
         "measured_band_hz": list(curve.band) if curve is not None else None,
