@@ -6,7 +6,7 @@ import csv
 import math
 import time
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 import numpy as np
@@ -28,11 +28,23 @@ class BankEntry:
     part_number: str
     count: int
     maker: str | None = None
+    lines: tuple[int, ...] = field(default=(), compare=False)  # file lines, when listed twice
+
+
+# header words read as the bank file's columns (spaces and hyphens read as '_')
+HEADERS = {"part_number": "part_number", "part": "part_number", "mpn": "part_number",
+           "count": "count", "quantity": "count", "qty": "count",
+           "maker": "maker", "manufacturer": "maker"}
 
 
 def read_bank(path: str | Path) -> list[BankEntry]:
     """Read a bank file: CSV with a header naming ``part_number`` and ``count`` (and
-    optionally ``maker``); blank lines and lines starting with '#' are skipped."""
+    optionally ``maker``); blank lines and lines starting with '#' are skipped.
+
+    The separator is ',', ';' or tab, whichever the header line holds most; the header also
+    reads part / part number / mpn, quantity / qty and manufacturer. A part listed on several
+    rows gets one entry with the counts summed (its ``lines`` name the rows).
+    """
     p = Path(path)
     try:
         text = p.read_text(encoding="utf-8-sig")
@@ -46,15 +58,17 @@ def read_bank(path: str | Path) -> list[BankEntry]:
     if not lines:
         raise FileFormatError(f"the bank file {p} is empty: write a header part_number,count "
                               "and one row per part")
-    rows = list(csv.reader([ln for _, ln in lines]))
-    header = [h.strip().lower() for h in rows[0]]
+    delimiter = max(",;\t", key=lines[0][1].count)
+    rows = list(csv.reader([ln for _, ln in lines], delimiter=delimiter))
+    header = [HEADERS.get(_word(h), _word(h)) for h in rows[0]]
     if "part_number" not in header or "count" not in header:
         raise FileFormatError(f"{p}, line {lines[0][0]}: the header must name part_number and "
                               f"count (and optionally maker), found {', '.join(header)}")
     ip, ic = header.index("part_number"), header.index("count")
     im = header.index("maker") if "maker" in header else None
     out: list[BankEntry] = []
-    seen: dict[tuple[str, str | None], int] = {}
+    seen: dict[tuple[str, str | None], int] = {}  # -> position in out
+    first_line: dict[tuple[str, str | None], int] = {}
     for (n, _), row in zip(lines[1:], rows[1:], strict=True):
         cells = [c.strip() for c in row] + [""] * len(header)
         pn, cnt = cells[ip], cells[ic]
@@ -69,13 +83,20 @@ def read_bank(path: str | Path) -> list[BankEntry]:
             raise FileFormatError(f"{p}, line {n}: count '{cnt}' must be a whole number >= 1")
         key = (pn.lower(), maker.lower() if maker else None)
         if key in seen:
-            raise FileFormatError(f"{p}, line {n}: {pn} is listed again (first on line "
-                                  f"{seen[key]}): give one row with the total count")
-        seen[key] = n
+            first = out[seen[key]]
+            out[seen[key]] = replace(first, count=first.count + int(value),
+                                     lines=(first.lines or (first_line[key],)) + (n,))
+            continue
+        seen[key] = len(out)
+        first_line[key] = n
         out.append(BankEntry(pn, int(value), maker))
     if not out:
         raise FileFormatError(f"the bank file {p} has a header but no parts")
     return out
+
+
+def _word(header: str) -> str:
+    return "_".join(header.strip().lower().replace("-", " ").split())
 
 
 def check(store: Store, rail: Rail, entries: Sequence[BankEntry], *, measured: bool = False,
@@ -90,7 +111,9 @@ def check(store: Store, rail: Rail, entries: Sequence[BankEntry], *, measured: b
         raise QueryError("the bank is empty: list at least one part")
     t0 = time.perf_counter()
     rows = [store.find_part(e.part_number, e.maker) for e in entries]
-    notes: list[str] = []
+    notes: list[str] = [
+        f"{e.part_number}: listed on lines {', '.join(str(n) for n in e.lines)}; their counts "
+        f"are summed to {e.count}" for e in entries if e.lines]
     for r in rows:
         pn = r["part_number"]
         if r.get("kind") != "capacitor":
