@@ -89,6 +89,9 @@ class Spec:
         for name, v in (("--current", self.current), ("--ripple", self.ripple)):
             if v is not None and not (math.isfinite(v) and v >= 0):
                 raise QueryError(f"{name} must be 0 A or more, got {format_quantity(v, 'A')}")
+        if self.current == 0 and not self.ripple:
+            raise QueryError("--current must be above 0 A: leave it out to skip the current "
+                             "checks")
         if self.ripple is not None and self.current is None:
             raise QueryError("--ripple needs --current: give the DC current too (0A for none)")
         if not (math.isfinite(self.warn_below) and self.warn_below >= 1):
@@ -190,7 +193,9 @@ def evaluate(spec: Spec, value: ArrayLike, dcr: ArrayLike, srf: ArrayLike,
     with np.errstate(all="ignore"):
         z = inductor.impedance(t, lval, r0, cp, r_p)
         q = np.where(has_dcr, z.imag / z.real, np.nan)
-    l_eff = np.where(has_srf, z.imag / (2.0 * np.pi * t), np.nan)
+    # past the zero-phase frequency the part is a capacitor: no Q or L of an inductor there
+    q = np.where(has_srf & ~inductive, np.nan, q)
+    l_eff = np.where(has_srf & inductive, z.imag / (2.0 * np.pi * t), np.nan)
     q_level = np.full(n, OK, dtype=np.int8)
     if spec.min_q is not None:
         q_level = np.where(np.isnan(q), WARN, np.where(q >= spec.min_q, OK, FAIL)).astype(np.int8)
@@ -259,13 +264,19 @@ def _reasons(spec: Spec, part: dict[str, Any], m: Metrics, i: int) -> list[str]:
 
     q = float(m.q_at_target[i])
     if np.isnan(q):
-        out.append((int(m.q_level[i]) if spec.min_q is not None else NOTE,
-                    "no DCR in the catalog: Q at the target cannot be computed"))
+        why = ("capacitive at the target: Q and L at the target are not shown"
+               if grade == "capacitive" else
+               "no DCR in the catalog: Q at the target cannot be computed")
+        out.append((int(m.q_level[i]) if spec.min_q is not None else NOTE, why))
     else:
         need = f" (at least {spec.min_q:g} required)" if spec.min_q is not None else ""
         bound = "; an upper bound without the winding capacitance" if grade == "unknown" else ""
         word = "only " if m.q_level[i] == FAIL else ""
         out.append((int(m.q_level[i]), f"Q at the target {word}{q:.3g}{need}{bound}"))
+        rp = part.get("rp")
+        if rp is None or not math.isfinite(float(rp)):
+            out.append((NOTE, "Q is an upper bound: it counts the DCR loss only, as the catalog "
+                              "gives no Rp (core loss)"))
 
     if spec.current is not None:
         drop = part.get("isat_drop")
