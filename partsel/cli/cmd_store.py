@@ -45,8 +45,12 @@ def import_cmd(
     Example: partsel import export.xlsx --map export.toml --check
     """
     from partsel.io.mapping import read_mapping
-    from partsel.store.importer import (check_catalog, import_catalog, look_alike_columns,
-                                        refused_rows)
+    from partsel.store.importer import (
+        check_catalog,
+        import_catalog,
+        look_alike_columns,
+        refused_rows,
+    )
 
     file = Path(file_name)
     mapped = read_mapping(mapping) if mapping is not None else None
