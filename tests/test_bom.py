@@ -341,3 +341,22 @@ def test_demo_parts_list(cli, tmp_path):
                 assert a_life == "active" and a_stock > 0
     assert any(ln["lifecycle"] == "obsolete" and ln["alternates"] for ln in lines)
     assert status[read[0].line]["status"] == "found"
+
+
+def test_alternates_whose_stock_covers_the_quantity_come_first(make_store, tmp_path):
+    # a closer alternate with too little stock is offered after one that covers the quantity
+    base = {"maker": "Testco", "kind": "capacitor", "technology": "mlcc", "case": "0402",
+            "rated_voltage": "16V", "dielectric": "X7R", "tolerance": "10%", "esl": "0.45nH",
+            "temp_min": "-55", "temp_max": "125", "lifecycle": "active"}
+    rows = [dict(base, part_number="OLD", value="100nF", esr="20mohm", lifecycle="obsolete",
+                 stock="0"),
+            dict(base, part_number="CLOSE", value="100nF", esr="20mohm", stock="5"),
+            dict(base, part_number="FAR", value="100nF", esr="24mohm", stock="5000")]
+    store = make_store(rows)
+    from partsel.jobs.bom import check_bom, parse_parts_list
+    from partsel.store import open_store
+    with open_store(store) as s:
+        rep = check_bom(s, parse_parts_list("part_number,quantity\nOLD,100\n"))
+    alts = rep.lines[0].alternates
+    assert [a["part_number"] for a in alts] == ["FAR", "CLOSE"]
+    assert [a["covers_quantity"] for a in alts] == [True, False]

@@ -298,8 +298,9 @@ def _judge(store: Store, rep: LineReport, part: dict[str, Any], n_alternates: in
                                f"voltage {format_quantity(wv, 'V')}")
     if not rep.reasons or n_alternates == 0:
         return
+    # ask for a few more, so that alternates whose stock covers the quantity can come first
     crit = Criteria(working_voltage=wv, lifecycles=("active",), in_stock=True,
-                    limit=n_alternates)
+                    limit=4 * n_alternates)
     try:
         res = alternates_for(store, part, crit)
     except PartselError as exc:
@@ -310,7 +311,12 @@ def _judge(store: Store, rep: LineReport, part: dict[str, Any], n_alternates: in
          "distance_db": c.distance_db, "max_diff_db": c.max_diff_db,
          "lifecycle": c.part.get("lifecycle"), "stock": c.part.get("stock"),
          "price": c.part.get("price"), "safety_class": c.part.get("safety_class"),
-         "rated_voltage_v": c.part.get("rated_voltage")} for c in res.candidates]
+         "rated_voltage_v": c.part.get("rated_voltage"),
+         "covers_quantity": quantity is None or (c.part.get("stock") or 0) >= quantity}
+        for c in res.candidates]
+    # stable: best curve distance first among those whose stock covers the quantity
+    rep.alternates = sorted(rep.alternates, key=lambda a: not a["covers_quantity"])
+    rep.alternates = rep.alternates[:n_alternates]
     if not rep.alternates:
         rep.note = (f"no alternate passes every rule ({res.fit} pass form and fit): see "
                     f"'partsel alternates {part['part_number']} --explain'")
