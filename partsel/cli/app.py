@@ -46,8 +46,17 @@ _ABORT = _classes("Abort")
 _NOARGS = _classes("NoArgsIsHelpError")
 
 
+ORDER = ("find", "show", "curve", "alternates", "bom", "inductive", "decouple", "import",
+         "demo", "sweep", "fit", "export")
+
+
 class _Group(TyperGroup):
-    """Maps every error a user can cause to one line 'Error: ...' and a non-zero exit."""
+    """Maps every error a user can cause to one line 'Error: ...' and a non-zero exit, and
+    lists the commands in the order a user meets them."""
+
+    def list_commands(self, ctx: Any) -> list[str]:
+        names = super().list_commands(ctx)
+        return sorted(names, key=lambda n: (ORDER.index(n) if n in ORDER else len(ORDER), n))
 
     def main(self, *args: Any, **kwargs: Any) -> Any:
         kwargs["standalone_mode"] = False

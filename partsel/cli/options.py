@@ -17,7 +17,8 @@ def format_option() -> Any:
 
 
 def limit_option(default: int = 20) -> Any:
-    return typer.Option(default, "--limit", "-n", min=0, help="Rows to show (0 = all).")
+    return typer.Option(default, "--limit", "-n", min=0, metavar="N",
+                        help="Rows to show (0 = all).")
 
 
 def check_format(fmt: str) -> str:
