@@ -25,3 +25,27 @@ def test_docstring_example(make_store):
     # derived: |Z| at 1 MHz = |0.01 + j(2 pi 1e6 0.5e-9 - 1/(2 pi 1e6 1e-6))| = 0.15633 ohm
     assert [r["part_number"] for r in result.rows] == ["L1"]
     assert result.rows[0]["max_z_ohm"] == pytest.approx(0.156333, rel=1e-5)
+
+
+def test_library_callers_may_write_quantities_as_text(make_store):
+    path = make_store([{"part_number": "L1", "maker": "Libco", "kind": "capacitor",
+                        "value": "1uF", "esr": "10mohm", "esl": "0.5nH", "case": "0402"}])
+    with partsel.open_store(path) as store:
+        got = partsel.find(store, partsel.Search("capacitor", band="1MHz..30MHz",
+                                                 below="0.5ohm", cases="0402"))
+        assert [r["part_number"] for r in got.rows] == ["L1"]
+        with pytest.raises(partsel.PartselError, match="two frequencies"):
+            partsel.find(store, partsel.Search("capacitor", band=(1e6,), below=1.0))
+        with pytest.raises(partsel.PartselError, match="open_store"):
+            partsel.import_catalog(store, "whatever.csv")   # opened read-only
+
+
+def test_plots_leave_the_matplotlib_backend_alone(tmp_path):
+    import matplotlib
+    import numpy as np
+
+    from partsel.io import plot
+    before = matplotlib.get_backend()
+    plot.save(plot.Figure(np.geomspace(1e3, 1e6, 20), [("a", np.ones(20) + 1j)]),
+              tmp_path / "z.png")
+    assert matplotlib.get_backend() == before and (tmp_path / "z.png").stat().st_size > 0

@@ -40,12 +40,8 @@ def check_path(path: str | Path) -> Path:
 def save(fig: Figure, path: str | Path) -> Path:
     """Draw |Z| (log-log) above phase (deg) and save to ``path`` (.png, .svg or .pdf)."""
     p = check_path(path)
-    import matplotlib
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-
-    figure, (ax_z, ax_p) = plt.subplots(2, 1, sharex=True, figsize=(9, 6.5),
-                                        gridspec_kw={"height_ratios": [3, 1.4]})
+    figure = new_figure(figsize=(9, 6.5))
+    ax_z, ax_p = figure.subplots(2, 1, sharex=True, gridspec_kw={"height_ratios": [3, 1.4]})
     for label, z in fig.curves:
         style = {"lw": 1.4, **fig.styles.get(label, {})}
         ax_z.loglog(fig.f, np.abs(z), label=label, **style)
@@ -85,16 +81,20 @@ def save(fig: Figure, path: str | Path) -> Path:
     return write(figure, p)
 
 
-def write(figure, path: Path) -> Path:
-    """Lay out, save and close a matplotlib figure; an unwritable path is a PartselError."""
-    import matplotlib.pyplot as plt
+def new_figure(figsize: tuple[float, float]):
+    """A matplotlib Figure outside pyplot: drawing to a file leaves the user's backend (a
+    notebook's inline one, say) and pyplot's figure list alone."""
+    from matplotlib.figure import Figure as MplFigure
+    return MplFigure(figsize=figsize)
 
+
+def write(figure, path: Path) -> Path:
+    """Lay out and save a figure made by :func:`new_figure`; an unwritable path is a
+    PartselError."""
     figure.tight_layout()
     try:
         figure.savefig(path, dpi=120)
     except OSError as exc:
         raise PartselError(f"cannot write the plot {path}: {exc.strerror}; choose another "
                            "path") from None
-    finally:
-        plt.close(figure)
     return path

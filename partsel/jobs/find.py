@@ -65,6 +65,7 @@ class Search:
         (so that a filter that cannot match anything is an error, not an empty answer)."""
         if self.kind not in ("capacitor", "inductor"):
             raise QueryError(f"unknown kind '{self.kind}': use capacitor or inductor")
+        self._read_text()
         self.technologies = tuple(canonical("technology", t, CAPACITOR_TECHNOLOGIES
                                             + INDUCTOR_TECHNOLOGIES) for t in self.technologies)
         self.lifecycles = tuple(canonical("lifecycle", x, LIFECYCLES) for x in self.lifecycles)
@@ -105,6 +106,37 @@ class Search:
             if self.bias is not None:
                 raise QueryError("--bias cannot be applied to a measured curve (it was measured "
                                  "at its own bias): leave out --measured or --bias")
+
+    _UNITS = {"below": "ohm", "above": "ohm", "inductive_to": "Hz", "value_min": "F|H",
+              "value_max": "F|H", "min_voltage": "V", "bias": "V", "mount_l": "H",
+              "current": "A", "ripple": "A"}
+
+    def _read_text(self) -> None:
+        """Library callers may write quantities as text ("0.5ohm", "1MHz..30MHz") and a single
+        filter word as a string; anything else of the wrong type is a QueryError."""
+        from partsel.units import parse_band, parse_quantity
+        if isinstance(self.band, str):
+            self.band = parse_band(self.band)
+        if self.band is not None:
+            try:
+                lo, hi = (float(x) for x in self.band)
+            except (TypeError, ValueError):
+                raise QueryError(f"band {self.band!r} must be two frequencies in Hz, e.g. "
+                                 "(1e6, 30e6) or '1MHz..30MHz'") from None
+            if not (np.isfinite(lo) and np.isfinite(hi)):
+                raise QueryError("the band edges must be finite frequencies")
+            self.band = (lo, hi)
+        for name, unit in self._UNITS.items():
+            v = getattr(self, name)
+            if isinstance(v, str):
+                setattr(self, name, parse_quantity(v, unit, what=name))
+            elif v is not None and not isinstance(v, (int, float, np.floating, np.integer)):
+                raise QueryError(f"{name} must be a number in SI units, got {v!r}")
+        for name in ("cases", "dielectrics", "technologies", "makers", "lifecycles"):
+            v = getattr(self, name)
+            setattr(self, name, (v,) if isinstance(v, str) else tuple(v or ()))
+        if not isinstance(self.limit, int):
+            raise QueryError(f"limit must be a whole number (0 = all), got {self.limit!r}")
 
 
 @dataclass

@@ -407,9 +407,7 @@ def plot(result: CheckResult, path: str | Path, per_decade: int = 200) -> Path:
     .pdf.
     """
     p = plot_path(path)
-    import matplotlib
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
+    from matplotlib import rcParams
 
     from partsel.io import plot as plotting
 
@@ -421,10 +419,10 @@ def plot(result: CheckResult, path: str | Path, per_decade: int = 200) -> Path:
         z = m.impedance(f)
         z_f0 = np.abs(inductor.impedance(np.where(f0s > 0, f0s, 1.0), m.value, m.dcr, m.cp, m.rp))
     n = len(result.rows)
-    fig, (ax_z, ax_p, ax_s) = plt.subplots(
-        3, 1, sharex=True, figsize=(9, 7 + 0.25 * n),
-        gridspec_kw={"height_ratios": [3, 1.4, 0.35 + 0.3 * n]})
-    colours = plt.rcParams["axes.prop_cycle"].by_key()["color"]
+    fig = plotting.new_figure(figsize=(9, 7 + 0.25 * n))
+    ax_z, ax_p, ax_s = fig.subplots(3, 1, sharex=True,
+                                    gridspec_kw={"height_ratios": [3, 1.4, 0.35 + 0.3 * n]})
+    colours = rcParams["axes.prop_cycle"].by_key()["color"]
     for i, row in enumerate(result.rows):
         c = colours[i % len(colours)]
         f0 = row["zero_phase_hz"]

@@ -197,6 +197,7 @@ def import_sweep(store: Store, path: str | Path, part_number: str, *, maker: str
                  fixture: str | None = None, cli: bool = False,
                  **csv_options: str | None) -> SweepImport:
     """Read a sweep file (:func:`read_sweep_file`) and store it with the part."""
+    store.require_write("store a sweep")
     p = Path(path)
     store.find_part(part_number, maker)  # a wrong part number fails before the file is read
     f, z, fixture, note = read_sweep_file(p, fixture=fixture, cli=cli, **csv_options)
@@ -282,6 +283,8 @@ def fit_part(store: Store, part_number: str, *, maker: str | None = None,
         the fitted C or L is more than 10x from the stored value, or the sweep does not reach
         within a decade of the catalog SRF; nothing is stored.
     """
+    if save:
+        store.require_write("store a fit")
     part = store.find_part(part_number, maker)
     if part["kind"] == "inductor" and tan_delta:
         raise QueryError("--tan-delta is for capacitors; an inductor's losses are DCR and Rp")
@@ -408,6 +411,7 @@ def undo_fit(store: Store, part_number: str, maker: str | None = None) -> dict[s
     is kept there as "measured fit undone"). After two fits, two undos go back to the first
     model. Returns the restored model (param -> value, param_source -> source).
     """
+    store.require_write("undo a fit")
     part = store.find_part(part_number, maker)
     if not any(part.get(f"{p}_source") == "measured fit" for p in MODEL_PARAMETERS):
         raise QueryError(f"the model of {part['part_number']} is not a measured fit: nothing to "

@@ -46,6 +46,12 @@ class Store:
     def close(self) -> None:
         self.con.close()
 
+    def require_write(self, what: str) -> None:
+        """Refuse a change to a store opened read-only, with the fix."""
+        if self.read_only:
+            raise StoreError(f"the store {self.path} is open read-only: open it with "
+                             f"open_store(path, write=True) to {what}")
+
     # -- reading -------------------------------------------------------------------------------
     def count(self, kind: str | None = None) -> int:
         if kind is None:

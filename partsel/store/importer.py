@@ -36,7 +36,7 @@ from partsel.catalog import (
 )
 from partsel.errors import CatalogError, PartselError
 from partsel.io.catalog import normalise_header, read_cells
-from partsel.io.mapping import Mapping, apply_mapping
+from partsel.io.mapping import Mapping, apply_mapping, read_mapping
 from partsel.store.db import Store
 
 MAX_LISTED = 20
@@ -381,10 +381,12 @@ def look_alike_columns(extras: list[str]) -> list[str]:
     return out
 
 
-def check_catalog(path: str | Path, mapping: Mapping | None = None
+def check_catalog(path: str | Path, mapping: Mapping | str | Path | None = None
                   ) -> tuple[pd.DataFrame, list[Problem]]:
     """Read and parse a catalog file (through a column mapping, when given) without touching
     any store. Problems in mapped columns name the file's column as well."""
+    if mapping is not None and not isinstance(mapping, Mapping):
+        mapping = read_mapping(mapping)
     frame, problems, _ = _checked(Path(path), mapping)
     return frame, problems
 
@@ -424,14 +426,20 @@ def _refusal(path: Path, problems: list[Problem], rows: int) -> CatalogError:
                         f"rows refused): {first}{tail}")
 
 
-def import_catalog(store: Store, path: str | Path, mapping: Mapping | None = None,
+def import_catalog(store: Store, path: str | Path,
+                   mapping: Mapping | str | Path | None = None,
                    progress: Callable[[int, int], None] | None = None) -> ImportSummary:
     """Add or replace the parts of a catalog file, all or nothing.
 
     Parts are keyed by maker and part number. A part whose data is the same as the stored one
     is left as it is (same id, same import date); a stored model that came from a measured fit
     is kept over the file's datasheet or estimated model (see :func:`insert_frame`).
+    ``mapping`` is a :class:`partsel.io.mapping.Mapping` or the path of a mapping file. The
+    store must be open for writing (``open_store(path, write=True)``).
     """
+    store.require_write("import")
+    if mapping is not None and not isinstance(mapping, Mapping):
+        mapping = read_mapping(mapping)
     p = Path(path)
     frame, problems, rows = _checked(p, mapping)
     if problems:
