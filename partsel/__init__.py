@@ -4,12 +4,23 @@ Everything the command line does is a library call. The names below load on firs
 ``import partsel`` stays cheap::
 
     import partsel
-    with partsel.open_store("parts.duckdb") as store:
+    with partsel.open_store("parts.duckdb") as store:          # read-only
         result = partsel.find(store, partsel.Search("capacitor", band=(1e6, 30e6), below=0.5))
         for row in result.rows:
             print(row["part_number"], row["max_z_ohm"])
 
-Quantities are SI floats; :func:`partsel.units.parse_quantity` reads "100nF", "4u7", "30MHz".
+    with partsel.open_store("parts.duckdb", write=True) as store:   # to change it
+        partsel.import_catalog(store, "catalog.csv", mapping="catalog.toml")
+
+Quantities are SI floats (``Search`` also reads text such as "0.5ohm" or "1MHz..30MHz");
+``partsel.parse_quantity("100nF", "F")`` reads one with its expected unit. Result rows carry
+the store's column names (``esr``, ``esl``, ``rated_voltage``) plus computed figures with their
+unit in the name (``max_z_ohm``, ``srf_hz``); the CLI's JSON renames the stored ones too
+(``esr_ohm``). The command line's names map to these: find -> ``find``, show -> ``report``,
+curve -> ``curves``, alternates -> ``alternates``, bom -> ``check_bom``, inductive ->
+``check_inductors``, decouple -> ``plan_decoupling`` / ``check_decoupling``, sweep import ->
+``import_sweep``, fit -> ``fit_part``, export -> ``spice_library`` / ``touchstone_text`` /
+``write_parquet``, demo -> ``generate_demo`` then ``insert_frame``.
 """
 
 from __future__ import annotations
@@ -23,6 +34,9 @@ _EXPORTS = {
     "open_store": "partsel.store.db",
     "Store": "partsel.store.db",
     "import_catalog": "partsel.store.importer",
+    "check_catalog": "partsel.store.importer",
+    "insert_frame": "partsel.store.importer",
+    "read_mapping": "partsel.io.mapping",
     "Search": "partsel.jobs.find",
     "find": "partsel.jobs.find",
     "Models": "partsel.jobs.models",
@@ -32,6 +46,20 @@ _EXPORTS = {
     "Criteria": "partsel.jobs.alternates",
     "check_bom": "partsel.jobs.bom",
     "read_parts_list": "partsel.jobs.bom",
+    "check_inductors": ("partsel.jobs.inductive", "check"),
+    "InductorSpec": ("partsel.jobs.inductive", "Spec"),
+    "plan_decoupling": ("partsel.jobs.decouple", "plan"),
+    "check_decoupling": ("partsel.jobs.decouple", "check"),
+    "Rail": "partsel.jobs.decouple",
+    "Board": "partsel.jobs.decouple",
+    "Choice": "partsel.jobs.decouple",
+    "read_bank": "partsel.jobs.decouple",
+    "import_sweep": "partsel.jobs.measured",
+    "fit_part": "partsel.jobs.measured",
+    "undo_fit": "partsel.jobs.measured",
+    "spice_library": "partsel.jobs.export",
+    "touchstone_text": "partsel.jobs.export",
+    "write_parquet": "partsel.jobs.export",
     "parse_phrase": "partsel.phrase",
     "parse_quantity": "partsel.units",
     "format_quantity": "partsel.units",
