@@ -509,3 +509,28 @@ def test_curve_ratio_in_sql_equals_the_engine(points, v0, voltage):
     cv[0, :len(bv)], cr[0, :len(br)] = bv, br
     ref = ceramic.bias_ratio_from_curve(voltage, cv, cr)[0]
     assert got == pytest.approx(float(ref), rel=1e-12, abs=1e-15)
+
+
+def test_bias_policy_equals_the_shared_one():
+    # alternates interpolates curves in SQL; its policy must equal jobs.models.bias_ratio_columns
+    # (the part's curve, the lower rule-of-thumb estimate beyond its last point, the estimate
+    # without a curve) for the same parts
+    import numpy as np
+
+    from partsel.engine import ceramic
+    from partsel.jobs import alternates as alt
+    from partsel.jobs.models import bias_ratio_columns
+    tech = np.array(["mlcc", "mlcc", "mlcc", "film"], dtype=object)
+    diel = np.array(["X5R", "X5R", "C0G", None], dtype=object)
+    case = np.array(["0603", "0603", "0402", None], dtype=object)
+    rated = np.array([10.0, 10.0, 50.0, 100.0])
+    value = np.array([10e-6, 10e-6, 1e-9, 1e-6])
+    bias_v = [[0.0, 3.3], None, None, None]
+    bias_r = [[1.0, 0.9], None, None, None]
+    for v in (2.0, 6.0):
+        ref, ref_src = bias_ratio_columns(v, value, tech, diel, case, rated, bias_v, bias_r)
+        curve = np.array([ceramic.bias_ratio_from_curve(v, [[0.0, 3.3]], [[1.0, 0.9]])[0],
+                          np.nan, np.nan, np.nan])
+        got, src = alt.bias_ratio(v, tech, diel, case, rated, value, curve,
+                                  np.array([3.3, np.nan, np.nan, np.nan]))
+        assert np.allclose(got, ref) and list(src) == list(ref_src)

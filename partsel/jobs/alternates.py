@@ -321,26 +321,34 @@ def curve_ratio_sql(voltage_param: str = "?") -> tuple[str, str]:
 
 
 def bias_ratio(voltage: float, technology: NDArray, dielectric: NDArray, case: NDArray,
-               rated_voltage: NDArray, value: NDArray,
-               curve_ratio: NDArray) -> tuple[NDArray[np.float64], NDArray[np.int8]]:
-    """C(V)/C0 per part at a DC voltage, vectorised, and its source (0 none, 1 curve, 2 estimate).
+               rated_voltage: NDArray, value: NDArray, curve_ratio: NDArray,
+               curve_last_v: NDArray | None = None) -> tuple[NDArray[np.float64], NDArray[np.int8]]:
+    """C(V)/C0 per part at a DC voltage, vectorised, and its source (index into
+    :data:`partsel.jobs.models.BIAS_SOURCES`).
 
-    Same policy as :func:`partsel.jobs.models.bias_ratios`: the part's measured curve wins
-    (``curve_ratio``, NaN for parts without one); MLCCs without one get the rule-of-thumb
-    estimate of :func:`partsel.engine.ceramic.estimate_bias_ratio`; other parts keep their
-    value.
+    The same policy as :func:`partsel.jobs.models.bias_ratio_columns`, from curves interpolated
+    in the store: the part's own curve (``curve_ratio``, NaN without one) within its voltage
+    range; beyond its last point (``curve_last_v``) the rule-of-thumb estimate where it is lower;
+    MLCCs without a curve get the estimate; other parts keep their value.
     """
     curve_ratio = np.asarray(curve_ratio, dtype=float)
     has_curve = np.isfinite(curve_ratio)
     ratio = np.where(has_curve, curve_ratio, 1.0)
     source = has_curve.astype(np.int8)
-    est = (technology == "mlcc") & ~has_curve
-    if est.any():
-        r = ceramic.estimate_bias_ratio(voltage, rated_voltage[est].astype(float), value[est],
-                                        case[est], dielectric[est])
-        idx = np.flatnonzero(est)
-        ratio[idx] = r
-        source[idx[r < 1.0]] = 2
+    mlcc = technology == "mlcc"
+    estimate = np.ones_like(ratio)
+    if mlcc.any():
+        estimate[mlcc] = ceramic.estimate_bias_ratio(
+            voltage, rated_voltage[mlcc].astype(float), value[mlcc], case[mlcc],
+            dielectric[mlcc])
+    if curve_last_v is not None:
+        last = np.asarray(curve_last_v, dtype=float)
+        beyond = has_curve & (abs(voltage) > last) & (estimate < ratio)
+        ratio = np.where(beyond, estimate, ratio)
+        source[beyond] = 3
+    est = mlcc & ~has_curve & (estimate < 1.0)
+    ratio[est] = estimate[est]
+    source[est] = 2
     return ratio, source
 
 
@@ -356,7 +364,7 @@ def _own_curve_ratio(row: dict[str, Any], voltage: float) -> float:
     return float(ceramic.bias_ratio_from_curve(voltage, cv, cr)[0])
 
 
-BIAS_SOURCES = models.BIAS_SOURCES[:3]  # the SQL interpolation holds the curve at its ends
+BIAS_SOURCES = models.BIAS_SOURCES
 
 
 def curve_distance(f: NDArray[np.float64], z_cand: NDArray[np.complex128],
@@ -720,7 +728,9 @@ def alternates_for(store: Store, original: dict[str, Any],
     oc = _column_arrays(o)
     o_ratio, o_src = (bias_ratio(bias, oc["technology"], oc["dielectric"], oc["case"],
                                  oc["rated_voltage"], oc["value"],
-                                 np.array([_own_curve_ratio(o, bias)])) if bias is not None
+                                 np.array([_own_curve_ratio(o, bias)]),
+                                 np.array([o["bias_v"][-1] if o.get("bias_v") else np.nan]))
+                      if bias is not None
                       else (np.ones(1), np.zeros(1, dtype=np.int8)))
     o_eff = float(o["value"]) * float(o_ratio[0])
     window = criteria.value_within
@@ -758,7 +768,7 @@ def alternates_for(store: Store, original: dict[str, Any],
     value = a["value"].astype(float)
     if bias is not None:
         ratio, src = bias_ratio(bias, a["technology"], a["dielectric"], a["case"],
-                                a["rated_voltage"], value, a["curve_ratio"])
+                                a["rated_voltage"], value, a["curve_ratio"], a["curve_last_v"])
         effects.append(
             f"DC bias {_q(bias, 'V')}: original {BIAS_SOURCES[int(o_src[0])]}; candidates: "
             f"catalog curve for {int(np.count_nonzero(src == 1))}, rule-of-thumb estimate "
@@ -870,10 +880,12 @@ def _survivors(store: Store, o: dict[str, Any], rules: list[_SqlRule],
     # C(V)/C0 from the stored curves is interpolated by the store: fetching the curves of
     # thousands of candidates would cost more than the whole search.
     k_sql, ratio_sql = curve_ratio_sql() if bias is not None else ("NULL", "NULL")
-    sql = (f"SELECT {', '.join(_select(c) for c in fetch)}, curve_ratio"
+    last_sql = "bias_v[len(bias_v)]" if bias is not None else "NULL"
+    sql = (f"SELECT {', '.join(_select(c) for c in fetch)}, curve_ratio, curve_last_v"
            f"{''.join(f', r_{r.name}' for r in rules)} FROM ("
            f"SELECT *, {ratio_sql} AS curve_ratio{rule_cols} FROM ("
-           f"SELECT *, {_ELECTROLYTE_SQL} AS electrolyte, {k_sql} AS bias_k FROM parts "
+           f"SELECT *, {_ELECTROLYTE_SQL} AS electrolyte, {k_sql} AS bias_k, "
+           f"{last_sql} AS curve_last_v FROM parts "
            f"WHERE kind = ? AND id <> ? AND value BETWEEN ? AND ?)) WHERE {outer} ORDER BY id")
     bias_params = [bias] if bias is not None else []
     params = [*bias_params, *(p for r in rules for p in r.params), *bias_params, o["kind"],
