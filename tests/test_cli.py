@@ -126,3 +126,15 @@ def test_wrong_maker_names_the_right_one(cli, make_store):
     assert r.exit_code == 2
     assert r.stderr.startswith("Error: part 'M1' is not from maker 'Wrongco'")
     assert "it is from Rightco" in r.stderr
+
+
+def test_store_may_stand_after_the_command(cli, make_store):
+    store = make_store([{"part_number": "S1", "maker": "Storeco", "kind": "capacitor",
+                         "value": "1uF", "esr": "10mohm", "esl": "0.5nH"}])
+    for args in (("find", "capacitor", "--below", "1ohm", "--band", "1MHz..10MHz", "--store",
+                  store, "-f", "json"),
+                 ("find", "capacitor", f"--store={store}", "--below", "1ohm", "--band",
+                  "1MHz..10MHz", "-f", "json")):
+        r = cli(*args)
+        assert r.exit_code == 0, r.output
+        assert [x["part_number"] for x in json.loads(r.stdout)] == ["S1"]

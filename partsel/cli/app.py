@@ -60,6 +60,14 @@ class _Group(TyperGroup):
 
     def main(self, *args: Any, **kwargs: Any) -> Any:
         kwargs["standalone_mode"] = False
+        argv = kwargs.get("args", args[0] if args else None)
+        if argv is None:
+            argv = sys.argv[1:]
+        moved = _store_first(list(argv))
+        if args:
+            args = (moved, *args[1:])
+        else:
+            kwargs["args"] = moved
         try:
             rc = super().main(*args, **kwargs)
         except PartselError as exc:
@@ -82,6 +90,27 @@ class _Group(TyperGroup):
         except KeyboardInterrupt:
             _fail("interrupted", 130)
         sys.exit(rc if isinstance(rc, int) else 0)
+
+
+def _store_first(argv: list[str]) -> list[str]:
+    """Let --store stand anywhere: it is a global option, so move it before the command
+    (``partsel find ... --store x`` works like ``partsel --store x find ...``). No command has
+    an option of that name, and everything after ``--`` is left alone."""
+    end = argv.index("--") if "--" in argv else len(argv)
+    out, head = [], []
+    i = 0
+    while i < end:
+        a = argv[i]
+        if a == "--store" and i + 1 < end:
+            head += argv[i:i + 2]
+            i += 2
+            continue
+        if a.startswith("--store="):
+            head.append(a)
+        else:
+            out.append(a)
+        i += 1
+    return head + out + argv[end:]
 
 
 def _fail(message: str, code: int) -> None:
