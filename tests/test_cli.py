@@ -1,4 +1,8 @@
-"""The command line as a user meets it: first run, help, version, store and file errors."""
+"""The command line as a user meets it: first run, help, version, store and file errors.
+
+These tests check behaviour only (exit codes, messages, files); they hold no physical check
+values, so no source is named.
+"""
 
 from __future__ import annotations
 

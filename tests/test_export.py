@@ -9,8 +9,6 @@ from __future__ import annotations
 
 import json
 import math
-import shutil
-import subprocess
 from pathlib import Path
 
 import numpy as np
@@ -24,11 +22,7 @@ from partsel.jobs.export import catalog_frame, spice_library, touchstone_text, w
 from partsel.jobs.measured import store_sweep
 from partsel.store import open_store
 from partsel.store.importer import import_catalog
-
-NGSPICE = Path("/usr/bin/ngspice")
-needs_ngspice = pytest.mark.skipif(not NGSPICE.exists() and shutil.which("ngspice") is None,
-                                   reason="ngspice is not installed")
-R_DC = 1e15  # a DC path for ngspice's operating point; its effect is added to the expectation
+from tests.ngspice_bench import ac_impedance, assert_same_z, needs_ngspice, with_rdc
 
 ROWS = [
     {"part_number": "C-100N/16", "maker": "Testco", "kind": "capacitor", "value": "100nF",
@@ -46,42 +40,8 @@ ROWS = [
 
 
 def _ac(tmp_path: Path, library: Path, name: str) -> tuple[np.ndarray, np.ndarray]:
-    """1 A AC into the subcircuit's pins: V(1) = Z. Returns (f, Z) from ngspice."""
-    out = tmp_path / f"{name}.txt"
-    deck = "\n".join([
-        "* partsel export test bench: 1 A AC into pins 1-0, so V(1) = Z",
-        f".include {library}",
-        f"X1 1 0 {name}",
-        "I1 0 1 DC 0 AC 1",
-        f"RDC 1 0 {R_DC!r}",
-        ".ac dec 40 1k 1G",
-        ".control",
-        "set wr_singlescale",
-        "set numdgt=16",
-        "run",
-        f"wrdata {out} v(1)",
-        "quit",
-        ".endc",
-        ".end",
-    ]) + "\n"
-    cir = tmp_path / f"{name}.cir"
-    cir.write_text(deck)
-    exe = str(NGSPICE) if NGSPICE.exists() else shutil.which("ngspice")
-    proc = subprocess.run([exe, "-b", str(cir)], capture_output=True, text=True, timeout=120,
-                          cwd=tmp_path)
-    assert proc.returncode == 0, proc.stdout + proc.stderr
-    data = np.loadtxt(out)
-    return data[:, 0], data[:, 1] + 1j * data[:, 2]
-
-
-def _with_rdc(z):
-    return 1.0 / (1.0 / z + 1.0 / R_DC)
-
-
-def _same_z(z_spice, z_model):
-    # |Z| to 1e-6 relative and phase to 1e-6 rad
-    np.testing.assert_allclose(np.abs(z_spice), np.abs(z_model), rtol=1e-6)
-    np.testing.assert_allclose(np.angle(z_spice), np.angle(z_model), rtol=0, atol=1e-6)
+    """(f, Z) of a subcircuit of an exported library, from the shared ngspice bench."""
+    return ac_impedance(tmp_path, f".include {library}", name, per_decade=40)
 
 
 @pytest.mark.ngspice
@@ -95,12 +55,12 @@ def test_exported_library_simulates_like_the_stored_models(tmp_path, make_store,
         parts = {pn: s.find_part(pn) for pn in ("C-100N/16", "L-10U", "L-NOSRF")}
     f, z = _ac(tmp_path, lib, "C_100N_16")
     p = parts["C-100N/16"]
-    _same_z(z, _with_rdc(capacitor.impedance(f, p["value"], p["esr"], p["esl"])))
+    assert_same_z(z, with_rdc(capacitor.impedance(f, p["value"], p["esr"], p["esl"])))
     for pn, name in (("L-10U", "L_10U"), ("L-NOSRF", "L_NOSRF")):
         f, z = _ac(tmp_path, lib, name)
         p = parts[pn]
         cp = inductor.winding_capacitance(p["value"], p["srf"] if p["srf"] else np.nan)
-        _same_z(z, _with_rdc(inductor.impedance(f, p["value"], p["dcr"], cp,
+        assert_same_z(z, with_rdc(inductor.impedance(f, p["value"], p["dcr"], cp,
                                                 p["rp"] if p["rp"] else np.inf)))
 
 
@@ -122,7 +82,7 @@ def test_fitted_model_exported_through_the_cli_simulates_like_the_fit(tmp_path, 
     fs, z = _ac(tmp_path, lib, "C_100N_16")
     with open_store(store) as s:
         p = s.find_part("C-100N/16")
-    _same_z(z, _with_rdc(capacitor.impedance(fs, p["value"], p["esr"], p["esl"])))
+    assert_same_z(z, with_rdc(capacitor.impedance(fs, p["value"], p["esr"], p["esl"])))
     # and the fit found the generating part (noise-free sweep)
     assert p["esl"] == pytest.approx(0.9e-9, rel=1e-6)
 

@@ -1,4 +1,8 @@
-"""Store schema versions: migrations run in order, once, and a newer store is refused."""
+"""Store schema versions: migrations run in order, once, and a newer store is refused.
+
+These tests check behaviour only (exit codes, messages, files); they hold no physical check
+values, so no source is named.
+"""
 
 from __future__ import annotations
 

@@ -3,9 +3,6 @@
 from __future__ import annotations
 
 import math
-import shutil
-import subprocess
-from pathlib import Path
 
 import numpy as np
 import pytest
@@ -13,51 +10,8 @@ import pytest
 from partsel.engine import capacitor, inductor
 from partsel.errors import ModelError
 from partsel.io.spice import capacitor_subckt, inductor_subckt, spice_name
-
-NGSPICE = Path("/usr/bin/ngspice")
-needs_ngspice = pytest.mark.skipif(not NGSPICE.exists() and shutil.which("ngspice") is None,
-                                   reason="ngspice is not installed")
-R_DC = 1e15  # a DC path for the operating point; its effect is added to the expectation
-
-
-def _ac(tmp_path: Path, subckt: str, name: str) -> tuple[np.ndarray, np.ndarray]:
-    """Drive 1 A AC into the subcircuit's pins and return (f, Z) from ngspice."""
-    out = tmp_path / "z.txt"
-    deck = "\n".join([
-        "* partsel test bench: 1 A AC into pins 1-0, so V(1) = Z",
-        subckt.rstrip(),
-        f"X1 1 0 {name}",
-        "I1 0 1 DC 0 AC 1",
-        f"RDC 1 0 {R_DC!r}",
-        ".ac dec 50 1k 1G",
-        ".control",
-        "set wr_singlescale",
-        "set numdgt=16",
-        "run",
-        f"wrdata {out} v(1)",
-        "quit",
-        ".endc",
-        ".end",
-    ]) + "\n"
-    cir = tmp_path / "bench.cir"
-    cir.write_text(deck)
-    exe = str(NGSPICE) if NGSPICE.exists() else shutil.which("ngspice")
-    proc = subprocess.run([exe, "-b", str(cir)], capture_output=True, text=True, timeout=120,
-                          cwd=tmp_path)
-    assert proc.returncode == 0, proc.stdout + proc.stderr
-    data = np.loadtxt(out)
-    assert data.shape == (301, 3)  # 6 decades x 50 points + 1 (ngspice .ac dec)
-    return data[:, 0], data[:, 1] + 1j * data[:, 2]
-
-
-def _with_rdc(z):
-    return 1.0 / (1.0 / z + 1.0 / R_DC)
-
-
-def _compare(z_spice, z_model):
-    # |Z| to 1e-6 relative and phase to 1e-6 rad (the brief's bound; ngspice solves in double)
-    np.testing.assert_allclose(np.abs(z_spice), np.abs(z_model), rtol=1e-6)
-    np.testing.assert_allclose(np.angle(z_spice), np.angle(z_model), rtol=0, atol=1e-6)
+from tests.ngspice_bench import ac_impedance as _ac
+from tests.ngspice_bench import assert_same_z, needs_ngspice, with_rdc
 
 
 @pytest.mark.ngspice
@@ -67,7 +21,7 @@ def _compare(z_spice, z_model):
 def test_capacitor_subckt_matches_engine(tmp_path, c, esr, esl):
     text = capacitor_subckt("C-TEST/1", c, esr, esl)
     f, z = _ac(tmp_path, text, spice_name("C-TEST/1"))
-    _compare(z, _with_rdc(capacitor.impedance(f, c, esr, esl)))  # engine series R-L-C
+    assert_same_z(z, with_rdc(capacitor.impedance(f, c, esr, esl)))  # engine series R-L-C
 
 
 @pytest.mark.ngspice
@@ -77,10 +31,10 @@ def test_capacitor_with_tan_delta_exact_at_f_ref(tmp_path):
     text = capacitor_subckt("CX", c, esr, esl, tan_delta=td, f_ref=f_ref)
     f, z = _ac(tmp_path, text, "CX")
     r_const = esr + td / (2 * math.pi * f_ref * c)  # derived: R_d = tan_delta / (omega C)
-    _compare(z, _with_rdc(capacitor.impedance(f, c, r_const, esl)))
+    assert_same_z(z, with_rdc(capacitor.impedance(f, c, r_const, esl)))
     k = int(np.argmin(np.abs(f / f_ref - 1)))
     assert f[k] == pytest.approx(f_ref, rel=1e-12)
-    _compare(z[k:k + 1], _with_rdc(capacitor.impedance(f[k:k + 1], c, esr, esl, td)))
+    assert_same_z(z[k:k + 1], with_rdc(capacitor.impedance(f[k:k + 1], c, esr, esl, td)))
     # away from f_ref the constant resistor and the dielectric loss differ
     far = capacitor.impedance(f[0], c, esr, esl, td)
     assert abs(abs(z[0]) / abs(far) - 1) > 1e-3
@@ -96,7 +50,7 @@ def test_inductor_subckt_matches_engine(tmp_path, lval, dcr, srf, rp):
     text = inductor_subckt("L 10u", lval, dcr, cp, rp)
     f, z = _ac(tmp_path, text, spice_name("L 10u"))
     expected = inductor.impedance(f, lval, dcr, cp, np.inf if rp is None else rp)
-    _compare(z, _with_rdc(expected))  # engine (L + R_s) || C_p || R_p
+    assert_same_z(z, with_rdc(expected))  # engine (L + R_s) || C_p || R_p
 
 
 def test_names_and_header():
