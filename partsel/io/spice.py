@@ -18,8 +18,9 @@ from __future__ import annotations
 
 import math
 import re
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 
+from partsel.engine.circuit import Circuit, Element
 from partsel.errors import ModelError
 from partsel.units import format_quantity
 
@@ -157,3 +158,37 @@ def inductor_subckt(name: str, value: float, dcr: float, cp: float, rp: float | 
     chain = [(e, v) for e, v in (("L1", lval), ("R1", r)) if v > 0]
     shunts = tuple((e, v) for e, v in (("C1", c), ("R2", rp_val)) if 0 < v < math.inf)
     return _subckt(spice_name(name), lines, chain, shunts)
+
+
+def circuit_subckt(name: str, circuit: Circuit, header: Sequence[str] = ()) -> str:
+    """SPICE ``.SUBCKT`` of any :class:`~partsel.engine.circuit.Circuit` between pins 1 and 2.
+
+    The circuit's port node 1 is pin 1 and its reference node 0 is pin 2 (node 0 is the global
+    ground in SPICE, so it never appears inside the subcircuit); other nodes are written n2,
+    n3, ... Values are written with repr, which reads back as the same double. ``header`` lines
+    are written as comments before the subcircuit.
+    """
+    circuit.validate()
+    sub = spice_name(name)
+
+    def node(n: int) -> str:
+        return {1: "1", 0: "2"}.get(n, f"n{n}")
+
+    # SPICE reads the kind from the first letter of a name: flattened names (X1.R2) get the
+    # letter in front, and every name is made of characters SPICE accepts
+    names: dict[str, str] = {}
+    for e in list(circuit.elements) + list(circuit.couplings):
+        kind = e.kind if isinstance(e, Element) else "K"
+        clean = re.sub(r"[^A-Za-z0-9_]", "_", e.name)
+        clean = clean if clean[:1].upper() == kind else f"{kind}_{clean}"
+        while clean.upper() in {v.upper() for v in names.values()}:
+            clean += "_"
+        names[e.name.upper()] = clean
+    body = [f"* {line}" if not line.startswith("*") else line for line in header]
+    body.append(f".SUBCKT {sub} 1 2")
+    body += [f"{names[e.name.upper()]} {node(e.a)} {node(e.b)} {_num(e.value)}"
+             for e in circuit.elements]
+    body += [f"{names[k.name.upper()]} {names[k.first.upper()]} {names[k.second.upper()]} "
+             f"{_num(k.k)}" for k in circuit.couplings]
+    body.append(f".ENDS {sub}")
+    return "\n".join(body) + "\n"
