@@ -112,6 +112,17 @@ class Family(ABC):
     def concat(self, batches: Sequence[Batch]) -> Batch:
         """The parts of several batches, in order."""
 
+    @abstractmethod
+    def pack(self, batch: Batch) -> list[tuple[NDArray[np.int64], NDArray[np.float64]]]:
+        """The storage form: per part, its model as flat integers and reals."""
+
+    @abstractmethod
+    def unpack(self, ints: NDArray[np.int64], int_offsets: NDArray[np.int64],
+               reals: NDArray[np.float64], real_offsets: NDArray[np.int64]) -> Batch:
+        """A batch from the concatenated storage forms of many parts (part i's integers are
+        ``ints[int_offsets[i]:int_offsets[i + 1]]``, likewise its reals), as list columns of
+        a store give them."""
+
     # -- physics -----------------------------------------------------------------------------
     @abstractmethod
     def impedance(self, batch: Batch, f: NDArray[np.float64]) -> NDArray[np.complex128]:
@@ -184,6 +195,22 @@ class ClosedForm(Family):
 
     def concat(self, batches: Sequence[dict[str, NDArray]]) -> dict[str, NDArray]:
         return {p.name: np.concatenate([b[p.name] for b in batches]) for p in self.params}
+
+    def pack(self, batch: dict[str, NDArray]) -> list[tuple[NDArray[np.int64],
+                                                            NDArray[np.float64]]]:
+        """Per part, no integers and the parameters in the order of :attr:`params`."""
+        table = np.stack([batch[p.name] for p in self.params], axis=1)
+        none = np.empty(0, dtype=np.int64)
+        return [(none, row.copy()) for row in table]
+
+    def unpack(self, ints: NDArray[np.int64], int_offsets: NDArray[np.int64],
+               reals: NDArray[np.float64], real_offsets: NDArray[np.int64]) -> dict[str, NDArray]:
+        k = len(self.params)
+        offsets = np.asarray(real_offsets, dtype=np.int64)
+        if np.any(np.diff(offsets) != k):
+            raise ValueError(f"a stored {self.name} model holds {k} numbers per part")
+        table = np.asarray(reals, dtype=float)[offsets[0]:offsets[-1]].reshape(-1, k)
+        return {p.name: table[:, j].copy() for j, p in enumerate(self.params)}
 
     def make(self, **columns: ArrayLike) -> dict[str, NDArray[np.float64]]:
         """A batch from columns by glossary name; absent optional ones take their default.
