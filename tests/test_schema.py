@@ -61,3 +61,17 @@ def test_a_newer_store_is_refused(tmp_path):
     con.close()
     with pytest.raises(StoreError, match="newer partsel"):
         open_store(path)
+
+
+def test_a_first_release_store_gains_the_models_table(tmp_path, monkeypatch):
+    path = tmp_path / "v1.duckdb"
+    with monkeypatch.context() as m:
+        m.setattr(schema, "MIGRATIONS", {1: schema.MIGRATIONS[1]})
+        m.setattr(schema, "SCHEMA_VERSION", 1)
+        with open_store(path, write=True) as s:
+            s.con.execute("INSERT INTO parts (id, part_number, maker, kind, value) "
+                          "VALUES (1, 'P1', 'M', 'capacitor', 1e-6)")
+    with open_store(path) as s:
+        assert schema.current_version(s.con) == schema.SCHEMA_VERSION
+        assert s.con.execute("SELECT count(*) FROM models").fetchone() == (0,)
+        assert s.count() == 1

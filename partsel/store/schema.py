@@ -46,6 +46,17 @@ MIGRATIONS: dict[int, list[str]] = {
             maker VARCHAR NOT NULL, part_number VARCHAR NOT NULL,
             saved_at TIMESTAMP, reason VARCHAR, model VARCHAR)""",
     ],
+    2: [
+        # Models other than the catalog columns: a maker's SPICE subcircuit or Touchstone data
+        # ("vendor"), or a fit of a closed-form family that the catalog columns cannot hold
+        # ("fit"). One row per (maker, part_number, source); the family's packed form (see
+        # partsel.engine.models.base.Family.pack) in ints/reals, the model as read in text.
+        """CREATE TABLE models (
+            maker VARCHAR NOT NULL, part_number VARCHAR NOT NULL,
+            source VARCHAR NOT NULL, family VARCHAR NOT NULL,
+            source_file VARCHAR, subckt VARCHAR, imported_at TIMESTAMP,
+            text VARCHAR, ints BIGINT[], reals DOUBLE[], note VARCHAR)""",
+    ],
 }
 SCHEMA_VERSION = max(MIGRATIONS)
 
