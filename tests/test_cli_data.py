@@ -358,8 +358,9 @@ def test_find_and_curve_say_when_measured_curves_are_used(store, cli, tmp_path):
               "1MHz..30MHz", "--measured", "--format", "json")
     rows = {r["part_number"]: r for r in json.loads(res.stdout)}
     assert rows["C100N"]["curve_source"] == "measured"
-    assert rows["C10U"]["curve_source"] == "model"
-    assert "measured curves for 1 of 2 parts" in res.stderr
+    assert rows["C100N"]["model_source"] == "measured"
+    assert rows["C10U"]["model_source"] == "catalog" and "curve_source" not in rows["C10U"]
+    assert "measured curve for 1 part" in res.stderr and "catalog rlc for 1 part" in res.stderr
     res = cli("--store", store, "curve", "C100N", "--band", "10kHz..1GHz", "--measured")
     assert "C100N: measured curve of s.csv (100 kHz to 100 MHz, model outside" in res.stderr
     _one_error(cli("--store", store, "curve", "C100N", "--band", "10kHz..1GHz",

@@ -322,17 +322,19 @@ def test_find_measured_judges_the_measured_curve(make_store):
     # has 3 nH: |Z(30 MHz)| = |0.02 + j(0.565 - 0.053)| = 0.51 ohm (derived: series R-L-C)
     search = dict(kind="capacitor", band=(10e6, 30e6), below=0.3, limit=0)
     with open_store(path) as s:
-        plain = find(s, Search(**search))
+        plain = find(s, Search(**search, model="catalog"))
         meas = find(s, Search(**search, measured=True))
+        best = find(s, Search(**search))        # the default: measured where a part has one
         only = find(s, Search(**dict(search, below=1.0), measured_only=True))
     assert [r["part_number"] for r in plain.rows] == ["C100N", "C100N-B"]
     assert [r["part_number"] for r in meas.rows] == ["C100N"]
-    assert meas.rows[0]["curve"] == "model"
+    assert [r["part_number"] for r in best.rows] == ["C100N"]
+    assert meas.rows[0]["model_source"] == "catalog" and "curve" not in meas.rows[0]
     assert [r["part_number"] for r in only.rows] == ["C100N-B"]
     assert only.rows[0]["curve"] == "measured"
     want = abs(capacitor.impedance(30e6, 100e-9, 20e-3, 3e-9))   # band max at the top edge
     assert only.rows[0]["max_z_ohm"] == pytest.approx(want, rel=1e-3)
-    assert any("measured curves" in e for e in meas.effects)
+    assert any("measured curve for 1 part" in e for e in meas.effects)
 
 
 def test_find_measured_fills_outside_the_sweep_with_the_model(make_store):
@@ -347,10 +349,30 @@ def test_find_measured_fills_outside_the_sweep_with_the_model(make_store):
     assert row["f_max_hz"] == pytest.approx(10e3)
 
 
-def test_find_measured_refuses_bias(make_store):
-    path, _ = _measured_store(make_store)
-    with open_store(path) as s, pytest.raises(QueryError, match="--bias"):
-        find(s, Search("capacitor", band=(1e6, 3e6), below=1, bias=3.3, measured=True))
+def test_find_measured_takes_a_bias_as_the_models_own_change(make_store):
+    """A bias on a measured curve shifts it by the series R-L-C model's own change from C to
+    C_eff, (tan_delta - j)(1/(w C_eff) - 1/(w C)) (circuit theory), the sweep taken as measured
+    at 0 V; the result says so."""
+    x7r = dict(CAP, part_number="C100N-B", dielectric="X7R", rated_voltage="6.3V")
+    path = make_store([dict(CAP, dielectric="X7R", rated_voltage="6.3V"), x7r])
+    f = np.logspace(5, 8, 301)
+    with open_store(path, write=True) as s:
+        store_sweep(s, "C100N-B", f, capacitor.impedance(f, 100e-9, 20e-3, 3e-9))
+    band = (1e6, 3e6)
+    with open_store(path) as s:
+        got = find(s, Search("capacitor", band=band, below=10, bias=3.3, measured=True,
+                             limit=0))
+        plain = find(s, Search("capacitor", band=band, below=10, measured=True, limit=0))
+    row = next(r for r in got.rows if r["part_number"] == "C100N-B")
+    base = next(r for r in plain.rows if r["part_number"] == "C100N-B")
+    ratio = row["c_eff_f"] / 100e-9
+    assert ratio < 1
+    w = 2 * np.pi * 1e6        # the band maximum of a capacitive curve is at the low edge
+    z0 = capacitor.impedance(1e6, 100e-9, 20e-3, 3e-9)
+    want = abs(z0 - 1j * (1 / (w * 100e-9 * ratio) - 1 / (w * 100e-9)))
+    assert row["max_z_ohm"] == pytest.approx(want, rel=1e-3) and row["max_z_ohm"] > \
+        base["max_z_ohm"]
+    assert any("applied to a measured curve" in e for e in got.effects)
 
 
 def test_curves_use_the_measured_curve_inside_its_range(make_store):

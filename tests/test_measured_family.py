@@ -78,3 +78,25 @@ def test_bad_curves_are_refused():
         MEAS.from_curves([[1e3, 1e3]], [[1, 1]])
     with pytest.raises(ValueError, match="non-zero"):
         MEAS.from_curves([[1e3, 1e4]], [[1, 0]])
+
+
+def test_a_fallback_model_answers_outside_the_measured_range():
+    """Inside the range the curve, outside the model; the band extrema take the more extreme
+    piece (the model here is 2x the curve, so the outside pieces win the maximum)."""
+    from partsel.engine.models import ModelSet
+    b = RLC.make(value=1e-6, esr=0.01, esl=1e-9)
+    f = np.geomspace(1e4, 1e6, 41)
+    z = RLC.impedance(b, f)[0] / 2
+    model = ModelSet.of(RLC, b)
+    c = MEAS.from_curves([f], [z], fallback=[model])
+    pts = np.array([1e3, 1e5, 1e7])
+    got = MEAS.impedance(c, pts)[0]
+    np.testing.assert_allclose(got[[0, 2]], RLC.impedance(b, pts[[0, 2]])[0], rtol=1e-15)
+    np.testing.assert_allclose(got[1], MEAS.impedance(MEAS.from_curves([f], [z]), pts[[1]])[0, 0])
+    ext = MEAS.band(c, 1e3, 1e5)
+    model_low = RLC.band(b, 1e3, 1e4)
+    assert ext.max_z[0] == model_low.max_z[0] and ext.f_max[0] == 1e3
+    lo, hi = MEAS.span(c)
+    assert lo[0] == 0 and hi[0] == np.inf
+    srf = 1 / (2 * np.pi * np.sqrt(1e-9 * 1e-6))
+    assert np.isclose(MEAS.zero_phase(c)[0], srf, rtol=1e-12)  # above the range: the model's

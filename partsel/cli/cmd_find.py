@@ -35,7 +35,8 @@ JSON_KEYS = {
     "isat_margin": "isat_margin", "irms_margin": "irms_margin",
     "q": "q", "c_eff_f": "c_eff_f", "bias_source": "bias_source", "lifecycle": "lifecycle",
     "price": "price", "stock": "stock", "esr_source": "esr_source", "esl_source": "esl_source",
-    "curve": "curve_source",
+    "curve": "curve_source", "model": "model", "model_source": "model_source",
+    "model_family": "model_family", "model_origin": "model_origin",
 }
 
 
@@ -102,11 +103,12 @@ def find_cmd(
                                     help="Inductors: catalog SRF at least R x the "
                                          "--inductive-to frequency (10 keeps L predictable, "
                                          "rule of thumb)."),
+    model: str = opt.model_option(),
+    model_only: bool = opt.model_only_option(),
     measured: bool = typer.Option(False, "--measured",
-                                  help="Judge --below/--above on a part's stored measured curve "
-                                       "where it has one (the model outside its range)."),
+                                  help="Same as --model measured."),
     measured_only: bool = typer.Option(False, "--measured-only",
-                                       help="Only parts whose measured curve covers the band."),
+                                       help="Same as --model measured --model-only."),
     limit: int = opt.limit_option(),
     fmt: str = opt.format_option(),
 ) -> None:
@@ -164,6 +166,7 @@ def find_cmd(
         kw["in_stock"] = True
     if srf_ratio != 1.0:
         kw["srf_ratio"] = srf_ratio
+    kw["model"], kw["model_only"] = model, model_only
     if measured or measured_only:
         kw["measured"], kw["measured_only"] = True, measured_only
     kw.setdefault("limit", limit)
@@ -189,8 +192,8 @@ def find_cmd(
         cols = [Col("esl_mounted", "ESL+mount", "H") if c.key == "esl" else c for c in cols]
         for r in result.rows:
             r["esl_mounted"] = (r.get("esl") or 0.0) + search.mount_l
-    if search.measured:
-        cols = cols[:-2] + [Col("curve", "curve")] + cols[-2:]
+    if any(r.get("model_source") != "catalog" for r in result.rows):
+        cols = cols[:-2] + [Col("model", "model")] + cols[-2:]
     if search.kind == "inductor" and search.min_q:
         cols = cols[:-2] + [Col("q", f"Q@{units.format_quantity(search.min_q[1], 'Hz')}", "")] \
             + cols[-2:]

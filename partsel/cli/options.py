@@ -66,3 +66,16 @@ def emit(rows: list[dict[str, Any]], cols: Sequence[render.Col], fmt: str,
     for r in shaped:
         keys.extend(k for k in r if k not in keys)
     return render.to_csv(shaped, keys).rstrip("\n")
+
+
+def model_option() -> Any:
+    return typer.Option("best", "--model", metavar="catalog|vendor|measured|best",
+                        help="Which model of each part: its catalog model, its maker's model "
+                             "(partsel model import), its measured curve (partsel sweep import),"
+                             " or the best it has (measured, else vendor, else catalog).")
+
+
+def model_only_option() -> Any:
+    return typer.Option(False, "--model-only",
+                        help="Leave out parts that lack the --model chosen (best: parts with "
+                             "neither a vendor model nor a measured curve).")

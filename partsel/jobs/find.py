@@ -1,8 +1,10 @@
 """Band search: parts whose impedance meets a limit over a continuous band, best first.
 
-The store narrows the candidates with SQL filters (bound parameters); the engine evaluates the
-exact band extrema of every remaining part at once (no grid, see :mod:`partsel.engine.band`);
-only the rows shown are fetched in full.
+The store narrows the candidates with SQL filters (bound parameters); each candidate gets its
+model (:func:`partsel.jobs.models.choose_models`: the catalog's, a maker's or a measured one)
+and the layers asked for (DC bias, mounting inductance); the model layer evaluates the exact
+band extrema of every remaining part at once (no grid: each family's own proof, see
+:mod:`partsel.engine.models`); only the rows shown are fetched in full.
 """
 
 from __future__ import annotations
@@ -19,13 +21,19 @@ from partsel.catalog import (
     canonical,
     normalise_case,
 )
-from partsel.engine import band as band_metrics
-from partsel.engine import capacitor, inductor
+from partsel.engine.models import BandExtrema, ModelSet
 from partsel.errors import QueryError
-from partsel.jobs.models import BIAS_SOURCES, bias_ratio_columns
+from partsel.jobs.models import (
+    BIAS_SOURCES,
+    Chosen,
+    bias_ratio_columns,
+    catalog_models,
+    check_choice,
+    choose_models,
+)
 from partsel.standards import eia198
+from partsel.store import search as queries
 from partsel.store.db import Store
-from partsel.store.query import membership
 from partsel.units import format_quantity
 
 Kind = Literal["capacitor", "inductor"]
@@ -56,8 +64,10 @@ class Search:
     ripple: float | None = None         # inductors: peak-to-peak ripple current [A]
     min_q: tuple[float, float] | None = None  # inductors: (Q, at frequency [Hz])
     srf_ratio: float = 1.0              # inductors: catalog SRF at least this x inductive_to
-    measured: bool = False              # band limits on stored measured curves, model elsewhere
-    measured_only: bool = False         # band limits on measured curves; parts without: out
+    model: str = "best"                 # which model: catalog, vendor, measured or best
+    model_only: bool = False            # leave out parts without the chosen kind of model
+    measured: bool = False              # old spelling of model="measured"
+    measured_only: bool = False         # old spelling of model="measured", model_only=True
     limit: int = 20                     # 0 = all
 
     def validate(self) -> None:
@@ -100,12 +110,13 @@ class Search:
         if self.value_min and self.value_max and self.value_min > self.value_max:
             raise QueryError("the value range runs backwards: write the lower value first")
         if self.measured or self.measured_only:
-            if self.band is None:
-                raise QueryError("--measured applies to band limits: add --band F1..F2 with "
-                                 "--below or --above")
-            if self.bias is not None:
-                raise QueryError("--bias cannot be applied to a measured curve (it was measured "
-                                 "at its own bias): leave out --measured or --bias")
+            self.model = "measured"
+            self.model_only = self.model_only or self.measured_only
+            self.measured = self.measured_only = False
+        check_choice(self.model)
+        if self.model_only and self.model == "catalog":
+            raise QueryError("model_only needs a model choice other than catalog (vendor, "
+                             "measured or best)")
 
     _UNITS = {"below": "ohm", "above": "ohm", "inductive_to": "Hz", "value_min": "F|H",
               "value_max": "F|H", "min_voltage": "V", "bias": "V", "mount_l": "H",
@@ -149,223 +160,264 @@ class FindResult:
     notes: list[str] = field(default_factory=list)     # what was left out and why
 
 
-def _where(search: Search) -> tuple[str, list[Any]]:
-    conds = ["kind = ?"]
-    params: list[Any] = [search.kind]
-    if search.lifecycles:
-        conds.append("list_contains(?, coalesce(lifecycle, 'active'))")
-        params.append(list(search.lifecycles))
-    if search.value_min is not None:
-        conds.append("value >= ?")
-        params.append(search.value_min * (1 - 1e-9))
-    if search.value_max is not None:
-        conds.append("value <= ?")
-        params.append(search.value_max * (1 + 1e-9))
-    if search.min_voltage is not None:
-        conds.append("rated_voltage >= ?")
-        params.append(search.min_voltage)
-    more, more_params = membership(search.cases, search.dielectrics, search.technologies,
-                                   search.makers, search.in_stock)
-    conds += more
-    params += more_params
-    return " AND ".join(conds), params
-
-
-def _measured(search: Search) -> bool:
-    return search.measured or search.measured_only
-
-
 def _count(n: int, word: str) -> str:
     return f"{n} {word}{'' if n == 1 else 's'}"
 
 
-def _c_effective(a: dict[str, np.ndarray], bias: float,
-                 effects: list[str]) -> tuple[np.ndarray, np.ndarray]:
-    """Capacitance at the working DC bias (see :func:`partsel.jobs.models.bias_ratio_columns`)
-    and its source code (0 none, 1 measured curve, 2 estimate)."""
-    ratio, source = bias_ratio_columns(bias, a["value"], a["technology"], a["dielectric"],
-                                       a["case"], a["rated_voltage"], a["bias_v"],
-                                       a["bias_ratio"])
-    effects.append(f"DC bias {bias:g} V: the part's catalog curve for "
-                   f"{int(((source == 1) | (source == 3)).sum())} parts (beyond its last point the "
-                   f"estimate where lower for {int((source == 3).sum())}), "
-                   f"rule-of-thumb estimate for {int((source == 2).sum())} class II parts "
-                   "(estimated)")
-    return a["value"] * ratio, source
+def _filters(search: Search) -> dict[str, Any]:
+    return {"lifecycles": search.lifecycles, "value_min": search.value_min,
+            "value_max": search.value_max, "min_voltage": search.min_voltage,
+            "cases": search.cases, "dielectrics": search.dielectrics,
+            "technologies": search.technologies, "makers": search.makers,
+            "in_stock": search.in_stock}
 
 
-def find(store: Store, search: Search) -> FindResult:
-    """Run a band search. See :class:`Search` for the criteria."""
-    search.validate()
-    where, params = _where(search)
-    effects: list[str] = []
-    notes: list[str] = []
-    if search.kind == "capacitor":
-        cols = "id, value, esr, esl, coalesce(tan_delta, 0.0) AS tan_delta"
-        if search.bias is not None:
-            cols += ", technology, dielectric, \"case\", rated_voltage, bias_v, bias_ratio"
-        # one query, so every column comes back in the same row order
-        a = store.arrays(f"SELECT {cols} FROM parts WHERE {where}", params)
-        value, esr, esl, td = a["value"], a["esr"], a["esl"], a["tan_delta"]
-        effects.append("series R-L-C, ESR(f) = esr + tan_delta/(2 pi f C)")
-        c_eff = value
-        bias_src = None
-        if search.bias is not None:
-            c_eff, bias_src = _c_effective(a, search.bias, effects)
-        l_tot = esl
-        if search.mount_l:
-            l_tot = esl + search.mount_l
-            effects.append(f"mounting inductance {search.mount_l * 1e9:g} nH added to each ESL")
-        ok = np.isfinite(value) & np.isfinite(esr) & np.isfinite(esl)
-        if search.bias is not None:
-            # a part rated below the working voltage is not a candidate at that voltage
-            over = a["rated_voltage"] < abs(search.bias)
-            if (over & ok).any():
-                notes.append(f"{_count(int((over & ok).sum()), 'capacitor')} rated below the "
-                             f"bias {search.bias:g} V left out")
-            ok &= ~over
-        metrics: dict[str, np.ndarray] = {}
-        if search.band:
-            esr0, l0 = np.nan_to_num(esr), np.nan_to_num(l_tot)
-            if search.above is None and not _measured(search):
-                # fast path: the maximum alone decides and ranks; the rest is computed for the
-                # rows shown
-                max_z, f_max = band_metrics.capacitor_band_max(*search.band, c_eff, esr0, l0, td)
-                ext = band_metrics.BandExtrema(max_z, f_max, max_z, f_max)
-            else:
-                ext = band_metrics.capacitor_band(*search.band, c_eff, esr0, l0, td)
+@dataclass
+class _Pool:
+    """The candidates: their catalog columns, chosen models (layers applied), and the figures
+    computed for them (per-part arrays), with which parts are still in."""
 
-            def model_band(f1: float, f2: float, i: int) -> band_metrics.BandExtrema:
-                return band_metrics.capacitor_band(f1, f2, c_eff[i], esr0[i], l0[i], td[i])
-    else:
-        a = store.arrays(f"SELECT id, value, dcr AS dcr_raw, coalesce(dcr, 0.0) AS dcr, srf, rp, "
-                         f"isat, irms FROM parts WHERE {where}", params)
-        value, dcr = a["value"], a["dcr"]
-        cp = inductor.winding_capacitance(value, a["srf"])
-        effects.append("(L + DCR) in parallel with C_p = 1/((2 pi SRF)^2 L) and Rp")
-        ok = np.isfinite(value)
-        metrics = {"zero_phase_hz": inductor.zero_phase_frequency(value, dcr, cp)}
-        if search.inductive_to is not None or search.band is not None:
-            # without an SRF the model has no winding capacitance and would claim a rising
-            # |Z| and a positive phase at every frequency: such parts cannot be judged
-            known = np.isfinite(a["srf"])
-            if (~known & ok).any():
-                notes.append(f"{_count(int((~known & ok).sum()), 'inductor')} without an SRF "
-                             "left out: their self-resonance cannot be checked")
-            ok &= known
-        if search.inductive_to is not None:
-            ok &= inductor.is_inductive_to(search.inductive_to, value, dcr, cp)
-            metrics["srf_margin"] = metrics["zero_phase_hz"] / search.inductive_to
-            metrics["srf_ratio"] = a["srf"] / search.inductive_to
-            if search.srf_ratio > 1.0:
-                ok &= metrics["srf_ratio"] >= search.srf_ratio
-        if search.current is not None:
-            # peak of DC + triangular ripple against Isat; RMS of the same waveform,
-            # sqrt(I^2 + I_pp^2/12) (derived), against Irms
-            unrated = ~(np.isfinite(a["isat"]) & np.isfinite(a["irms"]))
-            if (unrated & ok).any():
-                notes.append(f"{_count(int((unrated & ok).sum()), 'inductor')} without Isat or "
-                             "Irms left out: the current cannot be checked")
-            ok &= ~unrated
-            ripple = search.ripple or 0.0
-            peak = search.current + ripple / 2.0
-            rms = np.sqrt(search.current**2 + ripple**2 / 12.0)
-            ok &= (a["isat"] >= peak) & (a["irms"] >= rms)
-            metrics["isat_margin"] = a["isat"] / peak
-            metrics["irms_margin"] = a["irms"] / rms
-        if search.min_q is not None:
-            q_min, f_q = search.min_q
-            lossless = ~(a["dcr_raw"] > 0) & ~np.isfinite(a["rp"])
-            if (lossless & ok).any():
-                notes.append(f"{_count(int((lossless & ok).sum()), 'inductor')} without a DCR "
-                             "(or Rp) left out: their Q cannot be computed")
-            with np.errstate(divide="ignore", invalid="ignore"):
-                q = inductor.q_factor(f_q, value, dcr, cp, a["rp"])
-            ok &= ~lossless & (q >= q_min)
-            metrics["q"] = q
-        if search.band:
-            ext = band_metrics.inductor_band(*search.band, value, dcr, cp, a["rp"])
+    cols: dict[str, np.ndarray]
+    chosen: Chosen
+    models: ModelSet
+    ok: np.ndarray
+    metrics: dict[str, np.ndarray] = field(default_factory=dict)
+    c_eff: np.ndarray | None = None
+    bias_src: np.ndarray | None = None
 
-            def model_band(f1: float, f2: float, i: int) -> band_metrics.BandExtrema:
-                return band_metrics.inductor_band(f1, f2, value[i], dcr[i], cp[i], a["rp"][i])
-        if _measured(search) and (search.inductive_to or search.min_q):
-            notes.append("--inductive-to and --min-q are checked on the model, not on the "
-                         "measured curves")
-    curve = None
-    if search.band and _measured(search):
-        from partsel.jobs.measured import overlay_band
-        over = overlay_band(store, a["id"], search.band, ext, model_band,
-                            only=search.measured_only, mount_l=search.mount_l or 0.0)
-        ext, curve = over.extrema, over.source
-        effects += over.effects
-        notes += over.notes
-    considered = len(value)
-    order = "part number"
-    key = np.zeros(considered)
+
+def _capacitors(store: Store, search: Search, effects: list[str], notes: list[str]) -> _Pool:
+    cols = queries.CAPACITOR_COLUMNS + (queries.BIAS_COLUMNS if search.bias is not None else ())
+    a = queries.candidate_columns(store, "capacitor", cols, **_filters(search))
+    a["tan_delta"] = np.nan_to_num(a["tan_delta"])
+    chosen = choose_models(store, a["id"], catalog_models("capacitor", a), search.model,
+                           only=search.model_only, value=a["value"], tan_delta=a["tan_delta"])
+    effects.append(chosen.summary())
+    catalog = chosen.source == "catalog"
+    if catalog.any():
+        effects.append("catalog: series R-L-C, ESR(f) = esr + tan_delta/(2 pi f C)")
+    ok = np.isfinite(a["value"]) & chosen.available & \
+        (~catalog | (np.isfinite(a["esr"]) & np.isfinite(a["esl"])))
+    pool = _Pool(a, chosen, chosen.models, ok)
+    if search.bias is not None:
+        ratio, pool.bias_src = bias_ratio_columns(
+            search.bias, a["value"], a["technology"], a["dielectric"], a["case"],
+            a["rated_voltage"], a["bias_v"], a["bias_ratio"])
+        src = pool.bias_src
+        effects.append(f"DC bias {search.bias:g} V: the part's catalog curve for "
+                       f"{int(((src == 1) | (src == 3)).sum())} parts (beyond its last point the "
+                       f"estimate where lower for {int((src == 3).sum())}), "
+                       f"rule-of-thumb estimate for {int((src == 2).sum())} class II parts "
+                       "(estimated)" + _bias_on_models(chosen, ratio))
+        pool.c_eff = a["value"] * ratio
+        pool.models = pool.models.with_capacitance_scale(ratio)
+        # a part rated below the working voltage is not a candidate at that voltage
+        over = a["rated_voltage"] < abs(search.bias)
+        if (over & ok).any():
+            notes.append(f"{_count(int((over & ok).sum()), 'capacitor')} rated below the "
+                         f"bias {search.bias:g} V left out")
+        pool.ok &= ~over
+    if search.mount_l:
+        pool.models = pool.models.with_series_inductance(search.mount_l)
+        effects.append(f"mounting inductance {search.mount_l * 1e9:g} nH added to each ESL")
+    return pool
+
+
+def _bias_on_models(chosen: Chosen, ratio: np.ndarray) -> str:
+    """How the bias loss reaches models that are not series R-L-C (said in the effects)."""
+    moved = ratio != 1.0
+    out = []
+    if (moved & (chosen.family == "netlist")).any():
+        out.append("applied to every C of a vendor netlist")
+    if (moved & (chosen.family == "measured")).any():
+        out.append("applied to a measured curve as the series R-L-C model's own change, "
+                   "the sweep taken as measured at 0 V")
+    return ("; " + "; ".join(out)) if out else ""
+
+
+def _inductors(store: Store, search: Search, effects: list[str], notes: list[str]) -> _Pool:
+    a = queries.candidate_columns(store, "inductor", queries.INDUCTOR_COLUMNS,
+                                  **_filters(search))
+    chosen = choose_models(store, a["id"], catalog_models("inductor", a), search.model,
+                           only=search.model_only)
+    effects.append(chosen.summary())
+    catalog = chosen.source == "catalog"
+    if catalog.any():
+        effects.append("catalog: (L + DCR) in parallel with C_p = 1/((2 pi SRF)^2 L) and Rp")
+    pool = _Pool(a, chosen, chosen.models, np.isfinite(a["value"]) & chosen.available)
+    pool.metrics["zero_phase_hz"] = pool.models.zero_phase()
+    if search.inductive_to is not None or search.band is not None:
+        # without an SRF the catalog model has no winding capacitance and would claim a rising
+        # |Z| and a positive phase at every frequency: such parts cannot be judged
+        unknown = catalog & ~np.isfinite(a["srf"])
+        if (unknown & pool.ok).any():
+            notes.append(f"{_count(int((unknown & pool.ok).sum()), 'inductor')} without an SRF "
+                         "left out: their self-resonance cannot be checked")
+        pool.ok &= ~unknown
+    return pool
+
+
+def _inductor_checks(search: Search, pool: _Pool, notes: list[str]) -> None:
+    a, m, ok = pool.cols, pool.metrics, pool.ok
+    catalog = pool.chosen.source == "catalog"
+    if search.inductive_to is not None:
+        ok &= search.inductive_to < m["zero_phase_hz"]
+        m["srf_margin"] = m["zero_phase_hz"] / search.inductive_to
+        m["srf_ratio"] = np.where(catalog, a["srf"], pool.models.srf()) / search.inductive_to
+        if search.srf_ratio > 1.0:
+            ok &= m["srf_ratio"] >= search.srf_ratio
+    if search.current is not None:
+        # peak of DC + triangular ripple against Isat; RMS of the same waveform,
+        # sqrt(I^2 + I_pp^2/12) (derived), against Irms
+        unrated = ~(np.isfinite(a["isat"]) & np.isfinite(a["irms"]))
+        if (unrated & ok).any():
+            notes.append(f"{_count(int((unrated & ok).sum()), 'inductor')} without Isat or "
+                         "Irms left out: the current cannot be checked")
+        ok &= ~unrated
+        ripple = search.ripple or 0.0
+        peak = search.current + ripple / 2.0
+        rms = np.sqrt(search.current**2 + ripple**2 / 12.0)
+        ok &= (a["isat"] >= peak) & (a["irms"] >= rms)
+        m["isat_margin"] = a["isat"] / peak
+        m["irms_margin"] = a["irms"] / rms
+    if search.min_q is not None:
+        q_min, f_q = search.min_q
+        lossless = catalog & ~(a["dcr"] > 0) & ~np.isfinite(a["rp"])
+        if (lossless & ok).any():
+            notes.append(f"{_count(int((lossless & ok).sum()), 'inductor')} without a DCR "
+                         "(or Rp) left out: their Q cannot be computed")
+        z = pool.models.impedance_each(np.full(len(ok), f_q))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            q = z.imag / z.real    # an inductor's Q: negative where it is capacitive
+        ok &= ~lossless & (q >= q_min)
+        m["q"] = q
+
+
+def _band(search: Search, pool: _Pool) -> BandExtrema:
+    """The band extrema every candidate needs: the maximum alone decides and ranks a "below"
+    search (the rest is computed for the rows shown)."""
+    assert search.band is not None
+    f1, f2 = search.band
+    if search.kind == "capacitor" and search.above is None:
+        max_z, f_max = pool.models.band_max(f1, f2)
+        return BandExtrema(max_z, f_max, np.full_like(max_z, np.nan), np.full_like(f_max, np.nan))
+    return pool.models.band(f1, f2)
+
+
+def _rank(search: Search, pool: _Pool) -> tuple[np.ndarray, str]:
+    m, ok = pool.metrics, pool.ok
+    n = len(ok)
     if search.band:
-        metrics.update(max_z_ohm=ext.max_z, f_max_hz=ext.f_max, min_z_ohm=ext.min_z,
-                       f_min_hz=ext.f_min)
+        ext = _band(search, pool)
+        m.update(max_z_ohm=ext.max_z, f_max_hz=ext.f_max, min_z_ohm=ext.min_z,
+                 f_min_hz=ext.f_min)
         # "at or below" with a relative slack of 1e-12: a part exactly at the limit is not lost
-        # to the last bit of floating-point rounding
+        # to the last bit of floating-point rounding; NaN (a model that does not cover the
+        # band) never passes
         if search.below is not None:
             ok &= ext.max_z <= search.below * (1 + REL_SLACK)
         if search.above is not None:
             ok &= ext.min_z >= search.above * (1 - REL_SLACK)
         if search.above is not None and search.below is None:
-            key, order = -ext.min_z, "highest band minimum |Z| first"
-        else:
-            key, order = ext.max_z, "lowest band maximum |Z| first"
-    elif search.kind == "inductor" and (search.inductive_to or search.current or search.min_q):
+            return -ext.min_z, "highest band minimum |Z| first"
+        return ext.max_z, "lowest band maximum |Z| first"
+    if search.kind == "inductor" and (search.inductive_to or search.current or search.min_q):
         # best margin first: the worst of the margins asked for, each normalised so that 1 is
         # "just passes" (zero-phase frequency over srf_ratio x target, Isat and Irms over the
         # need, Q over the minimum)
         margins, names = [], []
         if search.inductive_to is not None:
-            margins.append(metrics["srf_margin"] / search.srf_ratio)
+            margins.append(m["srf_margin"] / search.srf_ratio)
             names.append("zero-phase f / target")
         if search.current is not None:
-            margins += [metrics["isat_margin"], metrics["irms_margin"]]
+            margins += [m["isat_margin"], m["irms_margin"]]
             names += ["Isat", "Irms"]
         if search.min_q is not None:
             with np.errstate(divide="ignore", invalid="ignore"):
-                margins.append(metrics["q"] / search.min_q[0])
+                margins.append(m["q"] / search.min_q[0])
             names.append("Q")
-        key = -np.minimum.reduce(margins)
-        order = "best worst-case margin first (" + ", ".join(names) + ")"
+        return -np.minimum.reduce(margins), ("best worst-case margin first ("
+                                             + ", ".join(names) + ")")
+    return np.zeros(n), "part number"
+
+
+def _shown(search: Search, key: np.ndarray, ok: np.ndarray) -> tuple[np.ndarray, int]:
+    """Positions of the parts to show, best first (ties at the cut kept so that the part
+    number can break them), and how many pass."""
     ok &= np.isfinite(key)
     idx = np.flatnonzero(ok)
     matches = len(idx)
     idx = idx[np.argsort(key[idx], kind="stable")]
     if search.limit and matches > search.limit:
         cut = key[idx[search.limit - 1]]
-        idx = idx[key[idx] <= cut]  # keep ties at the cut so part number can break them
+        idx = idx[key[idx] <= cut]
+    return idx, matches
+
+
+def _shown_metrics(search: Search, pool: _Pool, idx: np.ndarray) -> None:
+    """Figures computed only for the rows shown: SRF, and the band minimum when the fast path
+    skipped it."""
+    n = len(pool.ok)
+    sub = pool.models.take(idx)
     if search.kind == "capacitor":
-        sub = idx
-        metrics["srf_hz"] = np.full(considered, np.nan)
-        metrics["srf_hz"][sub] = capacitor.srf(c_eff[sub], l_tot[sub])
-        if search.band and search.above is None and not _measured(search):
-            full = band_metrics.capacitor_band(*search.band, c_eff[sub], esr0[sub], l0[sub],
-                                               td[sub])
+        pool.metrics["srf_hz"] = np.full(n, np.nan)
+        pool.metrics["srf_hz"][idx] = sub.srf()
+        if search.band and search.above is None:
+            full = sub.band(*search.band)
             for name, arr in (("min_z_ohm", full.min_z), ("f_min_hz", full.f_min)):
-                metrics[name] = np.full(considered, np.nan)
-                metrics[name][sub] = arr
-    ids = a["id"][idx]
-    parts = store.parts_by_id(ids)
+                pool.metrics[name][idx] = arr
+
+
+def _curve_word(pool: _Pool, i: int, band: tuple[float, float] | None) -> str | None:
+    """For a part judged on a measured curve: whether the curve covers the band."""
+    if pool.chosen.source[i] != "measured":
+        return None
+    covered = band is None or bool(pool.chosen.covers(band)[i])
+    return "measured" if covered else "measured + model"
+
+
+def find(store: Store, search: Search) -> FindResult:
+    """Run a band search. See :class:`Search` for the criteria."""
+    search.validate()
+    effects: list[str] = []
+    notes: list[str] = []
+    if search.kind == "capacitor":
+        pool = _capacitors(store, search, effects, notes)
+    else:
+        pool = _inductors(store, search, effects, notes)
+        _inductor_checks(search, pool, notes)
+    if search.model == "measured" and search.kind == "inductor" and \
+            (search.inductive_to or search.min_q):
+        notes.append("--inductive-to and --min-q are checked on the chosen models (the "
+                     "measured curve where a part has one)")
+    key, order = _rank(search, pool)
+    idx, matches = _shown(search, key, pool.ok)
+    _shown_metrics(search, pool, idx)
+    parts = store.parts_by_id(pool.cols["id"][idx])
+    labels = pool.chosen.labels()
     rows = []
     for pos, part in zip(idx, parts, strict=True):
         row = {k: v for k, v in part.items() if k not in ("bias_v", "bias_ratio")}
         row["_rank"] = float(key[pos])
-        for name, arr in metrics.items():
+        for name, arr in pool.metrics.items():
             row[name] = float(arr[pos])
-        if search.kind == "capacitor" and search.bias is not None:
-            row["c_eff_f"] = float(c_eff[pos])
-            row["bias_source"] = BIAS_SOURCES[bias_src[pos]]
+        if pool.c_eff is not None and pool.bias_src is not None:
+            row["c_eff_f"] = float(pool.c_eff[pos])
+            row["bias_source"] = BIAS_SOURCES[pool.bias_src[pos]]
+        row["model_source"] = str(pool.chosen.source[pos])
+        row["model_family"] = str(pool.chosen.family[pos])
+        row["model"] = labels[pos]
+        row["model_origin"] = str(pool.chosen.origin[pos])
+        curve = _curve_word(pool, int(pos), search.band)
         if curve is not None:
-            row["curve"] = curve[pos]
+            row["curve"] = curve
         rows.append(row)
     rows.sort(key=lambda r: (r["_rank"], r["part_number"]))
     for r in rows:
         del r["_rank"]
     if search.limit:
         rows = rows[:search.limit]
-    return FindResult(rows, matches, considered, order, effects, notes)
+    if (~pool.chosen.available).any():
+        left = int((~pool.chosen.available).sum())
+        notes.append(f"{_count(left, search.kind)} without a {search.model} model left out")
+    return FindResult(rows, matches, len(pool.ok), order, effects, notes)

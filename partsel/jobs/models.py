@@ -1,7 +1,16 @@
-"""From stored part rows to engine parameters, with the optional layers applied.
+"""Which model each part uses, and the layers every job applies the same way.
 
-:class:`Models` holds the model parameters of many parts as arrays (SI units), so that a job
-can evaluate them all at once: ``Models.from_rows(rows).impedance(f)`` is a (parts x f) array.
+A part can have up to three models: its *catalog* model (the catalog columns as a ``rlc`` or
+``lcp`` family, or the fit of another family saved for it with ``partsel fit``), a *vendor*
+model (a maker's SPICE subcircuit or Touchstone data, ``partsel model import``) and a
+*measured* curve (its newest stored sweep, ``partsel sweep import``). :func:`choose_models`
+picks one per part by the user's choice (:data:`MODEL_CHOICES`): ``catalog``; ``vendor`` or
+``measured`` (that one where the part has it, the catalog model elsewhere); ``best`` (measured,
+else vendor, else catalog; the default). With ``only``, parts without the chosen kind of model
+are left out. A measured curve answers within its measured range and, unless ``only``, the
+part's other model answers outside it.
+
+The DC-bias policy (:func:`bias_ratio_columns`) is the one every job applies to capacitors.
 """
 
 from __future__ import annotations
@@ -14,6 +23,8 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from partsel.engine import capacitor, ceramic, inductor
+from partsel.engine.models import ModelSet, family
+from partsel.engine.models.modelset import Group
 
 
 def _col(rows: Sequence[dict[str, Any]], key: str, default: float = np.nan) -> NDArray:
@@ -136,3 +147,167 @@ def bias_ratios(rows: Sequence[dict[str, Any]], voltage: float) -> tuple[NDArray
                                        col("dielectric"), col("case"), rated, col("bias_v"),
                                        col("bias_ratio"))
     return ratio, [BIAS_SOURCES[s] for s in source]
+
+
+# -- the model of each part ------------------------------------------------------------------
+
+MODEL_CHOICES = ("catalog", "vendor", "measured", "best")
+PREFERENCE = {"catalog": ("catalog",), "vendor": ("vendor", "catalog"),
+              "measured": ("measured", "catalog"), "best": ("measured", "vendor", "catalog")}
+SOURCE_WORDS = {"catalog": "catalog", "fit": "catalog (saved fit)", "vendor": "vendor",
+                "measured": "measured"}
+
+
+def check_choice(choice: str) -> str:
+    from partsel.errors import QueryError
+    if choice not in MODEL_CHOICES:
+        raise QueryError(f"unknown model choice '{choice}': use one of {', '.join(MODEL_CHOICES)}")
+    return choice
+
+
+def catalog_models(kind: str, cols: dict[str, Any]) -> ModelSet:
+    """The catalog model of parts of one kind from their catalog columns (arrays in SI units,
+    NaN where unknown): ``rlc`` for capacitors (value, esr, esl, tan_delta; an unknown ESR, ESL
+    or tan delta counts as 0), ``lcp`` for inductors (value, dcr, srf, rp; C_p from the SRF, 0
+    without one; no Rp without one)."""
+    def col(name: str, default: float) -> NDArray:
+        v = np.asarray(cols[name], dtype=float) if name in cols else None
+        n = len(np.asarray(cols["value"]))
+        return np.full(n, default) if v is None else np.where(np.isnan(v), default, v)
+
+    value = np.asarray(cols["value"], dtype=float)
+    if kind == "capacitor":
+        fam = family("rlc")
+        return ModelSet.of(fam, fam.make(value=value, esr=col("esr", 0.0), esl=col("esl", 0.0),
+                                         tan_delta=col("tan_delta", 0.0)))
+    fam = family("lcp")
+    return ModelSet.of(fam, fam.make(value=value, dcr=col("dcr", 0.0),
+                                     cp=inductor.winding_capacitance(value, col("srf", np.nan)),
+                                     rp=col("rp", np.inf)))
+
+
+def row_columns(rows: Sequence[dict[str, Any]]) -> dict[str, NDArray]:
+    """Stored rows (dicts) as the columns :func:`catalog_models` reads."""
+    return {k: _col(rows, k) for k in ("id", "value", "esr", "esl", "tan_delta", "dcr", "srf",
+                                       "rp")}
+
+
+@dataclass(frozen=True)
+class Chosen:
+    """The model each part uses: the set, and per part its source ("catalog", "fit",
+    "vendor", "measured"), its family and where it came from (file, subcircuit, date)."""
+
+    models: ModelSet
+    source: NDArray[np.object_]
+    origin: NDArray[np.object_]
+    available: NDArray[np.bool_]     # False: left out because the chosen model is missing
+    measured_lo: NDArray[np.float64]   # the measured range of a measured curve [Hz], else NaN
+    measured_hi: NDArray[np.float64]
+
+    def covers(self, band: tuple[float, float]) -> NDArray[np.bool_]:
+        """Per part: its measured curve covers the band (False for other models)."""
+        return (self.measured_lo <= band[0]) & (band[1] <= self.measured_hi)
+
+    @property
+    def family(self) -> NDArray[np.object_]:
+        return self.models.family_names()
+
+    def labels(self) -> list[str]:
+        """Per part, e.g. "vendor netlist", "catalog rlc" or "measured curve"."""
+        return [f"{SOURCE_WORDS[s]} {'curve' if f == 'measured' else f}"
+                for s, f in zip(self.source, self.family, strict=True)]
+
+    def summary(self) -> str:
+        """One line for the effects of a result: how many parts use which model."""
+        counts: dict[str, int] = {}
+        for lab, ok in zip(self.labels(), self.available, strict=True):
+            if ok:
+                counts[lab] = counts.get(lab, 0) + 1
+        return "models: " + ", ".join(f"{lab} for {n} part{'s' if n != 1 else ''}"
+                                      for lab, n in sorted(counts.items(), key=lambda x: -x[1]))
+
+    def take(self, idx: NDArray[np.intp]) -> Chosen:
+        return Chosen(self.models.take(idx), self.source[idx], self.origin[idx],
+                      self.available[idx], self.measured_lo[idx], self.measured_hi[idx])
+
+
+def _replace(models: ModelSet, positions: NDArray[np.intp], fam_name: str,
+             batch: Any) -> ModelSet:
+    """``models`` with the parts at ``positions`` replaced by the parts of ``batch``."""
+    if not len(positions):
+        return models
+    keep = np.setdiff1d(np.arange(len(models)), positions)
+    kept = models.take(keep)
+    groups = [Group(g.family, keep[g.index], g.batch) for g in kept.groups]
+    groups.append(Group(family(fam_name), positions, batch))
+    return ModelSet.merge(len(models), groups)
+
+
+def choose_models(store: Any, ids: NDArray, base: ModelSet, choice: str = "best", *,
+                  only: bool = False, value: NDArray | None = None,
+                  tan_delta: NDArray | None = None) -> Chosen:
+    """The model of each part (module notes). ``ids`` are the parts' store ids in the order of
+    ``base``, their catalog models; ``value`` and ``tan_delta`` (catalog C and loss) let a
+    measured curve take a capacitance change the way the catalog model would."""
+    from partsel.store.models import stored_models
+
+    check_choice(choice)
+    ids = np.asarray(ids, dtype=np.int64)
+    n = len(ids)
+    source = np.full(n, "catalog", dtype=object)
+    origin = np.full(n, "catalog columns", dtype=object)
+    models = base
+    pref = PREFERENCE[choice]
+    where = {int(i): k for k, i in enumerate(ids)}
+    stored = stored_models(store, ids=ids) if n else []
+    for rank in ("fit", "vendor"):
+        if rank == "vendor" and "vendor" not in pref:
+            continue
+        for grp in stored:
+            if grp.source != rank:
+                continue
+            pos = np.array([where[int(i)] for i in grp.part_id], dtype=np.intp)
+            fam = family(grp.family)
+            batch = fam.unpack(grp.ints, grp.int_offsets, grp.reals, grp.real_offsets)
+            models = _replace(models, pos, grp.family, batch)
+            source[pos] = rank
+            for k, p in enumerate(pos):
+                origin[p] = _origin(grp.source_file[k], grp.subckt[k], grp.imported_at[k])
+    lo, hi = np.full(n, np.nan), np.full(n, np.nan)
+    if "measured" in pref:
+        models = _with_curves(store, ids, models, source, origin, (lo, hi), only, value,
+                              tan_delta)
+    # with only, a part needs a model of the kind chosen (best: a vendor or measured one)
+    available = np.isin(source, ["vendor", "measured"]) if only and choice != "catalog" \
+        else np.ones(n, dtype=bool)
+    return Chosen(models, source, origin, available, lo, hi)
+
+
+def _origin(source_file: str | None, subckt: str | None, at: Any) -> str:
+    parts = [x for x in (source_file, f"subcircuit {subckt}" if subckt else None) if x]
+    when = f"{at:%Y-%m-%d}" if hasattr(at, "strftime") else None
+    return ", ".join(parts + ([f"imported {when}"] if when else [])) or "stored model"
+
+
+def _with_curves(store: Any, ids: NDArray, models: ModelSet, source: NDArray, origin: NDArray,
+                 span: tuple[NDArray, NDArray], only: bool, value: NDArray | None,
+                 tan_delta: NDArray | None) -> ModelSet:
+    """Put each part's newest stored sweep in place of its model (the model as fallback)."""
+    from partsel.jobs.measured import latest_sweeps_by_id
+
+    sweeps = latest_sweeps_by_id(store)
+    pos = np.array([k for k, i in enumerate(ids) if int(i) in sweeps], dtype=np.intp)
+    if not len(pos):
+        return models
+    fam = family("measured")
+    curves = [sweeps[int(ids[k])] for k in pos]
+    fallback = [None if only else models.take(np.array([k])) for k in pos]
+    batch = fam.from_curves([c.f for c in curves], [c.z for c in curves],
+                            value=None if value is None else np.asarray(value)[pos],
+                            tan_delta=None if tan_delta is None else np.asarray(tan_delta)[pos],
+                            fallback=fallback)
+    source[pos] = "measured"
+    for k, c in zip(pos, curves, strict=True):
+        origin[k] = _origin(c.source_file or "a sweep", None, c.imported_at)
+        span[0][k], span[1][k] = c.band
+    return _replace(models, pos, "measured", batch)

@@ -59,7 +59,7 @@ def admittance(f: ArrayLike, value: ArrayLike, dcr: ArrayLike, cp: ArrayLike,
 def impedance(f: ArrayLike, value: ArrayLike, dcr: ArrayLike, cp: ArrayLike,
               rp: ArrayLike = np.inf) -> NDArray[np.complex128]:
     """Complex impedance Z(f) [ohm] (inf where a lossless part sits exactly at its SRF)."""
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         return 1.0 / admittance(f, value, dcr, cp, rp)
 
 
