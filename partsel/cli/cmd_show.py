@@ -25,6 +25,7 @@ def show_cmd(
     ctx: typer.Context,
     part: str = typer.Argument(..., metavar="PART", help="Part number."),
     maker: str = typer.Option(None, "--maker", help="Maker, when several share the number."),
+    model: str = opt.model_option(),
     fmt: str = opt.format_option(),
 ) -> None:
     """Show one part: catalog data, model with provenance, SRF, Q and |Z| at a few frequencies.
@@ -36,13 +37,13 @@ def show_cmd(
 
     fmt = opt.check_format(fmt)
     with open_store_for(ctx) as store:
-        rep = report(store, part, maker)
+        rep = report(store, part, maker, model=model)
     p = rep.part
     if fmt == "json":
         echo(to_json({"part": {k: v for k, v in p.items() if k not in ("bias_v", "bias_ratio")},
                       "model": {k: {"value": v, "source": s} for k, (v, s) in rep.model.items()},
                       "derived": rep.derived, "points": rep.points, "cautions": rep.cautions,
-                      "sweeps": rep.sweeps}))
+                      "sweeps": rep.sweeps, "model_used": rep.used}))
         return
     if fmt == "csv":
         echo(opt.emit(rep.points, [], "csv"))
@@ -58,7 +59,8 @@ def show_cmd(
     for k, (v, src) in rep.model.items():
         unit = vunit if k == "value" else _UNITS[k]
         lines.append(f"  {k:<15} {cell(v, Col(k, k, unit)):<14} {src or ''}")
-    lines += ["", "Derived:"]
+    lines += ["", f"Figures below from: {rep.used['label']} ({rep.used['origin']})", "",
+              "Derived:"]
     names = {"srf_hz": ("SRF", "Hz"), "resonance_q": ("Q at resonance", ""),
              "min_z_ohm": ("min |Z| (at SRF)", "ohm"), "zero_phase_hz": ("zero-phase f", "Hz"),
              "peak_hz": ("|Z| peak at", "Hz"), "peak_z_ohm": ("peak |Z|", "ohm")}
@@ -94,12 +96,11 @@ def curve_cmd(
     plot: Path = typer.Option(None, "--plot", metavar="FILE.png",
                               help="Also write a plot of |Z| and phase (.png, .svg or .pdf)."),
     maker: str = typer.Option(None, "--maker", help="Maker, when several share a number."),
-    measured: bool = typer.Option(False, "--measured",
-                                  help="Use each part's stored measured curve where it has one "
-                                       "(the model outside its range)."),
+    model: str = opt.model_option(),
+    model_only: bool = opt.model_only_option(),
+    measured: bool = typer.Option(False, "--measured", help="Same as --model measured."),
     measured_only: bool = typer.Option(False, "--measured-only",
-                                       help="Measured curves only: refuse parts or bands "
-                                            "the measurements do not cover."),
+                                       help="Same as --model measured --model-only."),
     fmt: str = opt.format_option(),
 ) -> None:
     """Print |Z| and phase of parts on a log grid, and optionally plot them.
@@ -120,12 +121,14 @@ def curve_cmd(
     with open_store_for(ctx) as store:
         res = curves(store, list(parts), rng, per_decade, bias=opt.quantity(bias, "V", "--bias"),
                      mount_l=opt.quantity(mount_l, "H", "--mount-l"), maker=maker,
-                     measured=measured, measured_only=measured_only)
+                     model=model, model_only=model_only, measured=measured,
+                     measured_only=measured_only)
         if plot is not None:
             dense = curves(store, list(parts), (res.f[0], res.f[-1]), 200,
                            bias=opt.quantity(bias, "V", "--bias"),
                            mount_l=opt.quantity(mount_l, "H", "--mount-l"), maker=maker,
-                           measured=measured, measured_only=measured_only)
+                           model=model, model_only=model_only, measured=measured,
+                           measured_only=measured_only)
     rows = []
     for j, f in enumerate(res.f):
         row = {"f_hz": float(f)}

@@ -192,6 +192,26 @@ def row_columns(rows: Sequence[dict[str, Any]]) -> dict[str, NDArray]:
                                        "rp")}
 
 
+def catalog_models_of_rows(rows: Sequence[dict[str, Any]]) -> ModelSet:
+    """The catalog models of stored rows of either kind, in row order."""
+    groups = []
+    for kind in ("capacitor", "inductor"):
+        pos = np.array([i for i, r in enumerate(rows) if r.get("kind") == kind], dtype=np.intp)
+        if len(pos):
+            part = catalog_models(kind, row_columns([rows[i] for i in pos]))
+            groups += [Group(g.family, pos[g.index], g.batch) for g in part.groups]
+    return ModelSet.merge(len(rows), groups)
+
+
+def choose_for_rows(store: Any, rows: Sequence[dict[str, Any]], choice: str = "best", *,
+                    only: bool = False) -> Chosen:
+    """:func:`choose_models` for stored rows of either kind."""
+    cols = row_columns(rows)
+    return choose_models(store, cols["id"].astype(np.int64), catalog_models_of_rows(rows),
+                         choice, only=only, value=cols["value"],
+                         tan_delta=np.nan_to_num(cols["tan_delta"]))
+
+
 @dataclass(frozen=True)
 class Chosen:
     """The model each part uses: the set, and per part its source ("catalog", "fit",

@@ -1,4 +1,5 @@
-"""One part in full (show) and impedance curves of several parts (curve)."""
+"""One part in full (show) and impedance curves of several parts (curve), each part with the
+model :func:`partsel.jobs.models.choose_models` picks for it."""
 
 from __future__ import annotations
 
@@ -8,22 +9,20 @@ from typing import Any
 import numpy as np
 
 from partsel.catalog import MODEL_PARAMETERS
-from partsel.engine import capacitor, inductor
+from partsel.engine.models import ModelSet
+from partsel.engine.models.rlc import series_resistance
+from partsel.engine.pdn import log_grid
 from partsel.errors import QueryError
-from partsel.jobs.models import Models, bias_ratios
+from partsel.jobs.models import Chosen, bias_ratios, choose_for_rows
 from partsel.store.db import Store
 
-
-def log_grid(f1: float, f2: float, per_decade: int) -> np.ndarray:
-    """Log-spaced frequencies from f1 to f2 inclusive, ``per_decade`` points per decade."""
-    n = max(2, int(np.ceil(np.log10(f2 / f1) * per_decade)) + 1)
-    return np.geomspace(f1, f2, n)
+__all__ = ["Curves", "PartReport", "curves", "default_band", "log_grid", "report"]
 
 
-def default_band(models: Models) -> tuple[float, float]:
+def default_band(models: ModelSet) -> tuple[float, float]:
     """Two decades either side of the (lowest/highest) SRF, clipped to 10 Hz..100 GHz."""
     srf = models.srf()
-    srf = srf[np.isfinite(srf)]
+    srf = srf[np.isfinite(srf) & (srf > 0)]
     if srf.size == 0:
         return 1e3, 1e9
     lo = float(np.clip(srf.min() / 100.0, 10.0, 1e10))
@@ -39,36 +38,40 @@ class PartReport:
     points: list[dict[str, float]]                        # |Z| at a few frequencies
     cautions: list[str] = field(default_factory=list)
     sweeps: int = 0
+    used: dict[str, str] = field(default_factory=dict)    # the model the figures come from
 
 
-def report(store: Store, part_number: str, maker: str | None = None) -> PartReport:
-    """A part, its model with provenance, derived figures and |Z| at a few decades."""
-    part = store.find_part(part_number, maker)
-    m = Models.from_rows([part])
-    model = {p: (part.get(p), part.get(f"{p}_source")) for p in MODEL_PARAMETERS
-             if part.get(p) is not None}
+def _derived(part: dict[str, Any], chosen: Chosen) -> dict[str, float]:
+    m = chosen.models
     derived: dict[str, float] = {}
     srf = float(m.srf()[0])
+    lo, hi = default_band(m)
+    catalog_rlc = chosen.source[0] == "catalog" and chosen.family[0] == "rlc"
     if part["kind"] == "capacitor":
         derived["srf_hz"] = srf
-        if part.get("esr") is not None and np.isfinite(srf):
+        if catalog_rlc and part.get("esr") is not None and np.isfinite(srf):
             # sqrt(L/C) over the whole series resistance at the SRF (ESR + tan_delta/(w C))
-            r_srf = capacitor.series_resistance(srf, m.value, m.esr, m.tan_delta)
-            derived["resonance_q"] = float((np.sqrt(m.esl / m.value) / r_srf)[0])
-        derived["min_z_ohm"] = float(np.abs(m.impedance(
-            capacitor.min_impedance_frequency(m.value, m.esr, m.esl, m.tan_delta)))[0, 0]) \
-            if np.isfinite(srf) else float("nan")
-    else:
-        if part.get("srf"):
-            derived["zero_phase_hz"] = float(inductor.zero_phase_frequency(m.value, m.dcr, m.cp)[0])
-            fp = inductor.peak_frequency(m.value, m.dcr, m.cp, m.rp)
-            derived["peak_hz"] = float(fp[0])
-            derived["peak_z_ohm"] = float(np.abs(m.impedance(fp))[0, 0])
+            b = m.groups[0].batch
+            r_srf = series_resistance(srf, b["value"], b["esr"], b["tan_delta"])
+            derived["resonance_q"] = float((np.sqrt(b["esl"] / b["value"]) / r_srf)[0])
+        derived["min_z_ohm"] = float(m.band(lo, hi).min_z[0]) if np.isfinite(srf) \
+            else float("nan")
+    elif part.get("srf") or chosen.source[0] != "catalog":
+        derived["zero_phase_hz"] = float(m.zero_phase()[0])
+        ext = m.band(lo, hi)
+        derived["peak_hz"] = float(ext.f_max[0])
+        derived["peak_z_ohm"] = float(ext.max_z[0])
+    return derived
+
+
+def _points(part: dict[str, Any], m: ModelSet) -> list[dict[str, float]]:
     lo, hi = default_band(m)
     decades = 10.0 ** np.arange(np.ceil(np.log10(lo)), np.floor(np.log10(hi)) + 1)
     z = m.impedance(decades)[0]
     points = []
     for f, zz in zip(decades, z, strict=True):
+        if not np.isfinite(zz):
+            continue
         pt = {"f_hz": float(f), "z_ohm": float(abs(zz)),
               "phase_deg": float(np.degrees(np.angle(zz))), "esr_ohm": float(zz.real),
               "q": float(abs(zz.imag) / zz.real) if zz.real > 0 else float("inf")}
@@ -80,15 +83,28 @@ def report(store: Store, part_number: str, maker: str | None = None) -> PartRepo
         else:
             pt["l_eff_h"] = float(zz.imag / w) if zz.imag > 0 else float("nan")
         points.append(pt)
+    return points
+
+
+def report(store: Store, part_number: str, maker: str | None = None,
+           model: str = "best") -> PartReport:
+    """A part, its catalog model with provenance, the model its figures come from (``model``:
+    see :func:`partsel.jobs.models.choose_models`), derived figures and |Z| at a few decades."""
+    part = store.find_part(part_number, maker)
+    chosen = choose_for_rows(store, [part], model)
+    params = {p: (part.get(p), part.get(f"{p}_source")) for p in MODEL_PARAMETERS
+              if part.get(p) is not None}
     cautions = []
-    if part["kind"] == "inductor" and not part.get("srf"):
+    if part["kind"] == "inductor" and not part.get("srf") and chosen.source[0] == "catalog":
         cautions.append(NO_SRF)
     from partsel.standards import safety
     if safety.needs_caution(part.get("safety_class"), part.get("rated_voltage")):
         cautions.append(safety.caution_text())
-    sweeps = store.con.execute("SELECT count(*) FROM sweeps WHERE maker = ? AND part_number = ?",
-                               [part["maker"], part["part_number"]]).fetchone()[0]
-    return PartReport(part, model, derived, points, cautions, sweeps)
+    from partsel.store.models import sweep_count
+    used = {"source": str(chosen.source[0]), "family": str(chosen.family[0]),
+            "origin": str(chosen.origin[0]), "label": chosen.labels()[0]}
+    return PartReport(part, params, _derived(part, chosen), _points(part, chosen.models),
+                      cautions, sweep_count(store, part["maker"], part["part_number"]), used)
 
 
 NO_SRF = ("no SRF in the catalog: the model has no winding capacitance, so |Z| keeps rising and "
@@ -103,34 +119,79 @@ class Curves:
     effects: list[str]
 
 
+def _measured_band(chosen: Chosen, only: bool) -> tuple[float, float] | None:
+    """The band the parts' measured curves cover: their union, or with ``only`` their common
+    part."""
+    has = chosen.source == "measured"
+    if not has.any():
+        return None
+    lo, hi = chosen.measured_lo[has], chosen.measured_hi[has]
+    if only:
+        a, b = float(lo.max()), float(hi.min())
+        if a >= b:
+            raise QueryError("the parts' measured sweeps share no frequency range; plot them "
+                             "with measured curves where they have data, or one at a time")
+        return a, b
+    return float(lo.min()), float(hi.max())
+
+
+def _span(lo: float, hi: float) -> str:
+    from partsel.units import format_quantity
+    return f"{format_quantity(lo, 'Hz')} to {format_quantity(hi, 'Hz')}"
+
+
+def _model_effects(rows: list[dict[str, Any]], chosen: Chosen, band: tuple[float, float],
+                   only: bool) -> list[str]:
+    """Per part, the model it uses when it is not the catalog's; with ``only``, refuse a part
+    whose chosen model is missing or does not cover the band."""
+    out = []
+    for i, r in enumerate(rows):
+        pn, src = r["part_number"], chosen.source[i]
+        if only and src not in ("vendor", "measured"):
+            raise QueryError(f"{pn} has no stored measured sweep or vendor model; leave out "
+                             "the only-measured choice to use its catalog model")
+        if src == "measured":
+            rng = _span(chosen.measured_lo[i], chosen.measured_hi[i])
+            covered = bool(chosen.covers(band)[i])
+            if only and not covered:
+                raise QueryError(f"{pn} was measured from {rng} only; narrow the band to that "
+                                 "range or let the model fill the rest")
+            where = "" if covered else f", model outside {rng}"
+            out.append(f"{pn}: measured curve of {chosen.origin[i].split(',')[0]} ({rng}{where})")
+        elif src != "catalog":
+            out.append(f"{pn}: {chosen.labels()[i]} ({chosen.origin[i]})")
+    return out
+
+
 def curves(store: Store, part_numbers: list[str], band: tuple[float, float] | None = None,
            per_decade: int = 10, *, bias: float | None = None, mount_l: float | None = None,
-           maker: str | None = None, measured: bool = False,
-           measured_only: bool = False) -> Curves:
-    """|Z| of several parts on one log grid, with optional bias and mounting layers.
+           maker: str | None = None, model: str = "best", model_only: bool = False,
+           measured: bool = False, measured_only: bool = False) -> Curves:
+    """|Z| of several parts on one log grid, each with its chosen model (``model``, see
+    :func:`partsel.jobs.models.choose_models`) and the optional bias and mounting layers.
 
-    ``measured`` puts each part's stored measured curve in place of its model within the
-    measured range (the model outside it); ``measured_only`` refuses parts or bands the
-    measurements do not cover. Without a band, a measured curve's range sets it.
+    ``model_only`` refuses parts without the chosen kind of model, or whose measured curve
+    does not cover the band. ``measured`` / ``measured_only`` are the old spellings of
+    ``model="measured"`` (with ``model_only``). Without a band, the measured curves' range sets
+    it when any is used, else two decades around the parts' resonances.
     """
+    if measured or measured_only:
+        model, model_only = "measured", model_only or measured_only
     rows = [store.find_part(pn, maker) for pn in part_numbers]
-    m = Models.from_rows(rows)
-    effects = ["stored models (catalog values, or a measured fit where one was saved)"]
+    chosen = choose_for_rows(store, rows, model, only=model_only)
+    m = chosen.models
+    effects = [chosen.summary()]
     from partsel.standards import safety
-    for r in rows:
-        if r["kind"] == "inductor" and not r.get("srf"):
+    for r, src in zip(rows, chosen.source, strict=True):
+        if r["kind"] == "inductor" and not r.get("srf") and src == "catalog":
             effects.append(f"caution, {r['part_number']}: {NO_SRF}")
         if safety.needs_caution(r.get("safety_class"), r.get("rated_voltage")):
             effects.append(f"{r['part_number']}: {safety.caution_text()}")
-    if (measured or measured_only) and bias is not None:
-        raise QueryError("--bias cannot be applied to a measured curve (it was measured at its "
-                         "own bias): leave out --measured or --bias")
-    if (measured or measured_only) and band is None:
-        from partsel.jobs.measured import measured_span
-        band = measured_span(store, rows, only=measured_only)
+    if band is None:
+        band = _measured_band(chosen, model_only)
     if bias is not None:
         ratio, src = bias_ratios(rows, bias)
-        m = m.with_value(m.value * ratio)
+        m = m.with_capacitance_scale(ratio)
         for r in rows:
             rated = r.get("rated_voltage")
             if r["kind"] == "capacitor" and rated is not None and abs(bias) > rated:
@@ -140,13 +201,10 @@ def curves(store: Store, part_numbers: list[str], band: tuple[float, float] | No
             f"{r['part_number']}: {s}" for r, s in zip(rows, src, strict=True) if s != "none")
             + ")")
     if mount_l:
-        m = m.with_mounting(mount_l)
+        is_cap = np.array([r["kind"] == "capacitor" for r in rows])
+        m = m.with_series_inductance(np.where(is_cap, mount_l, 0.0))
         effects.append(f"mounting inductance {mount_l * 1e9:g} nH")
     f1, f2 = band or default_band(m)
+    effects += _model_effects(rows, chosen, (f1, f2), model_only)
     f = log_grid(f1, f2, per_decade)
-    z = m.impedance(f)
-    if measured or measured_only:
-        from partsel.jobs.measured import overlay_curves
-        z, used = overlay_curves(store, rows, f, z, only=measured_only, mount_l=mount_l or 0.0)
-        effects += used
-    return Curves(f, [r["part_number"] for r in rows], z, effects)
+    return Curves(f, [r["part_number"] for r in rows], m.impedance(f), effects)
