@@ -27,7 +27,8 @@ JSON_KEYS = {
     "srf_grade": "srf_grade", "l_eff_h": "l_eff_h", "l_change": "l_change",
     "q_at_target": "q_at_target", "isat": "isat_a", "isat_drop": "isat_drop",
     "irms": "irms_a", "i_peak_a": "i_peak_a", "i_rms_a": "i_rms_a",
-    "isat_margin": "isat_margin", "irms_margin": "irms_margin",
+    "isat_margin": "isat_margin", "irms_margin": "irms_margin", "model": "model",
+    "model_source": "model_source", "model_family": "model_family",
 }
 
 
@@ -69,6 +70,7 @@ def inductive_cmd(
         "--plot", metavar="FILE.png",
         help="Also draw |Z|, phase and each part's inductive range.")] = None,
     maker: str = typer.Option(None, "--maker", help="Maker, when several share a number."),
+    model: str = opt.model_option(),
     fmt: str = opt.format_option(),
 ) -> None:
     """Check inductors: inductive up to a target frequency, SRF margin, L and Q there, currents.
@@ -93,9 +95,11 @@ def inductive_cmd(
     if plot is not None:
         plot_path(plot)
     with open_store_for(ctx) as store:
-        result = check(store, parts, spec, maker)
+        result = check(store, parts, spec, maker, model=model)
     if fmt == "table":
         cols = COLS[:-1] + (CURRENT_COLS if spec.current is not None else []) + COLS[-1:]
+        if any(r.get("model_source") != "catalog" for r in result.rows):
+            cols = cols[:-1] + [Col("model", "model")] + cols[-1:]
         lines = [opt.emit(result.rows, cols, fmt), ""]
         for r in result.rows:
             lines.append(f"{r['part_number']}: {r['verdict']}")

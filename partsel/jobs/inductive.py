@@ -37,9 +37,10 @@ from typing import Any
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from partsel.engine import inductor
+from partsel.engine.models import ModelSet, family
+from partsel.engine.models.lcp import winding_capacitance
 from partsel.errors import PartselError, QueryError
-from partsel.jobs.models import Models
+from partsel.jobs.models import Chosen, catalog_models_of_rows, choose_for_rows
 from partsel.store.db import Store
 from partsel.units import format_quantity
 
@@ -173,13 +174,30 @@ def evaluate(spec: Spec, value: ArrayLike, dcr: ArrayLike, srf: ArrayLike,
     lval, r_s, f_srf, r_p = np.broadcast_arrays(_arr(value), _arr(dcr), _arr(srf), _arr(rp))
     if np.any(~(lval > 0)):
         raise QueryError("every inductor needs a positive inductance (value) in the catalog")
-    n = lval.shape[0]
-    t = spec.target
     has_srf = np.isfinite(f_srf) & (f_srf > 0)
     has_dcr = np.isfinite(r_s)
-    r0 = np.where(has_dcr, r_s, 0.0)
-    cp = inductor.winding_capacitance(lval, np.where(has_srf, f_srf, np.nan))
-    f0 = np.where(has_srf, inductor.zero_phase_frequency(lval, r0, cp), np.nan)
+    lcp = family("lcp")
+    models = ModelSet.of(lcp, lcp.make(
+        value=lval, dcr=np.where(has_dcr, r_s, 0.0),
+        cp=winding_capacitance(lval, np.where(has_srf, f_srf, np.nan)), rp=r_p))
+    return evaluate_models(spec, models, np.where(has_srf, f_srf, np.nan), has_dcr, isat, irms)
+
+
+def evaluate_models(spec: Spec, models: ModelSet, srf: ArrayLike, lossy: ArrayLike,
+                    isat: ArrayLike = np.nan, irms: ArrayLike = np.nan) -> Metrics:
+    """Check P parts given as models of any family (see :func:`evaluate` for the figures).
+
+    ``srf`` is the SRF the grades use (the catalog's for a catalog model, the model's own
+    otherwise; NaN where unknown: the model then cannot show its self-resonance), ``lossy``
+    whether the model holds the part's loss (Q is NaN otherwise).
+    """
+    spec.validate()
+    n = len(models)
+    t = spec.target
+    lval = models.value()
+    f_srf = np.asarray(srf, dtype=float)
+    has_srf = np.isfinite(f_srf) & (f_srf > 0)
+    f0 = np.where(has_srf, models.zero_phase(), np.nan)
     ratio = np.where(has_srf, f_srf / t, np.nan)
 
     inductive = f0 > t
@@ -191,8 +209,8 @@ def evaluate(spec: Spec, value: ArrayLike, dcr: ArrayLike, srf: ArrayLike,
 
     # a lossless part evaluated exactly at its SRF has Y = 0: Z is infinite there, not an error
     with np.errstate(all="ignore"):
-        z = inductor.impedance(t, lval, r0, cp, r_p)
-        q = np.where(has_dcr, z.imag / z.real, np.nan)
+        z = models.impedance_each(np.full(n, t))
+        q = np.where(np.asarray(lossy, dtype=bool), z.imag / z.real, np.nan)
     # past the zero-phase frequency the part is a capacitor: no Q or L of an inductor there
     q = np.where(has_srf & ~inductive, np.nan, q)
     l_eff = np.where(has_srf & inductive, z.imag / (2.0 * np.pi * t), np.nan)
@@ -224,7 +242,7 @@ class CheckResult:
 
     spec: Spec
     rows: list[dict[str, Any]]
-    models: Models
+    models: ModelSet
     effects: list[str] = field(default_factory=list)
 
     @property
@@ -307,8 +325,11 @@ def _current_reason(name: str, rating: float | None, need: float | None, need_te
                    f"margin {margin:.2f}{why}{tail}")
 
 
-def check_rows(parts: Sequence[dict[str, Any]], spec: Spec) -> CheckResult:
-    """Check part rows (dicts of catalog columns in SI units, as the store returns them).
+def check_rows(parts: Sequence[dict[str, Any]], spec: Spec,
+               chosen: Chosen | None = None) -> CheckResult:
+    """Check part rows (dicts of catalog columns in SI units, as the store returns them) on
+    their catalog models, or on the models ``chosen`` for them
+    (:func:`partsel.jobs.models.choose_for_rows`).
 
     Raises QueryError when a row is not an inductor.
     """
@@ -327,8 +348,16 @@ def check_rows(parts: Sequence[dict[str, Any]], spec: Spec) -> CheckResult:
     def col(key: str, default: float = np.nan) -> NDArray[np.float64]:
         return np.array([default if p.get(key) is None else float(p[key]) for p in parts])
 
-    m = evaluate(spec, col("value"), col("dcr"), col("srf"), col("rp", np.inf), col("isat"),
-                 col("irms"))
+    if chosen is None:
+        models, catalog = catalog_models_of_rows(parts), np.ones(len(parts), dtype=bool)
+        source = np.full(len(parts), "catalog", dtype=object)
+        labels = ["catalog lcp"] * len(parts)
+    else:
+        models, source, labels = chosen.models, chosen.source, chosen.labels()
+        catalog = source == "catalog"
+    srf = np.where(catalog, col("srf"), models.srf())
+    lossy = ~catalog | np.isfinite(col("dcr"))
+    m = evaluate_models(spec, models, srf, lossy, col("isat"), col("irms"))
     verdict = m.verdict
     rows = []
     for i, p in enumerate(parts):
@@ -343,23 +372,31 @@ def check_rows(parts: Sequence[dict[str, Any]], spec: Spec) -> CheckResult:
             "isat": p.get("isat"), "isat_drop": p.get("isat_drop"), "irms": p.get("irms"),
             "i_peak_a": spec.i_peak, "i_rms_a": spec.i_rms,
             "isat_margin": float(m.isat_margin[i]), "irms_margin": float(m.irms_margin[i]),
+            "model": labels[i], "model_source": str(source[i]),
+            "model_family": models.family_names()[i],
         })
-    effects = ["inductor model: (L + DCR) in parallel with Cp = 1/((2 pi SRF)^2 L) and Rp "
-               "where given"]
+    effects = [chosen.summary()] if chosen is not None else []
+    if catalog.any():
+        effects.append("inductor model: (L + DCR) in parallel with Cp = 1/((2 pi SRF)^2 L) and "
+                       "Rp where given")
     if spec.current is not None:
         effects.append("currents: Isat against I_dc + I_pp/2; Irms against "
                        "sqrt(I_dc^2 + I_pp^2/12) (DC plus triangular ripple)")
-    return CheckResult(spec, rows, Models.from_rows(parts), effects)
+    return CheckResult(spec, rows, models, effects)
 
 
 def check(store: Store, part_numbers: Sequence[str], spec: Spec,
-          maker: str | None = None) -> CheckResult:
-    """Check stored parts by part number (see :func:`check_rows`).
+          maker: str | None = None, model: str = "best") -> CheckResult:
+    """Check stored parts by part number (see :func:`check_rows`), each on the model chosen
+    for it (``model``: see :func:`partsel.jobs.models.choose_models`).
 
     Raises PartNotFound for an unknown number and QueryError for a part that is not an inductor.
     """
     spec.validate()
-    return check_rows([store.find_part(pn, maker) for pn in part_numbers], spec)
+    rows = [store.find_part(pn, maker) for pn in part_numbers]
+    kinds = {r.get("kind") for r in rows}
+    return check_rows(rows, spec, choose_for_rows(store, rows, model)
+                      if kinds == {"inductor"} else None)
 
 
 def plot_band(result: CheckResult) -> tuple[float, float]:
@@ -380,20 +417,18 @@ def plot_path(path: str | Path) -> Path:
     return p
 
 
-def _plot_grid(m: Models, f1: float, f2: float, per_decade: int) -> NDArray[np.float64]:
-    """A log grid plus dense points across each |Z| peak, so that sharp resonances are drawn
-    at their true height: the peak's relative width is about 1/Q_r with
-    Q_r = |Z_peak| / sqrt(L/C_p) (derived, parallel resonance)."""
+def _plot_grid(m: ModelSet, f1: float, f2: float, per_decade: int) -> NDArray[np.float64]:
+    """A log grid plus dense points across each place where a model's behaviour changes (its
+    resonances and |Z| peak), spaced as (1 + t^3/2) around it for t in [-1, 1], so that sharp
+    resonances are drawn at their true height (the spacing next to the centre is ~1e-8
+    relative, finer than a Q = 1e6 peak)."""
     from partsel.jobs.show import log_grid
 
     parts = [log_grid(f1, f2, per_decade)]
-    fp = inductor.peak_frequency(m.value, m.dcr, m.cp, m.rp)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        q_r = np.abs(inductor.impedance(fp, m.value, m.dcr, m.cp, m.rp)) / np.sqrt(m.value / m.cp)
-    for f_pk, q in zip(fp, q_r, strict=True):
-        if np.isfinite(f_pk) and f_pk > 0 and np.isfinite(q) and q > 0:
-            half = min(0.5, 20.0 / q)
-            parts.append(f_pk * (1.0 + half * np.linspace(-1.0, 1.0, 801) ** 3))
+    cluster = 1.0 + 0.5 * np.linspace(-1.0, 1.0, 801) ** 3
+    for pts in m.landmarks():
+        for f_pk in pts[(pts >= f1) & (pts <= f2)][:50]:
+            parts.append(f_pk * cluster)
     f = np.unique(np.concatenate(parts))
     return f[(f >= f1) & (f <= f2)]
 
@@ -417,7 +452,7 @@ def plot(result: CheckResult, path: str | Path, per_decade: int = 200) -> Path:
     f0s = np.array([r["zero_phase_hz"] for r in result.rows], dtype=float)
     with np.errstate(all="ignore"):
         z = m.impedance(f)
-        z_f0 = np.abs(inductor.impedance(np.where(f0s > 0, f0s, 1.0), m.value, m.dcr, m.cp, m.rp))
+        z_f0 = np.abs(m.impedance_each(np.where(f0s > 0, f0s, 1.0)))
     n = len(result.rows)
     fig = plotting.new_figure(figsize=(9, 7 + 0.25 * n))
     ax_z, ax_p, ax_s = fig.subplots(3, 1, sharex=True,
