@@ -18,7 +18,9 @@ Calls", 3.2.1 "Paralleling devices with multiplier m"):
   0 H joins its nodes (a short), both with a note. A resistor of 0 ohm is refused: ngspice
   replaces it by 1 mohm with a warning, which no maker means. Negative values are refused.
 - ``K name L1 L2 k``: one pair per line (ngspice 39 refuses a third inductor on a K line);
-  0 < |k| <= 1, negative k allowed as in ngspice; k = 0 is left out with a note.
+  0 < |k| <= 1, negative k allowed as in ngspice; k = 0 is left out with a note. A coupled
+  inductor with ``m`` is refused: ngspice 39 scales L by 1/m but not the mutual inductance,
+  which gives an effective coupling above 1.
 - ``X name nodes... sub [PARAMS:] p=v ...``: parameters override the definition's defaults,
   evaluated in the caller's scope; a definition sees the parameters of the instances above it
   (dynamic scope, as ngspice). ``m=`` on an X line (when the definition declares no ``m``)
@@ -30,7 +32,9 @@ Calls", 3.2.1 "Paralleling devices with multiplier m"):
   two-terminal model that uses it is refused unless ``ground_is_reference`` is set, which
   reads ground as the reference pin. ngspice gives the same impedance when the reference pin
   is grounded (a shunt part), and a different one otherwise (a part in series).
-  A node named in ``.GLOBAL`` is refused the same way.
+  A node named in ``.GLOBAL`` is refused the same way. A pin named ``gnd`` is ground too
+  (ngspice converts it, whatever the instance connects to it): it can only be the reference
+  pin, and then ngspice's impedance is the one read.
 - Element names are hierarchical (``X1.R2``) and ``Circuit.lines`` holds each one's line.
 """
 
@@ -129,6 +133,7 @@ class _Flattener:
         self.parsed = parsed
         self.globals = scope
         self.out = _Net()
+        self.multiplied: set[str] = set()
 
     def expand(self, d: Definition, scope: Scope, prefix: str, netmap: dict[str, str],
                mult: float | None, stack: tuple[Definition, ...]) -> None:
@@ -222,6 +227,10 @@ class _Flattener:
             raise Refused(line, full, f"{name} names the model '{rest[0]}': model-based "
                           "(semiconductor) elements are not read; give the value on the "
                           "element line")
+        for k, (orig, _v) in keys.items():
+            if k in _REFUSED[kind]:
+                raise Refused(line, full, f"{name} has {orig}=, so it is "
+                              f"{_REFUSED[kind][k]}, which is not read")
         tokens = rest + value_tokens
         if len(tokens) != 1:
             raise Refused(line, full, f"{name} has no value" if not tokens else
@@ -232,9 +241,6 @@ class _Flattener:
         for k, (orig, v) in keys.items():
             if k in _VALUE_KEYS[kind] or k in ("m", "scale") or (kind == "R" and k == "ac"):
                 continue
-            if k in _REFUSED[kind]:
-                raise Refused(line, full, f"{name} has {orig}=, so it is "
-                              f"{_REFUSED[kind][k]}, which is not read")
             if k not in _IGNORED[kind]:
                 raise Refused(line, full, f"{name} has the unknown instance parameter {orig}")
             ignored.append(orig)
@@ -282,6 +288,8 @@ class _Flattener:
             return
         if kind == "L":
             inductors[name.lower()] = full
+            if m != 1:
+                self.multiplied.add(full.lower())
         self.out.elements.append((kind, full, a, b, value, line))
 
     def coupling(self, toks: list[str], line: int, scope: Scope, prefix: str,
@@ -299,6 +307,10 @@ class _Flattener:
             if low not in inductors:
                 raise Refused(line, full, f"{name} names {lname}, which is no inductor of "
                               f"subcircuit {d.name}")
+            if inductors[low].lower() in self.multiplied:
+                raise Refused(line, full, f"{name} couples {lname}, which has m= (its own or "
+                              "its instance's): ngspice 39 does not scale the mutual "
+                              "inductance with m; write the inductances without m")
             found.append(inductors[low])
         k = _value(toks[3], scope, self.out.notes, f"the coupling of {name}")
         if k == 0:
@@ -386,7 +398,7 @@ def flatten(parsed: Parsed, d: Definition, scope: Scope, opts: Options) -> tuple
     pins = [p.lower() for p in d.pins]
     if d.problems:
         raise Refused(*d.problems[0])
-    if len(set(pins)) != len(pins) or "0" in pins or "gnd" in pins:
+    if len(set(pins)) != len(pins) or "0" in pins:
         raise Refused(d.line, f".SUBCKT {d.name}", "the pins must be distinct and not the "
                       "ground node 0")
     if opts.pins and all(p.lower() in pins for p in opts.pins):
@@ -401,6 +413,13 @@ def flatten(parsed: Parsed, d: Definition, scope: Scope, opts: Options) -> tuple
                       f"({' '.join(d.pins)}): name the driven and the reference pin to read it "
                       "as a two-terminal part (the other pins are then left open or joined to "
                       "the reference)")
+    ground_ref = opts.ground_is_reference
+    if "gnd" in pins:
+        if ref != "gnd":
+            raise Refused(d.line, f".SUBCKT {d.name}", "the pin GND is the global ground in "
+                          "ngspice, whatever it is connected to: it can only be the reference "
+                          "pin")
+        ground_ref = True
     joined = {p.lower() for p in opts.join_to_reference} & set(pins)
     netmap = {p: ("pin:" + (ref if p in joined else p)) for p in pins}
     f = _Flattener(parsed, scope)
@@ -417,13 +436,13 @@ def flatten(parsed: Parsed, d: Definition, scope: Scope, opts: Options) -> tuple
         return n
 
     grounded = [e for e in out.elements if GROUND in (e[2], e[3])]
-    if grounded and not opts.ground_is_reference:
+    if grounded and not ground_ref:
         e = grounded[0]
         raise Refused(e[5], e[1], f"{e[1]} connects to node 0, the global ground of SPICE, "
                       "inside the subcircuit: a two-terminal model should connect through its "
                       "pins only (read it with ground_is_reference=True if the reference pin "
                       "is grounded in use)")
-    shorts = out.shorts + ([(GROUND, ref_net)] if opts.ground_is_reference else [])
+    shorts = out.shorts + ([(GROUND, ref_net)] if ground_ref else [])
     for a, b in shorts:
         ra, rb = find(a), find(b)
         if ra != rb:

@@ -32,10 +32,11 @@ from dataclasses import dataclass
 from partsel.errors import FileFormatError
 
 # scale factors of ngspice's number reader (manual table 2.2); "meg" and "mil" before "m"
-_ELEMENT_SCALE = {"t": 1e12, "g": 1e9, "meg": 1e6, "k": 1e3, "mil": 25.4e-6, "m": 1e-3,
-                  "u": 1e-6, "n": 1e-9, "p": 1e-12, "f": 1e-15}
+# (powers of ten, so that 1.5n is the double nearest 1.5e-9; mil is 25.4e-6)
+_ELEMENT_SCALE = {"t": 12, "g": 9, "meg": 6, "k": 3, "m": -3, "u": -6, "n": -9, "p": -12,
+                  "f": -15}
 # numparam's table (manual 2.9.5; "t" as ngspice 39 reads it, "mil" is not in it)
-_EXPR_SCALE = {k: v for k, v in _ELEMENT_SCALE.items() if k != "mil"}
+_EXPR_SCALE = _ELEMENT_SCALE
 _MANTISSA = r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?"
 _NUMBER = re.compile(rf"({_MANTISSA})(meg|mil|[tgkmunpf])?([a-z]*)(.*)\Z", re.I | re.S)
 _SPECIAL_LEAD = set('=[]?()&%$§"!:')
@@ -55,12 +56,24 @@ def element_number(token: str) -> float | None:
     if m is None:
         return None
     mant, suffix, _letters, rest = m.groups()
+    if rest and any(ch in rest for ch in "*/+-^()"):
+        raise NumberError(f"'{token}' is not a number: write an expression in braces, "
+                          f"{{{token}}}")
     if rest:
         raise NumberError(f"'{token}' is not a SPICE number (ngspice would read it as "
                           f"'{token[:len(token) - len(rest)]}' and ignore '{rest}'); an RKM "
                           "code such as 2k5 is written 2.5k")
-    value = float(mant)
-    return value * _ELEMENT_SCALE[suffix.lower()] if suffix else value
+    if not suffix:
+        return float(mant)
+    if suffix.lower() == "mil":
+        return float(mant) * 25.4e-6
+    return _scaled(mant, _ELEMENT_SCALE[suffix.lower()])
+
+
+def _scaled(mant: str, power: int) -> float:
+    """mant x 10^power, rounded once (the exponent is added, not multiplied in)."""
+    base, _, exp = mant.lower().partition("e")
+    return float(f"{base}e{int(exp or 0) + power}")
 
 
 def expr_number(text: str) -> float:
@@ -71,12 +84,11 @@ def expr_number(text: str) -> float:
         raise NumberError(f"'{text}' is not a number")
     mant, _suffix, _letters, _rest = m.groups()
     letters = text[len(mant):].lower()
-    value = float(mant)
     if letters.startswith("meg"):
-        return value * 1e6
+        return _scaled(mant, 6)
     if letters[:1] in _EXPR_SCALE:
-        return value * _EXPR_SCALE[letters[:1]]
-    return value
+        return _scaled(mant, _EXPR_SCALE[letters[:1]])
+    return float(mant)
 
 
 @dataclass(frozen=True)
