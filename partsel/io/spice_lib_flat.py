@@ -48,9 +48,10 @@ from partsel.engine.circuit import Circuit, Coupling, Element, ElementKind
 from partsel.errors import ModelError
 from partsel.io.spice_lib_expr import ExprError, Scope, parse, unwrap, value_of
 from partsel.io.spice_lib_parse import Definition, Parsed
-from partsel.io.spice_lib_text import NumberError, element_number, fields, split_assignments
+from partsel.io.spice_lib_text import NumberError, element_number, tokenize
 
 GROUND = "0"
+Tokens = tuple[tuple[str, ...], tuple[tuple[str, str], ...]]
 _IDENT = re.compile(r"[A-Za-z_]\w*\Z")
 _VALUE_KEYS = {"R": ("r", "resistance"), "C": ("c", "capacitance"), "L": ("l", "inductance")}
 _IGNORED = {"R": {"tc1", "tc2", "tce", "tc", "noisy", "noise", "temp", "dtemp"},
@@ -162,7 +163,7 @@ class _Flattener:
             seen[key] = card.line
             kind = name[0].upper()
             try:
-                toks = fields(card.text)
+                toks = tokenize(card.text)
                 if kind in "RLC":
                     self.rlc(kind, toks, card.line, scope, prefix, netmap, mult, d, inductors,
                              zero_l)
@@ -180,7 +181,7 @@ class _Flattener:
             try:
                 self.coupling(toks, card.line, scope, prefix, inductors, zero_l, d)
             except (ExprError, NumberError) as exc:
-                raise Refused(card.line, prefix + toks[0], str(exc)) from None
+                raise Refused(card.line, prefix + toks[0][0], str(exc)) from None
 
     def defaults(self, d: Definition, scope: Scope) -> None:
         """Set the parameters of ``d`` that the instance did not set, in the order given."""
@@ -204,10 +205,10 @@ class _Flattener:
                           "two-terminal model should connect through its pins only")
         return prefix.lower() + low
 
-    def rlc(self, kind: ElementKind, toks: list[str], line: int, scope: Scope, prefix: str,
+    def rlc(self, kind: ElementKind, toks: Tokens, line: int, scope: Scope, prefix: str,
             netmap: dict[str, str], mult: float | None, d: Definition,
             inductors: dict[str, str], zero_l: set[str]) -> None:
-        pos, pairs = split_assignments(toks)
+        pos, pairs = toks
         name = pos[0]
         full = prefix + name
         if len(pos) < 3:
@@ -217,7 +218,7 @@ class _Flattener:
         if len(keys) != len(pairs):
             raise Refused(line, full, f"{name} gives an instance parameter twice")
         value_tokens = [v for k, (_, v) in keys.items() if k in _VALUE_KEYS[kind]]
-        rest = pos[3:]
+        rest = list(pos[3:])
         if len(rest) > 1 or (rest and value_tokens):
             model = rest[-1]
             raise Refused(line, full, f"{name} names the model '{model}': model-based "
@@ -292,11 +293,13 @@ class _Flattener:
                 self.multiplied.add(full.lower())
         self.out.elements.append((kind, full, a, b, value, line))
 
-    def coupling(self, toks: list[str], line: int, scope: Scope, prefix: str,
+    def coupling(self, tokens: Tokens, line: int, scope: Scope, prefix: str,
                  inductors: dict[str, str], zero_l: set[str], d: Definition) -> None:
+        pos, pairs = tokens
+        toks = list(pos) + [f"{k}={v}" for k, v in pairs]
         name = toks[0]
         full = prefix + name
-        if len(toks) != 4:
+        if len(toks) != 4 or pairs:
             extra = " (ngspice couples one pair per K line)" if len(toks) > 4 else ""
             raise Refused(line, full, f"write {name} L1 L2 k{extra}")
         found = []
@@ -323,10 +326,10 @@ class _Flattener:
                               f"time (line {other[4]})")
         self.out.couplings.append((full, found[0], found[1], k, line))
 
-    def instance(self, toks: list[str], line: int, scope: Scope, prefix: str,
+    def instance(self, toks: Tokens, line: int, scope: Scope, prefix: str,
                  netmap: dict[str, str], mult: float | None, d: Definition,
                  stack: tuple[Definition, ...]) -> None:
-        pos, pairs = split_assignments(toks)
+        pos, pairs = toks
         name = pos[0]
         full = prefix + name
         if len(pos) < 3:
@@ -431,7 +434,7 @@ def flatten(parsed: Parsed, d: Definition, scope: Scope, opts: Options) -> tuple
     parent = {}
 
     def find(n: str) -> str:
-        while parent.get(n, n) != n:
+        while n in parent:
             n = parent[n]
         return n
 

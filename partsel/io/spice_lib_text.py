@@ -26,6 +26,7 @@ silent or says otherwise (the tests run both on the same text):
 
 from __future__ import annotations
 
+import functools
 import re
 from dataclasses import dataclass
 
@@ -40,6 +41,9 @@ _EXPR_SCALE = _ELEMENT_SCALE
 _MANTISSA = r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?"
 _NUMBER = re.compile(rf"({_MANTISSA})(meg|mil|[tgkmunpf])?([a-z]*)(.*)\Z", re.I | re.S)
 _SPECIAL_LEAD = set('=[]?()&%$§"!:')
+_COMMENT = re.compile(r";|\$|//")
+_GROUPING = re.compile(r"[{}'()]")
+_EQUALS = re.compile(r"(?<![<>!=])=(?!=)")
 
 
 class NumberError(ValueError):
@@ -138,6 +142,11 @@ def _utf16ish(data: bytes) -> bool:
 
 def strip_comment(text: str) -> str:
     """The line without its end-of-line comment (``;``, ``$``, ``//`` outside expressions)."""
+    if ";" not in text and "$" not in text and "//" not in text:
+        return text
+    if "{" not in text and "'" not in text:
+        m = _COMMENT.search(text)
+        return text[:m.start()] if m else text
     depth = 0
     quote = False
     for i, ch in enumerate(text):
@@ -195,6 +204,11 @@ def fields(text: str) -> list[str]:
 
     Raises NumberError (a ValueError) on an unbalanced brace, quote or parenthesis.
     """
+    if not _GROUPING.search(text):  # the common case, without a character loop
+        return _EQUALS.sub(" = ", text.replace(",", " ")).split()
+    fast = _fast_fields(text)
+    if fast is not None:
+        return fast
     out: list[str] = []
     cur: list[str] = []
     brace = paren = 0
@@ -252,6 +266,29 @@ def fields(text: str) -> list[str]:
     return out
 
 
+# groups without nesting, which is what libraries write; anything else takes the loop above
+_FAST = re.compile(r"""
+    \s+|,
+  | (?P<eq>(?<![<>!=])=(?!=))
+  | (?P<tok>(?:\{[^{}]*\}|'[^']*'|\([^()]*\)|==|<=|>=|!=|[^\s,={}'()])+)
+""", re.X)
+
+
+def _fast_fields(text: str) -> list[str] | None:
+    out: list[str] = []
+    pos, n = 0, len(text)
+    while pos < n:
+        m = _FAST.match(text, pos)
+        if m is None:
+            return None
+        if m.group("eq"):
+            out.append("=")
+        elif m.group("tok"):
+            out.append(m.group("tok"))
+        pos = m.end()
+    return out
+
+
 _NAME = re.compile(r"[A-Za-z_][\w]*\Z")
 
 
@@ -293,3 +330,11 @@ def split_assignments(tokens: list[str]) -> tuple[list[str], list[tuple[str, str
         pos.append(tok)
         i += 1
     return pos, pairs
+
+
+@functools.lru_cache(maxsize=65536)
+def tokenize(text: str) -> tuple[tuple[str, ...], tuple[tuple[str, str], ...]]:
+    """:func:`split_assignments` of :func:`fields` of a card, cached: a library repeats the
+    same element lines in every subcircuit, and a shared subcircuit is expanded many times."""
+    pos, pairs = split_assignments(fields(text))
+    return tuple(pos), tuple(pairs)
