@@ -389,3 +389,25 @@ def test_statistical_functions_read_nominal():
     res = parse_library("* mc\n.subckt S 1 2\nR1 1 2 {agauss(10, 1, 3)}\n.ends\n").result("S")
     assert res.circuit.elements[0].value == 10
     assert any("nominal value" in n for n in res.notes)
+
+
+def test_sections_control_blocks_and_stray_lines():
+    text = "\n".join([
+        "* sections",
+        ".lib typ",
+        ".subckt A 1 2",
+        "R1 1 2 {5}  $ a $ inside braces is no comment: {a$b} would be",
+        ".ends",
+        ".endl typ",
+        ".control",
+        ".subckt NOT 1 2",  # inside a control block: not a definition
+        ".endc",
+        ".ends",
+        ".lib other.lib fast",
+    ]) + "\n"
+    lib = parse_library(text)
+    assert lib.subckts == ("A",)
+    assert lib.circuit("A").elements[0].value == 5
+    notes = " | ".join(lib.notes)
+    assert ".ENDS without an open .SUBCKT" in notes
+    assert ".lib other.lib fast is not followed" in notes
