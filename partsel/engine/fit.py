@@ -17,8 +17,11 @@ Parameters are fitted as logarithms, which keeps them positive, with
 about 0.9 dB) lies above ordinary measurement noise: a narrow feature the model cannot follow (a
 mounting or fixture resonance) then pulls the fit less than it would in plain least squares.
 
-Models: :func:`partsel.engine.capacitor.impedance` (series R-L-C, optional dielectric loss
-tan delta / (omega C)) and :func:`partsel.engine.inductor.impedance` ((L + R_s) || C_p || R_p).
+Any closed-form family of :mod:`partsel.engine.models` can be fitted (:func:`fit_family`):
+``rlc`` (series R-L-C, optional dielectric loss tan delta / (omega C)), ``rlc-skin`` (the same
+with a skin-effect term k sqrt(f)), ``lcp`` ((L + R_s) || C_p || R_p) and ``ladder2`` (two R-C
+sections behind the ESL). Each family has a start rule here (:data:`STARTS`) that reads
+first values off the sweep; the parameters it frees by default are in :data:`FREE`.
 """
 
 from __future__ import annotations
@@ -32,6 +35,8 @@ from numpy.typing import ArrayLike, NDArray
 from scipy.optimize import least_squares
 
 from partsel.engine import capacitor, inductor
+from partsel.engine.models import family as model_family
+from partsel.engine.models.base import ClosedForm
 from partsel.errors import ModelError
 
 TWO_PI = 2.0 * np.pi
@@ -46,9 +51,9 @@ class FitResult:
     Attributes
     ----------
     kind : "capacitor" or "inductor"
-    params : catalog columns in SI units. Capacitor: value [F], esr [ohm], esl [H],
-        tan_delta [1] (0.0 when not fitted). Inductor: value [H], dcr [ohm], srf [Hz]
-        (from C_p), rp [ohm] (inf when not fitted).
+    params : the family's parameters in SI units. rlc: value [F], esr [ohm], esl [H],
+        tan_delta [1] (0.0 when not fitted); lcp: value [H], dcr [ohm], srf [Hz] (from C_p),
+        rp [ohm] (inf when not fitted); other families: their own parameters by name
     residual_db : RMS of 20 log10 |Z_model / Z_meas| over the sweep [dB]
     max_residual_db : the signed residual of largest size [dB]; > 0 where the model lies above
     f_max_residual : where it occurs [Hz]
@@ -59,6 +64,7 @@ class FitResult:
     n_points : points in the sweep
     success : the optimiser converged and every parameter is finite
     message : the optimiser's message and any note on parameters the sweep barely shows
+    family : the family fitted
     """
 
     kind: str
@@ -71,6 +77,7 @@ class FitResult:
     n_points: int = 0
     success: bool = False
     message: str = ""
+    family: str = ""
 
 
 def _check(f: ArrayLike, z: ArrayLike, n_params: int) -> tuple[NDArray, NDArray]:
@@ -207,7 +214,9 @@ def fit_capacitor(f: ArrayLike, z: ArrayLike, *, tan_delta: bool = False,
     elif srf < fa[0]:
         msg = _note(msg, f"the SRF ({srf:.4g} Hz) lies below the sweep, so C and ESR rest on "
                     "its low end")
-    return _report("capacitor", params, fa, za, model(p), departure_db, ok, msg)
+    out = _report("capacitor", params, fa, za, model(p), departure_db, ok, msg)
+    out.family = "rlc"
+    return out
 
 
 def _inductor_start(f: NDArray, z: NDArray, with_rp: bool) -> dict[str, float]:
@@ -270,7 +279,9 @@ def fit_inductor(f: ArrayLike, z: ArrayLike, *, rp: bool = True,
     if srf > fa[-1]:
         msg = _note(msg, f"the SRF ({srf:.4g} Hz) lies above the sweep, so it rests on the rise "
                     "of L only")
-    return _report("inductor", params, fa, za, model(p), departure_db, ok, msg)
+    out = _report("inductor", params, fa, za, model(p), departure_db, ok, msg)
+    out.family = "lcp"
+    return out
 
 
 def _note(message: str, note: str) -> str:
@@ -282,3 +293,81 @@ def _positive(start: dict[str, float], names: list[str]) -> None:
         v = start[n]
         if not (math.isfinite(v) and v > 0):
             raise ModelError(f"initial {n} must be a finite number > 0, not {v!r}")
+
+
+# -- any closed-form family ---------------------------------------------------------------------
+
+def _skin_start(f: NDArray, z: NDArray) -> dict[str, float]:
+    """The rlc start, with the skin term from the resistance left above ESR at the top end."""
+    start = _capacitor_start(f, z)
+    extra = float(z.real[-1]) - start["esr"]
+    start["k_skin"] = max(extra, 1e-3 * start["esr"]) / math.sqrt(f[-1])
+    return start
+
+
+def _lcp_start(f: NDArray, z: NDArray) -> dict[str, float]:
+    return _inductor_start(f, z, with_rp=True)
+
+
+def _ladder2_start(f: NDArray, z: NDArray) -> dict[str, float]:
+    """The rlc start split into a main section and a tenth-size second one with ten times
+    the resistance (a first guess only)."""
+    start = _capacitor_start(f, z)
+    return {"value": start["value"], "esr": start["esr"], "esl": start["esl"],
+            "c2": 0.1 * start["value"], "r2": 10.0 * start["esr"]}
+
+
+STARTS: dict[str, Callable[[NDArray, NDArray], dict[str, float]]] = {
+    "rlc": _capacitor_start, "rlc-skin": _skin_start, "lcp": _lcp_start,
+    "ladder2": _ladder2_start}
+FREE: dict[str, tuple[str, ...]] = {
+    "rlc": ("value", "esr", "esl"), "rlc-skin": ("value", "esr", "esl", "k_skin"),
+    "lcp": ("value", "dcr", "cp", "rp"), "ladder2": ("value", "esr", "esl", "c2", "r2")}
+
+
+def fit_family(name: str, f: ArrayLike, z: ArrayLike, *, free: tuple[str, ...] | None = None,
+               initial: dict[str, float] | None = None,
+               departure_db: float = 1.0) -> FitResult:
+    """Fit the closed-form family ``name`` to a sweep (or to another model's curve sampled on
+    a grid): least squares on the complex log ratio (module notes).
+
+    Parameters
+    ----------
+    name : a registered closed-form family with a start rule (:data:`STARTS`)
+    f, z : frequencies [Hz], strictly increasing, and complex impedance [ohm]
+    free : the parameters to fit (default :data:`FREE`); the others keep their start value
+        or their family default (0 for an optional loss term)
+    initial : starting values by parameter name; any left out are read off the data
+    departure_db : |residual| [dB] above which a run of points is reported as a departure
+
+    Returns
+    -------
+    FitResult with the family's parameters (for ``lcp``, ``srf`` in place of ``cp``).
+    """
+    fam = model_family(name)
+    if not isinstance(fam, ClosedForm) or name not in STARTS:
+        raise ModelError(f"family '{name}' cannot be fitted: fit one of "
+                         f"{', '.join(STARTS)}")
+    names = list(free if free is not None else FREE[name])
+    known = {p.name for p in fam.params}
+    if set(names) - known:
+        raise ModelError(f"family '{name}' has no parameter {', '.join(set(names) - known)}")
+    fa, za = _check(f, z, len(names))
+    start = STARTS[name](fa, za) | {k: float(v) for k, v in (initial or {}).items()}
+    fixed = {p.name: start.get(p.name, p.default) for p in fam.params if p.name not in names}
+    _positive(start, names)
+    x0 = np.log([start[n] for n in names])
+
+    def model(p: NDArray) -> NDArray:
+        batch = fam.make(**fixed, **dict(zip(names, p, strict=True)))
+        return fam.impedance(batch, fa)[0]
+
+    p, ok, msg = _solve(model, x0, fa, za)
+    params = {**{k: float(v) for k, v in fixed.items() if v is not None},
+              **dict(zip(names, (float(v) for v in p), strict=True))}
+    kind = fam.kinds[0]
+    if name == "lcp":
+        params["srf"] = float(inductor.srf(params["value"], params.pop("cp")))
+    out = _report(kind, params, fa, za, model(p), departure_db, ok, msg)
+    out.family = name
+    return out
