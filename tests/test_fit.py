@@ -156,7 +156,7 @@ def test_bad_input():
 
 def test_fit_family_recovers_a_skin_effect_resistance():
     """rlc-skin: a sweep of the family's own equation with a sqrt(f) resistance term (skin
-    effect, R ~ sqrt(f): Ramo, Whinnery, Van Duzer, 1994, from memory) and 1 % noise gives
+    effect, R ~ sqrt(f): Ramo, Whinnery, Van Duzer, 1994, from memory) and 2 % noise gives
     back its parameters; a plain rlc fit of the same sweep leaves a larger residual."""
     from partsel.engine.fit import fit_family
     from partsel.engine.models import family
