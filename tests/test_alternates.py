@@ -18,7 +18,7 @@ from hypothesis import strategies as st
 from scipy import integrate
 
 from partsel.errors import PartNotFound, QueryError
-from partsel.jobs.alternates import Criteria, alternates, curve_distance, derating
+from partsel.jobs.alternates import Criteria, alternates, curve_distance
 from partsel.store import open_store
 
 TWO_PI = 2 * np.pi
@@ -107,19 +107,6 @@ def test_16v_part_never_gets_a_10v_candidate(make_store):
     detail = res.near_misses[0].failed[0].detail if res.near_misses[0].part[
         "part_number"] == "V10" else res.near_misses[1].failed[0].detail
     assert detail == "rated 10 V < original 16 V"
-
-
-@pytest.mark.parametrize("technology, electrolyte, rated, factor", [
-    ("tantalum", None, 16.0, 0.5),        # domain notes s. 7: MnO2 tantalum <= 50 % of rated
-    ("tantalum", "mno2", 16.0, 0.5),      # same
-    ("tantalum", "polymer", 6.3, 0.9),    # polymer: 10 % below rated up to 10 V
-    ("tantalum", "polymer", 16.0, 0.8),   # polymer: 20 % below rated above 10 V
-    ("polymer", None, 10.0, 0.9),         # the 10 V rating itself is "up to 10 V"
-    ("polymer", None, 25.0, 0.8),
-    ("mlcc", None, 16.0, 1.0),            # class II MLCC: derating protects C, checked apart
-])
-def test_derating_by_technology(technology, electrolyte, rated, factor):
-    assert derating(technology, electrolyte, rated)[0] == factor
 
 
 def test_working_voltage_uses_the_derated_rating(make_store):

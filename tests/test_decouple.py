@@ -493,7 +493,7 @@ def test_check_warns_about_ratings_and_lifecycle(cli, catalog, tmp_path):
     r = cli("--store", catalog, "decouple", "--rail", "3.3V", "--target", "20mohm", "--band",
             "100kHz..10MHz", "--check", bank)
     assert r.exit_code in (0, 1), r.output
-    assert "LOWV: rated 4 V, below the usual margin" in r.stderr
+    assert "LOWV: rated 4 V, below the design margin" in r.stderr
     assert "NRND: lifecycle nrnd" in r.stderr
 
 

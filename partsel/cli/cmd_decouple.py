@@ -246,8 +246,9 @@ def decouple_cmd(
         "--lifecycle", metavar="STATE,...",
         help="Lifecycle states to use: active, nrnd, obsolete (default active).")] = None,
     min_voltage: Annotated[str | None, typer.Option(
-        "--min-voltage", metavar="V", help="Rated voltage at least V (default: 1.25 x rail; "
-        "tantalum 2 x; polymer 1.11 x up to 10 V, 1.25 x above).")] = None,
+        "--min-voltage", metavar="V", help="Rated voltage at least V (default: the derated "
+        "rating at least the rail voltage, MnO2 tantalum 50 %, polymer 90 % up to a 10 V "
+        "rating, 80 % above; other parts rated at least 1.25 x the rail).")] = None,
     in_stock: Annotated[bool, typer.Option(
         "--in-stock", help="Only parts with stock > 0.")] = False,
     max_parts: Annotated[int, typer.Option(

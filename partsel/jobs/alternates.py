@@ -11,7 +11,8 @@ Form
     ``height``: seated height not greater. ``mounting``: the same (smd or through_hole).
 Fit
     ``voltage``: rated voltage at least the original's; with a working voltage instead, the
-    rating derated by technology at least the working voltage (see :func:`derating`).
+    rating derated by technology at least the working voltage (see
+    :func:`partsel.derating.derating`).
     ``temperature``: the operating range covers the original's. ``tolerance``: no wider.
     ``dielectric``: EIA-198 code at least as stable (our order, see
     :func:`partsel.standards.eia198.at_least_as_stable`: the range covers the original's, class I
@@ -65,6 +66,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from partsel.catalog import LIFECYCLES
+from partsel.derating import derating
 from partsel.engine import capacitor, ceramic, inductor
 from partsel.errors import QueryError, UnitError
 from partsel.jobs import models
@@ -72,6 +74,7 @@ from partsel.jobs.models import Models
 from partsel.jobs.show import log_grid
 from partsel.standards import aecq200, eia198, safety
 from partsel.store.db import Store
+from partsel.store.query import ELECTROLYTE_SQL, derating_sql
 from partsel.units import format_quantity
 
 PER_DECADE = 100
@@ -86,13 +89,6 @@ Z_FLOOR = 1e-9                   # [ohm]: |Z| floor so that a lossless model giv
 # class II estimate never falls below 0.1 and a stored curve never exceeds 1.5.
 _RATIO_LOW, _RATIO_HIGH = 0.1, 1.5
 _EPS = 1e-9
-
-# Voltage derating by technology (shared domain notes section 7, rule of thumb): the working
-# voltage may reach this fraction of the rating. MnO2 tantalum 50 %; polymer (aluminium or
-# tantalum) 90 % up to a 10 V rating and 80 % above; other technologies up to the rating
-# (class II MLCC derating protects the effective capacitance, which the value rule checks).
-MNO2_DERATING = 0.5
-POLYMER_DERATING = ((10.0, 0.9), (float("inf"), 0.8))
 
 RULES: dict[str, str] = {
     "case": "same EIA case code, or one of the allowed cases",
@@ -251,29 +247,8 @@ def _pct(x: float) -> str:
     return f"{100 * x:.3g} %"
 
 
-def derating(technology: str | None, electrolyte: str | None,
-             rated_voltage: float | None) -> tuple[float, str]:
-    """Fraction of the rated voltage a part may work at, and why (see :data:`MNO2_DERATING`).
-
-    A tantalum part counts as MnO2 unless its ``electrolyte`` says polymer.
-    """
-    tech = (technology or "").lower()
-    if tech == "tantalum" and (electrolyte or "").lower() != "polymer":
-        return MNO2_DERATING, "MnO2 tantalum derated to 50 %"
-    if tech in ("tantalum", "polymer"):
-        for limit, factor in POLYMER_DERATING:
-            if rated_voltage is None or rated_voltage <= limit:
-                return factor, f"polymer derated to {factor:.0%}".replace("%", " %")
-    return 1.0, "no derating rule for this technology"
-
-
-_ELECTROLYTE_SQL = ("lower(CASE WHEN json_valid(extra) THEN "
-                    "json_extract_string(extra, '$.electrolyte') END)")
-_DERATING_SQL = (
-    f"CASE WHEN technology = 'tantalum' AND coalesce({_ELECTROLYTE_SQL}, '') <> 'polymer' "
-    f"THEN {MNO2_DERATING} WHEN technology IN ('tantalum', 'polymer') THEN CASE WHEN "
-    f"rated_voltage <= {POLYMER_DERATING[0][0]} THEN {POLYMER_DERATING[0][1]} ELSE "
-    f"{POLYMER_DERATING[1][1]} END ELSE 1.0 END")
+_ELECTROLYTE_SQL = ELECTROLYTE_SQL
+_DERATING_SQL = derating_sql()
 
 _FETCH = ("id", "part_number", "maker", "kind", "technology", "case", "value", "tolerance",
           "rated_voltage", "dielectric", "esr", "tan_delta", "esl", "dcr", "srf", "rp", "isat",

@@ -10,7 +10,7 @@ Statuses: ``found``; ``unknown`` (no such part; close matches named); ``ambiguou
 makers share the number and the line names none); ``malformed``. A found part needs action when
 it is obsolete, nrnd (not recommended for new designs), out of stock (stock 0), short of stock
 (stock below the quantity), or a capacitor whose rating, derated by technology, is below the
-line's working voltage (:func:`partsel.jobs.alternates.derating`). A part (maker and part
+line's working voltage (:func:`partsel.derating.derating`). A part (maker and part
 number) found on several lines is flagged on each of them, not refused: their quantities are
 totalled for the stock check. A quantity must be a whole number of 1 or more. Lines that need
 action get the best alternates: the same rules as :func:`partsel.jobs.alternates.alternates_for`,
@@ -28,8 +28,9 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from partsel.derating import derating
 from partsel.errors import FileFormatError, PartselError
-from partsel.jobs.alternates import Criteria, alternates_for, derating
+from partsel.jobs.alternates import Criteria, alternates_for
 from partsel.standards import safety
 from partsel.store.db import Store
 from partsel.units import format_quantity, parse_quantity

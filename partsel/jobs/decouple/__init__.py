@@ -85,12 +85,12 @@ applied; ``result`` the Result and its rows; ``evaluate`` a bank checked into a 
 from partsel.jobs.decouple.bank import BankEntry, check, read_bank
 from partsel.jobs.decouple.candidates import (
     DEFAULT_VOLTAGE_MARGIN,
-    VOLTAGE_MARGIN,
+    VOLTAGE_RULE,
     Parts,
     load_candidates,
-    minimum_rated_voltage,
-    polymer_margin,
     reduce_candidates,
+    usable,
+    voltage_rule_text,
     weights,
 )
 from partsel.jobs.decouple.capacitance import (
@@ -155,7 +155,7 @@ __all__ = [
     "Search",
     "THROUGH_HOLE",
     "TWO_PI",
-    "VOLTAGE_MARGIN",
+    "VOLTAGE_RULE",
     "WORST_CASE_TOLERANCE",
     "capacitance_at_bias",
     "check",
@@ -165,13 +165,13 @@ __all__ = [
     "linearised_lp",
     "load_candidates",
     "measured_curves",
-    "minimum_rated_voltage",
     "plan",
-    "polymer_margin",
     "read_bank",
     "reduce_candidates",
     "solve",
     "solve_measured",
+    "usable",
+    "voltage_rule_text",
     "weights",
     "worst_case_ratio",
 ]

@@ -8,12 +8,19 @@ import time
 from collections.abc import Sequence
 from dataclasses import dataclass, field, replace
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 from numpy.typing import NDArray
 
+from partsel.derating import derating
 from partsel.errors import FileFormatError, ModelError, QueryError
-from partsel.jobs.decouple.candidates import Parts, _parts_from, minimum_rated_voltage
+from partsel.jobs.decouple.candidates import (
+    DEFAULT_VOLTAGE_MARGIN,
+    Parts,
+    _parts_from,
+    usable,
+)
 from partsel.jobs.decouple.evaluate import _result
 from partsel.jobs.decouple.inputs import Rail
 from partsel.jobs.decouple.measured import MeasuredCurve, _not_reaching, measured_curves
@@ -126,15 +133,7 @@ def check(store: Store, rail: Rail, entries: Sequence[BankEntry], *, measured: b
         if r.get("technology") == "mlcc" and not r.get("dielectric"):
             notes.append(f"{pn}: MLCC without a dielectric code: taken without DC-bias loss, "
                          "which is optimistic if it is class II")
-        rated = r.get("rated_voltage")
-        need = float(minimum_rated_voltage(rail.voltage, [r.get("technology")])[0])
-        if rated is None:
-            notes.append(f"{pn}: rated voltage unknown")
-        elif rated < rail.voltage:
-            notes.append(f"{pn}: rated {_fq(rated, 'V')}, below the rail voltage")
-        elif rated < need:
-            notes.append(f"{pn}: rated {_fq(rated, 'V')}, below the usual margin "
-                         f"({_fq(need, 'V')} for {r.get('technology') or 'this technology'})")
+        notes += _voltage_notes(r, rail.voltage)
         if r.get("lifecycle") in ("nrnd", "obsolete"):
             notes.append(f"{pn}: lifecycle {r['lifecycle']}")
     cols: dict[str, NDArray] = {}
@@ -156,6 +155,25 @@ def check(store: Store, rail: Rail, entries: Sequence[BankEntry], *, measured: b
     res = _result(rail, "check", parts, counts, notes, {}, None, "", curves)
     res.stats["seconds"] = time.perf_counter() - t0
     return res
+
+
+def _voltage_notes(row: dict[str, Any], voltage: float) -> list[str]:
+    """What a bank's part lacks against the voltage rule of the planner (none when it passes)."""
+    pn, rated = row["part_number"], row.get("rated_voltage")
+    if rated is None:
+        return [f"{pn}: rated voltage unknown"]
+    electrolyte = (row.get("extra") or {}).get("electrolyte")
+    if usable(voltage, [rated], [row.get("technology")], [electrolyte])[0]:
+        return []
+    if rated < voltage:
+        return [f"{pn}: rated {_fq(rated, 'V')}, below the rail voltage"]
+    factor, why = derating(row.get("technology"), electrolyte, rated)
+    if factor < 1:
+        return [f"{pn}: rated {_fq(rated, 'V')}, usable to {_fq(rated * factor, 'V')} ({why}): "
+                "below the rail voltage"]
+    need = _fq(voltage * DEFAULT_VOLTAGE_MARGIN, "V")
+    return [f"{pn}: rated {_fq(rated, 'V')}, below the design margin ({need}, "
+            f"{DEFAULT_VOLTAGE_MARGIN:g} x the rail voltage)"]
 
 
 def _refuse_uncovered(parts: Parts, curves: Sequence[MeasuredCurve | None],
