@@ -31,7 +31,7 @@ from typing import Any
 __version__ = "0.1.0"
 
 _EXPORTS = {
-    "open_store": "partsel.store.db",
+    "open_store": "partsel.jobs.default_store",
     "Store": "partsel.store.db",
     "import_catalog": "partsel.store.importer",
     "check_catalog": "partsel.store.importer",
