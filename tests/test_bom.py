@@ -17,8 +17,9 @@ from hypothesis import given
 from hypothesis import strategies as st
 
 from partsel.errors import FileFormatError
+from partsel.io.parts_list import parse_parts_list, read_parts_list
 from partsel.jobs.alternates import Criteria, alternates
-from partsel.jobs.bom import check_bom, parse_parts_list, read_parts_list
+from partsel.jobs.bom import check_bom
 from partsel.store import open_store
 
 DEMO_LIST = Path(__file__).resolve().parent.parent / "data_demo" / "parts_list.csv"
@@ -353,7 +354,8 @@ def test_alternates_whose_stock_covers_the_quantity_come_first(make_store, tmp_p
             dict(base, part_number="CLOSE", value="100nF", esr="20mohm", stock="5"),
             dict(base, part_number="FAR", value="100nF", esr="24mohm", stock="5000")]
     store = make_store(rows)
-    from partsel.jobs.bom import check_bom, parse_parts_list
+    from partsel.io.parts_list import parse_parts_list
+    from partsel.jobs.bom import check_bom
     from partsel.store import open_store
     with open_store(store) as s:
         rep = check_bom(s, parse_parts_list("part_number,quantity\nOLD,100\n"))

@@ -547,7 +547,7 @@ def test_read_bank_separators_aliases_and_repeats(cli, make_store, tmp_path):
 
 
 def test_read_bank_missing_file(tmp_path):
-    with pytest.raises(FileFormatError, match="no bank file"):
+    with pytest.raises(FileFormatError, match="no such bank file"):
         dec.read_bank(tmp_path / "nope.csv")
 
 

@@ -236,7 +236,8 @@ def bom_cmd(
 
     Example: partsel bom parts_list.csv --format csv --out report.csv
     """
-    from partsel.jobs.bom import check_bom, read_parts_list
+    from partsel.io.parts_list import read_parts_list
+    from partsel.jobs.bom import check_bom
 
     fmt = opt.check_format(fmt)
     lines = read_parts_list(file)

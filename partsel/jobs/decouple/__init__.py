@@ -79,10 +79,12 @@ Modules
 ``candidates`` loading and reduction (step 1); ``measured`` measured curves and networks;
 ``solver`` steps 2-5; ``diagnosis`` why a bank fails; ``effects`` what a result says was
 applied; ``result`` the Result and its rows; ``evaluate`` a bank checked into a Result;
-``planner`` :func:`plan`; ``bank`` the bank file and :func:`check`.
+``planner`` :func:`plan`; ``bank`` :func:`check` (the bank file is read by
+:func:`partsel.io.bank.read_bank`).
 """
 
-from partsel.jobs.decouple.bank import BankEntry, check, read_bank
+from partsel.io.bank import BankEntry, read_bank
+from partsel.jobs.decouple.bank import check
 from partsel.jobs.decouple.candidates import (
     DEFAULT_VOLTAGE_MARGIN,
     VOLTAGE_RULE,
