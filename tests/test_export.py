@@ -16,8 +16,9 @@ import pandas as pd
 import pytest
 
 from partsel.engine import capacitor, inductor
+from partsel.engine.fixture import impedance_from
 from partsel.errors import QueryError, StoreError
-from partsel.io.touchstone import impedance_from, read_touchstone
+from partsel.io.touchstone import read_touchstone
 from partsel.jobs.export import catalog_frame, spice_library, touchstone_text, write_atomic
 from partsel.jobs.measured import store_sweep
 from partsel.store import open_store

@@ -22,9 +22,10 @@ import pandas as pd
 from partsel import __version__
 from partsel.catalog import COLUMNS, MODEL_PARAMETERS, NAMES, PROVENANCES
 from partsel.engine import inductor
+from partsel.engine.fixture import FIXTURES, s_parameters
 from partsel.errors import ModelError, QueryError, StoreError
 from partsel.io.spice import capacitor_subckt, inductor_subckt, spice_name
-from partsel.io.touchstone import FIXTURES, write_touchstone
+from partsel.io.touchstone import write_touchstone
 from partsel.jobs.measured import FIT_REASON
 from partsel.jobs.models import Models
 from partsel.jobs.show import log_grid
@@ -174,8 +175,8 @@ def touchstone_text(store: Store, part_number: str, band: tuple[float, float], *
                 f"({part['maker']}, {part['kind']})",
                 f"written {datetime.now():%Y-%m-%d %H:%M}; a model, not a measurement",
                 "model: " + "; ".join(model), f"fixture: {where}, Z0 = {z0:g} ohm"]
-    return write_touchstone(f, z, fixture=fixture,  # type: ignore[arg-type]
-                            z0=z0, fmt=fmt, comments=comments)
+    s = s_parameters(z, fixture, z0)  # type: ignore[arg-type]
+    return write_touchstone(f, s, z0=z0, fmt=fmt, comments=comments)
 
 
 # -- Parquet -------------------------------------------------------------------------------------

@@ -85,8 +85,9 @@ def read_sweep_file(path: str | Path, *, fixture: str | None = None, cli: bool =
     impedance itself and take ``csv_options`` (see :func:`partsel.io.sweep.read_sweep_csv`);
     with ``cli`` their messages name the command's options.
     """
+    from partsel.engine.fixture import FIXTURES, impedance_from
     from partsel.io.sweep import read_sweep_csv
-    from partsel.io.touchstone import FIXTURES, impedance_from, read_touchstone
+    from partsel.io.touchstone import read_touchstone
 
     p = Path(path)
     if TOUCHSTONE.search(p.name):
