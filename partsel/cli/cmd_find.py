@@ -169,9 +169,6 @@ def find_cmd(
     kw.setdefault("limit", limit)
     search = Search(**kw)
     search.validate()
-    if search.band is None and search.inductive_to is None and search.current is None:
-        raise QueryError("nothing to search for: give --below/--above with --band, or "
-                         "--inductive-to (see 'partsel find --help')")
     with open_store_for(ctx) as store:
         result = find(store, search)
     cols = CAP_COLS if search.kind == "capacitor" else IND_COLS

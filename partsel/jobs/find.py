@@ -106,6 +106,9 @@ class Search:
             if self.bias is not None:
                 raise QueryError("--bias cannot be applied to a measured curve (it was measured "
                                  "at its own bias): leave out --measured or --bias")
+        if self.band is None and self.inductive_to is None and self.current is None:
+            raise QueryError("nothing to search for: give an impedance limit below or above "
+                             "over a band, a frequency to stay inductive to, or a current")
 
     _UNITS = {"below": "ohm", "above": "ohm", "inductive_to": "Hz", "value_min": "F|H",
               "value_max": "F|H", "min_voltage": "V", "bias": "V", "mount_l": "H",

@@ -75,16 +75,23 @@ within the limits holds on them the answer says so with the reasons.
 
 Modules
 -------
-``inputs`` the request (Board, Rail, Choice); ``capacitance`` C at DC bias and worst case;
-``candidates`` loading and reduction (step 1); ``measured`` measured curves and networks;
-``solver`` steps 2-5; ``diagnosis`` why a bank fails; ``effects`` what a result says was
-applied; ``result`` the Result and its rows; ``evaluate`` a bank checked into a Result;
-``planner`` :func:`plan`; ``bank`` :func:`check` (the bank file is read by
-:func:`partsel.io.bank.read_bank`).
+``inputs`` the request (Board, Rail, Choice); ``board_options`` the board read from text;
+``capacitance`` C at DC bias and worst case; ``candidates`` loading and reduction (step 1);
+``measured`` measured curves and networks; ``solver`` steps 2-5; ``diagnosis`` why a bank
+fails; ``effects`` what a result says was applied; ``result`` the Result and its rows;
+``evaluate`` a bank checked into a Result; ``planner`` :func:`plan`; ``bank`` :func:`check`
+(the bank file is read by :func:`partsel.io.bank.read_bank`); ``plot`` the plot of a bank.
 """
 
 from partsel.io.bank import BankEntry, read_bank
 from partsel.jobs.decouple.bank import check
+from partsel.jobs.decouple.board_options import (
+    board_from_text,
+    parse_area,
+    parse_length,
+    parse_mount_l,
+    parse_plane,
+)
 from partsel.jobs.decouple.candidates import (
     DEFAULT_VOLTAGE_MARGIN,
     VOLTAGE_RULE,
@@ -122,6 +129,7 @@ from partsel.jobs.decouple.measured import (
     measured_curves,
 )
 from partsel.jobs.decouple.planner import plan
+from partsel.jobs.decouple.plot import plot_bank
 from partsel.jobs.decouple.result import MEASURED_TEXT, MODEL_TEXT, Result
 from partsel.jobs.decouple.solver import (
     Limits,
@@ -160,6 +168,7 @@ __all__ = [
     "VOLTAGE_RULE",
     "WORST_CASE_TOLERANCE",
     "capacitance_at_bias",
+    "board_from_text",
     "check",
     "curve_source",
     "diagnose",
@@ -167,7 +176,12 @@ __all__ = [
     "linearised_lp",
     "load_candidates",
     "measured_curves",
+    "parse_area",
+    "parse_length",
+    "parse_mount_l",
+    "parse_plane",
     "plan",
+    "plot_bank",
     "read_bank",
     "reduce_candidates",
     "solve",
