@@ -27,6 +27,7 @@ from partsel.io.parts_list import ListLine
 from partsel.jobs.alternates import Criteria, alternates_for
 from partsel.standards import safety
 from partsel.store.db import Store
+from partsel.store.parts import numbered
 from partsel.units import format_quantity
 
 STATUSES = ("found", "unknown", "ambiguous", "malformed")
@@ -88,9 +89,7 @@ class BomReport:
 
 def check_bom(store: Store, lines: Sequence[ListLine], alternates: int = 3) -> BomReport:
     """Check every line of a parts list against the store (see the module docstring)."""
-    wanted = sorted({ln.part_number.lower() for ln in lines if ln.part_number and not ln.error})
-    hits = store.arrays("SELECT id, part_number, maker FROM parts "
-                        "WHERE list_contains(?, lower(part_number)) ORDER BY id", [wanted])
+    hits = numbered(store, [ln.part_number for ln in lines if ln.part_number and not ln.error])
     index: dict[str, list[tuple[int, str, str]]] = {}
     for i, pn, mk in zip(hits["id"], hits["part_number"], hits["maker"], strict=True):
         index.setdefault(pn.lower(), []).append((int(i), str(pn), str(mk)))
@@ -138,9 +137,7 @@ def check_bom(store: Store, lines: Sequence[ListLine], alternates: int = 3) -> B
 
 def _unknown_note(store: Store, ln: ListLine) -> str:
     """'not in the store' with the three most similar part numbers (Jaro-Winkler)."""
-    near = store.arrays("SELECT part_number FROM parts ORDER BY jaro_winkler_similarity("
-                        "lower(part_number), lower(?)) DESC, part_number LIMIT 3",
-                        [ln.part_number])["part_number"]
+    near = store.similar_part_numbers(ln.part_number or "")
     who = f" from maker '{ln.maker}'" if ln.maker else ""
     return (f"not in the store{who}" + (f"; close matches: {', '.join(near)}" if len(near)
                                          else ""))
@@ -199,5 +196,5 @@ def _judge(store: Store, rep: LineReport, part: dict[str, Any], n_alternates: in
     rep.alternates = sorted(rep.alternates, key=lambda a: not a["covers_quantity"])
     rep.alternates = rep.alternates[:n_alternates]
     if not rep.alternates:
-        rep.note = (f"no alternate passes every rule ({res.fit} pass form and fit): see "
-                    f"'partsel alternates {part['part_number']} --explain'")
+        rep.note = (f"no alternate passes every rule ({res.fit} pass form and fit): the near "
+                    f"misses of the alternates of {part['part_number']} (explain) say why")

@@ -95,7 +95,7 @@ class Store:
                                    f"{self.path}; it is from {', '.join(others)}: name one of them "
                                    "as the maker, or none")
         if not rows:
-            hint = self._suggest(part_number)
+            hint = self.similar_part_numbers(part_number)
             who = f" from maker '{maker}'" if maker else ""
             raise PartNotFound(f"no part '{part_number}'{who} in the store {self.path}"
                                + (f"; close matches: {', '.join(hint)}" if hint else
@@ -120,10 +120,12 @@ class Store:
                 return [_decode_row(dict(zip(names, r, strict=True))) for r in rows]
         return []
 
-    def _suggest(self, part_number: str, n: int = 3) -> list[str]:
+    def similar_part_numbers(self, part_number: str, n: int = 3) -> list[str]:
+        """The ``n`` stored part numbers most like ``part_number`` (Jaro-Winkler similarity,
+        letter case ignored; ties by part number)."""
         rows = self.con.execute(
             "SELECT part_number FROM parts ORDER BY jaro_winkler_similarity(lower(part_number), "
-            "lower(?)) DESC LIMIT ?", [part_number, n]).fetchall()
+            "lower(?)) DESC, part_number LIMIT ?", [part_number, n]).fetchall()
         return [r[0] for r in rows]
 
     def parts_by_id(self, ids: Iterable[int]) -> list[dict[str, Any]]:

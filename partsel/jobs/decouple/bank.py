@@ -100,8 +100,9 @@ def _refuse_uncovered(parts: Parts, curves: Sequence[MeasuredCurve | None],
                       band: tuple[float, float]) -> None:
     for pn, c, r in zip(parts.part_number, curves, ranges, strict=True):
         if r is None:
-            raise QueryError(f"{pn} has no stored measured sweep; leave out --measured-only to "
-                             "use its model")
+            raise QueryError(f"{pn} has no stored measured sweep; allow the model where "
+                             "there is no measurement to use it")
         if c is None or not c.covers(band):
             raise QueryError(f"{pn} was measured from {_fq(r[0], 'Hz')} to {_fq(r[1], 'Hz')} "
-                             "only; narrow --band to that range or use --measured")
+                             "only; narrow the band to that range or let the model stand in "
+                             "outside it")

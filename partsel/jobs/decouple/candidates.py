@@ -18,7 +18,7 @@ from partsel.errors import QueryError
 from partsel.jobs.decouple.capacitance import capacitance_at_bias, worst_case_ratio
 from partsel.jobs.decouple.inputs import Choice, Prefer, Rail
 from partsel.store.db import Store
-from partsel.store.query import ELECTROLYTE_SQL, membership
+from partsel.store.parts import capacitors
 
 # The rated voltage a part needs by default (:func:`usable`): parts with a derating rule
 # (MnO2 and polymer, :mod:`partsel.derating`) are used up to their derated rating; for the other
@@ -70,11 +70,6 @@ class Parts:
         return pdn.Branches.of(self.c_eff, self.esr, self.l_total, self.tan_delta, counts)
 
 
-_COLUMNS = ("id, part_number, maker, value, tolerance, esr, esl, tan_delta, technology, "
-            "dielectric, \"case\", mounting, rated_voltage, price, stock, lifecycle, bias_v, "
-            "bias_ratio, safety_class, electrolyte")
-
-
 def _parts_from(cols: dict[str, NDArray], rail: Rail) -> Parts:
     value = np.asarray(cols["value"], dtype=float)
     c_bias, source = capacitance_at_bias(
@@ -94,19 +89,6 @@ def _parts_from(cols: dict[str, NDArray], rail: Rail) -> Parts:
         technology=cols["technology"], dielectric=cols["dielectric"],
         rated_voltage=np.asarray(cols["rated_voltage"], dtype=float), mounting=mounting,
         lifecycle=cols["lifecycle"], safety_class=cols["safety_class"])
-
-
-def _where(choice: Choice) -> tuple[str, list[Any]]:
-    conds = ["kind = 'capacitor'"]
-    params: list[Any] = []
-    if choice.lifecycles:
-        conds.append("list_contains(?, coalesce(lower(lifecycle), 'active'))")
-        params.append([x.lower() for x in choice.lifecycles])
-    more, more_params = membership(choice.cases, choice.dielectrics, choice.technologies,
-                                   choice.makers, choice.in_stock)
-    conds += more
-    params += more_params
-    return " AND ".join(conds), params
 
 
 def usable(voltage: float, rated_voltage: ArrayLike, technology: Sequence[Any],
@@ -131,9 +113,9 @@ def voltage_rule_text(voltage: float, override: float | None = None) -> str:
 
 def load_candidates(store: Store, rail: Rail, choice: Choice) -> tuple[Parts, list[str], int]:
     """Capacitors that pass the filters and carry a usable model: (parts, notes, considered)."""
-    where, params = _where(choice)
-    cols = store.arrays(f"SELECT {_COLUMNS} FROM (SELECT *, {ELECTROLYTE_SQL} AS electrolyte "
-                        f"FROM parts WHERE {where}) ORDER BY id", params)
+    cols = capacitors(store, lifecycles=choice.lifecycles, cases=choice.cases,
+                      dielectrics=choice.dielectrics, technologies=choice.technologies,
+                      makers=choice.makers, in_stock=choice.in_stock)
     considered = len(cols["id"])
     notes: list[str] = []
     if considered == 0:
@@ -164,7 +146,7 @@ def load_candidates(store: Store, rail: Rail, choice: Choice) -> tuple[Parts, li
     drop(diel_unknown, "MLCCs without a dielectric code (their DC-bias loss is unknown)")
     if choice.prefer == "cost" or choice.max_cost is not None:
         drop(~np.isfinite(np.asarray(cols["price"], dtype=float)),
-             "no price in the store (needed by --prefer cost / --max-cost)")
+             "no price in the store (needed to prefer cost or to limit it)")
     idx = np.flatnonzero(keep)
     if idx.size == 0:
         raise QueryError("no capacitor is left to plan with: " + "; ".join(notes))

@@ -16,7 +16,7 @@ from partsel.jobs.decouple.candidates import Parts
 from partsel.store.db import Store
 
 if TYPE_CHECKING:
-    from partsel.jobs.measured import StoredSweep
+    from partsel.store.sweeps import StoredSweep
 
 TWO_PI = 2.0 * np.pi
 
@@ -140,7 +140,7 @@ def measured_curves(store: Store, parts: Parts, band: tuple[float, float]
                     ) -> tuple[list[MeasuredCurve | None], list[tuple[float, float] | None]]:
     """Each part's latest stored sweep as a :class:`MeasuredCurve` when it reaches ``band``
     (else None), and the range of every part's sweep (None: the part has none)."""
-    from partsel.jobs.measured import latest_sweeps_by_id
+    from partsel.store.sweeps import latest_sweeps_by_id
 
     sweeps: dict[int, StoredSweep] = latest_sweeps_by_id(store)
     out: list[MeasuredCurve | None] = []
