@@ -118,7 +118,7 @@ def test_working_voltage_uses_the_derated_rating(make_store):
             cap("TP16", rated_voltage="16V", electrolyte="polymer", **tant),   # 12.8 V usable
             cap("TP12", rated_voltage="12V", electrolyte="polymer", **tant)]   # 9.6 V usable
     res = run(make_store(rows), working_voltage=10.0, within_db=None, explain=True)
-    # domain notes s. 7: usable = 50 % (MnO2) or 80 % (polymer above 10 V) of the rating
+    # rule of thumb: usable = 50 % (MnO2) or 80 % (polymer above 10 V) of the rating
     assert names(res.candidates) == {"T20", "TP16"}
     assert failed(res) == {"T16": ["voltage"], "TP12": ["voltage"]}
     t16 = next(c for c in res.near_misses if c.part["part_number"] == "T16")
@@ -130,7 +130,7 @@ def test_original_below_its_working_voltage_is_noted(make_store):
             "esr": "1", "esl": "2nH", "height": "2.1mm"}
     rows = [cap("ORIG", rated_voltage="16V", **tant), cap("T35", rated_voltage="35V", **tant)]
     res = run(make_store(rows), working_voltage=10.0)
-    # domain notes s. 7: a 16 V MnO2 tantalum is usable to 8 V, below the working 10 V
+    # rule of thumb: a 16 V MnO2 tantalum is usable to 8 V, below the working 10 V
     assert res.notes == ["the original itself is rated 16 V (MnO2 tantalum derated to 50 %): "
                          "below the working voltage 10 V"]
     assert names(res.candidates) == {"T35"}

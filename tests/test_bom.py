@@ -1,8 +1,8 @@
 """Parts-list check: reading line by line, statuses and actions on hand-made stores, alternates,
 exit codes, formats, and the demo parts list in data_demo/.
 
-Sources: voltage derating by technology from the shared domain notes section 7 (rule of
-thumb: MnO2 tantalum up to 50 % of its rating); everything else is known by construction.
+Sources: voltage derating by technology (rule of thumb, common practice, no single source: MnO2
+tantalum up to 50 % of its rating); everything else is known by construction.
 """
 
 from __future__ import annotations
@@ -220,7 +220,7 @@ def test_working_voltage_above_the_derated_rating(make_store):
     store = make_store(ROWS)
     text = "part_number,working_voltage\nT16,6V\nT16,10V\nT35,10V\nACT,12V\nACT,20V\n"
     lines = by_line(check(store, text))
-    # domain notes s. 7: MnO2 tantalum up to 50 % of its rating -> 16 V usable to 8 V
+    # rule of thumb: MnO2 tantalum up to 50 % of its rating -> 16 V usable to 8 V
     assert not lines[2].needs_action
     assert lines[3].reasons == ["rated 16 V, usable to 8 V (MnO2 tantalum derated to 50 %): "
                                 "below the working voltage 10 V"]

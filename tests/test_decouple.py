@@ -149,7 +149,7 @@ def test_plan_with_plane_and_regulator(cli, catalog):
                              "--vrm-l", "10nH")
     assert code == 0
     plane, vrm = data["board"]
-    # derived (shared domain notes section 4): 1 in^2, 4 mil, eps_r 4.3 -> 241.8 pF;
+    # derived: 1 in^2, 4 mil, eps_r 4.3 -> 241.8 pF;
     # spreading inductance mu0 * d for one square (derived)
     assert plane["name"] == "plane"
     assert_allclose(plane["c_eff_f"], 241.8e-12, rtol=2e-4)
@@ -295,7 +295,7 @@ def test_capacitance_beyond_the_measured_curve_is_not_extrapolated_upwards():
 
 
 def test_worst_case_multiplies_tolerance_temperature_and_aging(cli, catalog):
-    # derived (shared domain notes section 2): worst-case C multiplies tolerance (10 %),
+    # derived: worst-case C multiplies tolerance (10 %),
     # the EIA-198 change of X7R (-15 %) and aging k = 2.5 %/decade over 1 h .. 87,600 h
     aging = 1 - 0.025 * np.log10(87_600)
     got = dec.worst_case_ratio(np.array([0.10, np.nan, 0.05]),
