@@ -219,11 +219,16 @@ def test_v1_noise_block_after_two_port_data_is_skipped():
 
 # --- impedance from fixtures --------------------------------------------------------------------
 
-def _skrf_fixtures(z_part_network_builder):
+def _skrf_fixture(fixture):
+    """scikit-rf's network of the part (series R-L-C) mounted in ``fixture``, and its grid."""
     freq = skrf.Frequency(10, 1000, 41, unit="MHz")
     media = skrf.media.DefinedGammaZ0(freq, z0=50)
     series = media.resistor(ESR) ** media.inductor(ESL) ** media.capacitor(C)
-    return freq, z_part_network_builder(media, series)
+    if fixture == "shunt-thru":
+        return freq, media.shunt(series ** media.short())
+    if fixture == "series-thru":
+        return freq, series
+    return freq, series ** media.short()
 
 
 # A shunt part has no Y matrix and a series part no Z matrix, so those pairs are left out.
@@ -232,13 +237,7 @@ def _skrf_fixtures(z_part_network_builder):
     ("reflection", "S"), ("reflection", "Z"), ("reflection", "Y"),
 ])
 def test_fixture_impedance_from_skrf_networks(tmp_path, fixture, kind):
-    def build(media, series):
-        if fixture == "shunt-thru":
-            return media.shunt(series ** media.short())
-        if fixture == "series-thru":
-            return series
-        return series ** media.short()
-    freq, net = _skrf_fixtures(build)
+    freq, net = _skrf_fixture(fixture)
     net.name = "dut"
     path = tmp_path / f"dut.s{net.nports}p"
     path.write_text(net.write_touchstone(return_string=True, parameter=kind))
@@ -252,13 +251,7 @@ def test_fixture_impedance_from_skrf_networks(tmp_path, fixture, kind):
 def test_fixture_s_parameters_match_skrf_networks(fixture):
     """The S-parameters of a modeled part in each fixture equal those scikit-rf builds from the
     same R, L, C (its media elements and cascades are the reference)."""
-    def build(media, series):
-        if fixture == "shunt-thru":
-            return media.shunt(series ** media.short())
-        if fixture == "series-thru":
-            return series
-        return series ** media.short()
-    freq, net = _skrf_fixtures(build)
+    freq, net = _skrf_fixture(fixture)
     s = s_parameters(capacitor.impedance(freq.f, C, ESR, ESL), fixture)
     np.testing.assert_allclose(s, net.s, rtol=1e-9, atol=1e-12)
 

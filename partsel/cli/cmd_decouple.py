@@ -87,6 +87,35 @@ def render_text(res: Any) -> str:
     return "\n".join(lines)
 
 
+def _rail_spec(rail: str | None, target: str | None, ripple: str | None, step: str | None,
+               band: str | None, board_text: tuple[Any, ...], worst_case: bool,
+               margin: str | None) -> Any:
+    """The Rail from the command's words: a target, or a ripple with a current step, and the
+    board (:func:`partsel.jobs.decouple.board_from_text` of ``board_text``)."""
+    from partsel.jobs import decouple as dec
+
+    if rail is None:
+        raise QueryError("give the rail voltage with --rail, e.g. --rail 1.0V: it sets the DC "
+                         "bias of class II ceramics and the minimum rated voltage")
+    if band is None:
+        raise QueryError("give the band with --band, e.g. --band 10kHz..100MHz")
+    voltage = units.parse_quantity(rail, "V", what="--rail")
+    f_band = units.parse_band(band)
+    board = dec.board_from_text(*board_text)
+    share = units.parse_percent(margin, "--margin") if margin is not None else 0.0
+    if target is not None:
+        if ripple is not None or step is not None:
+            raise QueryError("give either --target or --ripple with --step, not both")
+        return dec.Rail(voltage, units.parse_quantity(target, "ohm", what="--target"), f_band,
+                        board, worst_case, share)
+    if ripple is not None and step is not None:
+        return dec.Rail.from_ripple(voltage, units.parse_percent(ripple, "--ripple"),
+                                    units.parse_quantity(step, "A", what="--step"), f_band,
+                                    board, worst_case, share)
+    raise QueryError("give the target impedance: --target Z, or --ripple PCT with "
+                     "--step I (Z_t = V x ripple / step)")
+
+
 Texts = list[str] | None
 
 
@@ -195,27 +224,8 @@ def decouple_cmd(
     from partsel.jobs import decouple as dec
 
     fmt = opt.check_format(fmt)
-    if rail is None:
-        raise QueryError("give the rail voltage with --rail, e.g. --rail 1.0V: it sets the DC "
-                         "bias of class II ceramics and the minimum rated voltage")
-    if band is None:
-        raise QueryError("give the band with --band, e.g. --band 10kHz..100MHz")
-    voltage = units.parse_quantity(rail, "V", what="--rail")
-    f_band = units.parse_band(band)
-    board = dec.board_from_text(mount_l, plane, plane_l, vrm_r, vrm_l)
-    share = units.parse_percent(margin, "--margin") if margin is not None else 0.0
-    if target is not None:
-        if ripple is not None or step is not None:
-            raise QueryError("give either --target or --ripple with --step, not both")
-        spec = dec.Rail(voltage, units.parse_quantity(target, "ohm", what="--target"), f_band,
-                        board, worst_case, share)
-    elif ripple is not None and step is not None:
-        spec = dec.Rail.from_ripple(voltage, units.parse_percent(ripple, "--ripple"),
-                                    units.parse_quantity(step, "A", what="--step"), f_band, board,
-                                    worst_case, share)
-    else:
-        raise QueryError("give the target impedance: --target Z, or --ripple PCT with "
-                         "--step I (Z_t = V x ripple / step)")
+    spec = _rail_spec(rail, target, ripple, step, band, (mount_l, plane, plane_l, vrm_r, vrm_l),
+                      worst_case, margin)
     with open_store_for(ctx) as store:
         if check_file is not None:
             res = dec.check(store, spec, dec.read_bank(check_file), measured=measured,

@@ -30,8 +30,6 @@ from partsel.store.db import Store
 from partsel.store.parts import numbered
 from partsel.units import format_quantity
 
-STATUSES = ("found", "unknown", "ambiguous", "malformed")
-
 
 @dataclass
 class LineReport:

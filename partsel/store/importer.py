@@ -39,8 +39,6 @@ from partsel.io.catalog import normalise_header, read_cells
 from partsel.io.mapping import Mapping, apply_mapping, read_mapping
 from partsel.store.db import Store
 
-MAX_LISTED = 20
-
 
 @dataclass(frozen=True)
 class Problem:

@@ -31,8 +31,8 @@ class MeasuredCurve:
         - \frac{1}{\omega C}\Big)
 
     Z_m is the data read between its points with ln|Z| and unwrapped phase linear in ln f
-    (:func:`partsel.jobs.measured.interpolate`); the last term is the series R-L-C model's own
-    change when C falls to C_eff (any circuit-theory text), zero when nothing is lost.
+    (:func:`partsel.jobs.measured_curves.interpolate`); the last term is the series R-L-C
+    model's own change when C falls to C_eff (any circuit-theory text), zero when nothing is lost.
     """
 
     f: NDArray            # measured frequencies [Hz], increasing
@@ -52,7 +52,7 @@ class MeasuredCurve:
 
     def impedance(self, f: NDArray) -> NDArray[np.complex128]:
         """Z at ``f`` [ohm]; NaN outside the measured range."""
-        from partsel.jobs.measured import interpolate
+        from partsel.jobs.measured_curves import interpolate
 
         fa = np.asarray(f, dtype=float)
         w = TWO_PI * fa
