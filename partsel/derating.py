@@ -70,8 +70,9 @@ def derating_factors(technology: Sequence[Any], electrolyte: Sequence[Any],
                      rated_voltage: ArrayLike) -> NDArray[np.float64]:
     """:func:`derating` of many parts at once: the usable fraction of each rating."""
     rated = np.asarray(rated_voltage, dtype=float)
-    systems = np.array([system(t, e) for t, e in zip(technology, electrolyte, strict=True)],
-                       dtype=object)
+    cache: dict[tuple[Any, Any], str | None] = {}  # a catalog has few distinct pairs
+    systems = np.array([cache[k] if (k := (t, e)) in cache else cache.setdefault(k, system(t, e))
+                        for t, e in zip(technology, electrolyte, strict=True)], dtype=object)
     out = np.full(rated.shape, NO_DERATING)
     for name, steps in DERATING.items():
         mask = systems == name
