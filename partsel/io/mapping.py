@@ -205,8 +205,8 @@ def parse_mapping(text: str, label: str = "mapping") -> Mapping:
     try:
         doc = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        raise FileFormatError(f"{label}: not valid TOML: {exc}; see the example in "
-                              "'partsel import --help'") from None
+        raise FileFormatError(f"{label}: not valid TOML: {exc}; the import command's help "
+                              "shows an example mapping") from None
     unknown = [k for k in doc if k not in _TOP_KEYS]
     if unknown:
         raise FileFormatError(f"{label}: unknown key or table '{unknown[0]}'; a mapping has "
