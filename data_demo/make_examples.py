@@ -25,6 +25,7 @@ import pandas as pd
 
 from partsel.demo import generate
 from partsel.engine import capacitor, inductor
+from partsel.engine.fixture import s_parameters
 from partsel.io.touchstone import write_touchstone
 
 HERE = Path(__file__).parent
@@ -62,7 +63,7 @@ def capacitor_sweep(catalog: pd.DataFrame, rng: np.random.Generator) -> dict:
     # a weak fixture resonance near 700 MHz that the part's model does not have
     z = z * (1 + 0.25j * (f / 700e6) / (1 + 1j * (f / 700e6 - 700e6 / f) * 8))
     z = _noise(z, rng, 0.01)
-    text = write_touchstone(f, z, fixture="shunt-thru", fmt="DB", unit="MHz",
+    text = write_touchstone(f, s_parameters(z, "shunt-thru"), fmt="DB", unit="MHz",
                             comments=[BANNER, f"part {part['part_number']} "
                                       f"({part['maker']}), shunt-thru fixture, 50 ohm ports",
                                       "Z0 50 ohm, IF bandwidth 100 Hz (invented)"])

@@ -31,7 +31,7 @@ from typing import Any
 __version__ = "0.1.0"
 
 _EXPORTS = {
-    "open_store": "partsel.store.db",
+    "open_store": "partsel.jobs.default_store",
     "Store": "partsel.store.db",
     "import_catalog": "partsel.store.importer",
     "check_catalog": "partsel.store.importer",
@@ -45,7 +45,7 @@ _EXPORTS = {
     "alternates": "partsel.jobs.alternates",
     "Criteria": "partsel.jobs.alternates",
     "check_bom": "partsel.jobs.bom",
-    "read_parts_list": "partsel.jobs.bom",
+    "read_parts_list": "partsel.io.parts_list",
     "check_inductors": ("partsel.jobs.inductive", "check"),
     "InductorSpec": ("partsel.jobs.inductive", "Spec"),
     "plan_decoupling": ("partsel.jobs.decouple", "plan"),
@@ -53,7 +53,7 @@ _EXPORTS = {
     "Rail": "partsel.jobs.decouple",
     "Board": "partsel.jobs.decouple",
     "Choice": "partsel.jobs.decouple",
-    "read_bank": "partsel.jobs.decouple",
+    "read_bank": "partsel.io.bank",
     "import_sweep": "partsel.jobs.measured",
     "fit_part": "partsel.jobs.measured",
     "undo_fit": "partsel.jobs.measured",

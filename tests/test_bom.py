@@ -1,8 +1,8 @@
 """Parts-list check: reading line by line, statuses and actions on hand-made stores, alternates,
 exit codes, formats, and the demo parts list in data_demo/.
 
-Sources: voltage derating by technology from the shared domain notes section 7 (rule of
-thumb: MnO2 tantalum up to 50 % of its rating); everything else is known by construction.
+Sources: voltage derating by technology (rule of thumb, common practice, no single source: MnO2
+tantalum up to 50 % of its rating); everything else is known by construction.
 """
 
 from __future__ import annotations
@@ -17,8 +17,9 @@ from hypothesis import given
 from hypothesis import strategies as st
 
 from partsel.errors import FileFormatError
+from partsel.io.parts_list import parse_parts_list, read_parts_list
 from partsel.jobs.alternates import Criteria, alternates
-from partsel.jobs.bom import check_bom, parse_parts_list, read_parts_list
+from partsel.jobs.bom import check_bom
 from partsel.store import open_store
 
 DEMO_LIST = Path(__file__).resolve().parent.parent / "data_demo" / "parts_list.csv"
@@ -219,7 +220,7 @@ def test_working_voltage_above_the_derated_rating(make_store):
     store = make_store(ROWS)
     text = "part_number,working_voltage\nT16,6V\nT16,10V\nT35,10V\nACT,12V\nACT,20V\n"
     lines = by_line(check(store, text))
-    # domain notes s. 7: MnO2 tantalum up to 50 % of its rating -> 16 V usable to 8 V
+    # rule of thumb: MnO2 tantalum up to 50 % of its rating -> 16 V usable to 8 V
     assert not lines[2].needs_action
     assert lines[3].reasons == ["rated 16 V, usable to 8 V (MnO2 tantalum derated to 50 %): "
                                 "below the working voltage 10 V"]
@@ -353,7 +354,8 @@ def test_alternates_whose_stock_covers_the_quantity_come_first(make_store, tmp_p
             dict(base, part_number="CLOSE", value="100nF", esr="20mohm", stock="5"),
             dict(base, part_number="FAR", value="100nF", esr="24mohm", stock="5000")]
     store = make_store(rows)
-    from partsel.jobs.bom import check_bom, parse_parts_list
+    from partsel.io.parts_list import parse_parts_list
+    from partsel.jobs.bom import check_bom
     from partsel.store import open_store
     with open_store(store) as s:
         rep = check_bom(s, parse_parts_list("part_number,quantity\nOLD,100\n"))

@@ -14,6 +14,7 @@ import numpy as np
 import pytest
 
 from partsel.engine import capacitor, inductor
+from partsel.engine.fixture import s_parameters
 from partsel.io.touchstone import write_touchstone
 from partsel.jobs.measured import latest_sweep
 from partsel.store import open_store
@@ -262,7 +263,7 @@ def test_sweep_import_with_fit_recovers_an_inductor(store, cli, tmp_path):
     cp = float(inductor.winding_capacitance(10e-6, 30e6))
     z = _noisy(inductor.impedance(f, 10e-6, 50e-3, cp, 20e3), seed=22)
     path = tmp_path / "l.s1p"
-    path.write_text(write_touchstone(f, z, fixture="reflection", fmt="MA", unit="MHz"))
+    path.write_text(write_touchstone(f, s_parameters(z, "reflection"), fmt="MA", unit="MHz"))
     res = cli("--store", store, "sweep", "import", path, "--part", "L10U", "--fit")
     assert res.exit_code == 0, res.output
     assert "Stored as the part's model (measured fit)" in res.stdout
@@ -279,8 +280,8 @@ def test_shunt_thru_two_port_through_the_cli(store, cli, tmp_path):
     # a 100 nF / 10 mOhm / 0.8 nH part in a shunt-thru fixture, written in DB with repr digits
     f = np.logspace(5, 9, 200)
     path = tmp_path / "c.s2p"
-    path.write_text(write_touchstone(f, capacitor.impedance(f, 100e-9, 10e-3, 0.8e-9),
-                                     fixture="shunt-thru", fmt="DB"))
+    z = capacitor.impedance(f, 100e-9, 10e-3, 0.8e-9)
+    path.write_text(write_touchstone(f, s_parameters(z, "shunt-thru"), fmt="DB"))
     _one_error(cli("--store", store, "sweep", "import", path, "--part", "C100N"), "--fixture")
     res = cli("--store", store, "sweep", "import", path, "--part", "C100N", "--fixture",
               "shunt-thru", "--fit")

@@ -15,10 +15,10 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 
-from partsel.cli.cmd_decouple import parse_area, parse_length, parse_mount_l
 from partsel.engine import ceramic
 from partsel.errors import FileFormatError, QueryError
 from partsel.jobs import decouple as dec
+from partsel.jobs.decouple.board_options import parse_area, parse_length, parse_mount_l
 from partsel.jobs.models import bias_ratios
 from partsel.store import open_store
 from partsel.units import format_quantity, parse_quantity
@@ -149,7 +149,7 @@ def test_plan_with_plane_and_regulator(cli, catalog):
                              "--vrm-l", "10nH")
     assert code == 0
     plane, vrm = data["board"]
-    # derived (shared domain notes section 4): 1 in^2, 4 mil, eps_r 4.3 -> 241.8 pF;
+    # derived: 1 in^2, 4 mil, eps_r 4.3 -> 241.8 pF;
     # spreading inductance mu0 * d for one square (derived)
     assert plane["name"] == "plane"
     assert_allclose(plane["c_eff_f"], 241.8e-12, rtol=2e-4)
@@ -295,7 +295,7 @@ def test_capacitance_beyond_the_measured_curve_is_not_extrapolated_upwards():
 
 
 def test_worst_case_multiplies_tolerance_temperature_and_aging(cli, catalog):
-    # derived (shared domain notes section 2): worst-case C multiplies tolerance (10 %),
+    # derived: worst-case C multiplies tolerance (10 %),
     # the EIA-198 change of X7R (-15 %) and aging k = 2.5 %/decade over 1 h .. 87,600 h
     aging = 1 - 0.025 * np.log10(87_600)
     got = dec.worst_case_ratio(np.array([0.10, np.nan, 0.05]),
@@ -493,7 +493,7 @@ def test_check_warns_about_ratings_and_lifecycle(cli, catalog, tmp_path):
     r = cli("--store", catalog, "decouple", "--rail", "3.3V", "--target", "20mohm", "--band",
             "100kHz..10MHz", "--check", bank)
     assert r.exit_code in (0, 1), r.output
-    assert "LOWV: rated 4 V, below the usual margin" in r.stderr
+    assert "LOWV: rated 4 V, below the design margin" in r.stderr
     assert "NRND: lifecycle nrnd" in r.stderr
 
 
@@ -547,7 +547,7 @@ def test_read_bank_separators_aliases_and_repeats(cli, make_store, tmp_path):
 
 
 def test_read_bank_missing_file(tmp_path):
-    with pytest.raises(FileFormatError, match="no bank file"):
+    with pytest.raises(FileFormatError, match="no such bank file"):
         dec.read_bank(tmp_path / "nope.csv")
 
 
@@ -605,6 +605,34 @@ def test_parse_mount_l_round_trip(one, by_case, give_one):
         assert_allclose(got["mount_l_by_case"][k], v * 1e-9, rtol=1e-12)
 
 
+def test_board_from_text_reads_every_part_of_the_board():
+    board = dec.board_from_text(["0.2nH,0402=0.1nH", "0603=0.15nH"], "1in2,4mil,4.3,0.02",
+                                None, "2mohm", "10nH")
+    assert board.mount_l == pytest.approx(0.2e-9, rel=1e-12)
+    assert board.mount_l_by_case == pytest.approx({"0402": 0.1e-9, "0603": 0.15e-9}, rel=1e-12)
+    # derived: C = eps0 eps_r A / d, 1 in^2 over 4 mil at eps_r 4.3 is 241.8 pF; L = mu0 d
+    assert board.plane_c == pytest.approx(EPS0 * 4.3 * 0.0254**2 / (4 * 25.4e-6), rel=1e-9)
+    assert board.plane_l == pytest.approx(MU0 * 4 * 25.4e-6, rel=1e-9)
+    assert board.plane_tan_delta == 0.02
+    assert (board.vrm_r, board.vrm_l) == pytest.approx((2e-3, 10e-9), rel=1e-12)
+    assert dec.board_from_text() == dec.Board()
+    given_c = dec.board_from_text(plane="10nF", plane_l="50pH")
+    assert (given_c.plane_c, given_c.plane_l) == pytest.approx((10e-9, 50e-12), rel=1e-12)
+
+
+@pytest.mark.parametrize("kwargs, message", [
+    ({"plane_l": "1nH"}, "needs the plane pair"),
+    ({"plane": "10nF"}, "needs its spreading inductance"),
+    ({"plane": "1in2,4mil"}, "cannot read the plane"),
+    ({"mount_l": "1nH,2nH"}, "takes one value for every part"),
+    ({"mount_l": "=1nH"}, "names no case"),
+])
+def test_board_from_text_errors_name_no_flag(kwargs, message):
+    with pytest.raises(QueryError, match=message) as exc:
+        dec.board_from_text(**kwargs)
+    assert "--" not in str(exc.value)
+
+
 # --- the command line -------------------------------------------------------------------------
 
 @pytest.mark.parametrize("args, message", [
@@ -614,15 +642,15 @@ def test_parse_mount_l_round_trip(one, by_case, give_one):
     (["--rail", "1V", "--target", "3mohm", "--ripple", "3%", "--step", "1A", "--band",
       "1MHz..10MHz"], "either --target or --ripple with --step"),
     (["--rail", "1V", "--target", "3mohm", "--band", "1MHz..10MHz", "--plane-l", "1nH"],
-     "--plane-l needs --plane"),
+     "a plane spreading inductance needs the plane pair"),
     (["--rail", "1V", "--target", "3mohm", "--band", "1MHz..10MHz", "--plane", "10nF"],
      "needs its spreading inductance"),
     (["--rail", "1V", "--target", "3mohm", "--band", "1MHz..10MHz", "--plane", "1in2,4mil"],
-     "cannot read --plane"),
+     "cannot read the plane '1in2,4mil'"),
     (["--rail", "1V", "--target", "3mohm", "--band", "1MHz..10MHz", "--vrm-r", "1mohm"],
      "needs both --vrm-r and --vrm-l"),
     (["--rail", "1V", "--target", "3mohm", "--band", "1MHz..10MHz", "--mount-l",
-      "1nH,2nH"], "--mount-l takes one value"),
+      "1nH,2nH"], "the mounting inductance takes one value"),
     (["--rail", "1V", "--target", "3mohm", "--band", "1MHz..10MHz", "--mount-l", "=1nH"],
      "names no case"),
     (["--rail", "1V", "--target", "3mohm", "--band", "1MHz..10MHz", "--prefer", "size"],

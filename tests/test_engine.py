@@ -12,7 +12,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 
-from partsel.engine import band, capacitor, inductor, network
+from partsel.engine import band, capacitor, inductor, pdn
 
 TWO_PI = 2 * np.pi
 
@@ -198,19 +198,21 @@ def test_band_bounds_for_decoupling_derived():
     assert band.capacitor_band(1e6, 30e6, 1.0, 0.0, l_max * 1.001).max_z > 0.5
 
 
-# --- network ----------------------------------------------------------------------------------
+# --- branches in parallel (engine/pdn) ---------------------------------------------------------
 def test_two_branch_anti_resonance_derived():
-    # shared domain notes section 4 (exact complex evaluation): 10 uF/1 nH/5 mOhm in parallel
-    # with 100 nF/1 nH/20 mOhm peaks near 0.205 ohm at about 11.2 MHz
+    # derived (exact complex evaluation): 10 uF/1 nH/5 mOhm in parallel with 100 nF/1 nH/20 mOhm
+    # peaks near 0.205 ohm at about 11.2 MHz
     f = np.geomspace(5e6, 20e6, 200_001)  # around the anti-resonance, below the ESL rise
     z1 = capacitor.impedance(f, 10e-6, 5e-3, 1e-9)
     z2 = capacitor.impedance(f, 100e-9, 20e-3, 1e-9)
-    zt = np.abs(network.parallel(np.stack([z1, z2])))
+    zt = np.abs(pdn.Branches.of([10e-6, 100e-9], [5e-3, 20e-3], [1e-9, 1e-9]).total(f))
+    # circuit theory: admittances add as complex numbers
+    assert_allclose(zt, np.abs(1 / (1 / z1 + 1 / z2)), rtol=1e-12)
     k = np.argmax(zt)
     assert_allclose(zt[k], 0.205, rtol=0.01)
     assert_allclose(f[k], 11.2e6, rtol=0.01)
     # derived: f_ar = 1/(2 pi sqrt((L1+L2) C1 C2/(C1+C2)))
-    # (lossless; the ESRs move the exact peak about 1.3 % lower, as the notes say: 11.31 MHz)
+    # (lossless; the ESRs move the exact peak about 1.3 % lower than this 11.31 MHz)
     f_ar = 1 / (TWO_PI * np.sqrt(2e-9 * 10e-6 * 100e-9 / (10.1e-6)))
     assert_allclose(f_ar, 11.31e6, rtol=1e-3)
     assert_allclose(f[k], f_ar, rtol=0.02)
@@ -219,8 +221,7 @@ def test_two_branch_anti_resonance_derived():
 def test_parallel_identical_parts_derived():
     # circuit theory: N identical parts divide ESR and ESL by N and multiply C by N
     f = np.geomspace(1e3, 1e9, 50)
-    z1 = capacitor.impedance(f, 1e-6, 0.01, 1e-9)
-    z4 = network.parallel(z1[None, :], counts=[4])
+    z4 = pdn.Branches.of(1e-6, 0.01, 1e-9, count=4).total(f)
     assert_allclose(z4, capacitor.impedance(f, 4e-6, 0.0025, 0.25e-9), rtol=1e-12)
 
 

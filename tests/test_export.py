@@ -16,8 +16,9 @@ import pandas as pd
 import pytest
 
 from partsel.engine import capacitor, inductor
+from partsel.engine.fixture import impedance_from
 from partsel.errors import QueryError, StoreError
-from partsel.io.touchstone import impedance_from, read_touchstone
+from partsel.io.touchstone import read_touchstone
 from partsel.jobs.export import catalog_frame, spice_library, touchstone_text, write_atomic
 from partsel.jobs.measured import store_sweep
 from partsel.store import open_store
@@ -152,7 +153,7 @@ def test_touchstone_reads_back_to_the_model(make_store, tmp_path, fixture, fmt):
     assert data.f[0] == pytest.approx(1e4) and data.f[-1] == pytest.approx(1e9)
     want = capacitor.impedance(data.f, p["value"], p["esr"], p["esl"])
     # repr numbers: RI round-trips to rounding; MA/DB through log/angle lose a few ulps, and
-    # series-thru at low |Z| loses digits in 1 - S21 (domain notes section 6)
+    # series-thru at low |Z| loses digits in 1 - S21
     tol = {"RI": 1e-12, "MA": 1e-9, "DB": 1e-6}[fmt]
     np.testing.assert_allclose(impedance_from(data, fixture), want, rtol=tol)
 

@@ -198,6 +198,11 @@ def test_cli_bad_input(cli, store, args, words):
     assert len(lines) == 1 and lines[0].startswith("Error: ") and words in lines[0]
 
 
+def test_a_search_with_nothing_to_search_for_is_refused_by_the_library(store):
+    with open_store(store) as s, pytest.raises(QueryError, match="nothing to search for"):
+        find(s, Search("inductor", min_q=(30.0, 10e6)))
+
+
 def test_capacitor_search_refuses_inductor_criteria(store):
     with open_store(store) as s, pytest.raises(QueryError, match="apply to inductors"):
         find(s, Search("capacitor", inductive_to=30e6))

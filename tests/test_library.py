@@ -49,3 +49,36 @@ def test_plots_leave_the_matplotlib_backend_alone(tmp_path):
     plot.save(plot.Figure(np.geomspace(1e3, 1e6, 20), [("a", np.ones(20) + 1j)]),
               tmp_path / "z.png")
     assert matplotlib.get_backend() == before and (tmp_path / "z.png").stat().st_size > 0
+
+
+def test_first_use_of_the_default_store_fills_it_with_the_demo_catalog():
+    from partsel.demo import DEFAULT_PARTS
+    from partsel.store import default_store_path
+
+    with partsel.open_store() as store:          # no path, no $PARTSEL_STORE (conftest)
+        assert store.path == default_store_path() and store.read_only
+        assert store.count() == DEFAULT_PARTS
+        assert len(store.notices) == 1 and "bundled demo catalog" in store.notices[0]
+        assert "--" not in store.notices[0]      # a library notice names no command-line flag
+    with partsel.open_store() as again:
+        assert again.notices == [] and again.count() == DEFAULT_PARTS
+
+
+def test_the_store_layer_alone_creates_no_demo_store():
+    from partsel.errors import StoreError
+    from partsel.store import default_store_path, open_store
+
+    with pytest.raises(StoreError, match="no store at"):
+        open_store()
+    assert not default_store_path().exists()
+
+
+def test_the_store_layer_does_not_import_the_demo():
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    code = ("import sys, partsel.store.db, partsel.store.importer; "
+            "sys.exit(int('partsel.demo' in sys.modules))")
+    root = Path(__file__).resolve().parents[1]   # this checkout's package, not an installed one
+    assert subprocess.run([sys.executable, "-c", code], cwd=root, check=False).returncode == 0

@@ -145,7 +145,7 @@ def test_pass_through_column_may_not_shadow_a_mapped_one():
 
 
 def test_read_mapping_file_errors(tmp_path):
-    with pytest.raises(FileFormatError, match="cannot read the mapping"):
+    with pytest.raises(FileFormatError, match="no such mapping"):
         read_mapping(tmp_path / "missing.toml")
     bad = tmp_path / "bad.toml"
     bad.write_bytes(b"[columns]\nvalue = \"\xff\"\n")

@@ -156,7 +156,7 @@ def test_bad_units_raise_unit_error():
 
 
 def test_missing_file():
-    with pytest.raises(FileFormatError, match="cannot read"):
+    with pytest.raises(FileFormatError, match="no such sweep file"):
         read_sweep_csv("/nonexistent/dir/sweep.csv")
 
 

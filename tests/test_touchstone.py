@@ -11,8 +11,9 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from partsel.engine import capacitor, inductor
+from partsel.engine.fixture import impedance_from, s_parameters
 from partsel.errors import FileFormatError, UnitError
-from partsel.io.touchstone import impedance_from, read_touchstone, write_touchstone
+from partsel.io.touchstone import read_touchstone, write_touchstone
 
 skrf = pytest.importorskip("skrf")
 
@@ -218,11 +219,16 @@ def test_v1_noise_block_after_two_port_data_is_skipped():
 
 # --- impedance from fixtures --------------------------------------------------------------------
 
-def _skrf_fixtures(z_part_network_builder):
+def _skrf_fixture(fixture):
+    """scikit-rf's network of the part (series R-L-C) mounted in ``fixture``, and its grid."""
     freq = skrf.Frequency(10, 1000, 41, unit="MHz")
     media = skrf.media.DefinedGammaZ0(freq, z0=50)
     series = media.resistor(ESR) ** media.inductor(ESL) ** media.capacitor(C)
-    return freq, z_part_network_builder(media, series)
+    if fixture == "shunt-thru":
+        return freq, media.shunt(series ** media.short())
+    if fixture == "series-thru":
+        return freq, series
+    return freq, series ** media.short()
 
 
 # A shunt part has no Y matrix and a series part no Z matrix, so those pairs are left out.
@@ -231,13 +237,7 @@ def _skrf_fixtures(z_part_network_builder):
     ("reflection", "S"), ("reflection", "Z"), ("reflection", "Y"),
 ])
 def test_fixture_impedance_from_skrf_networks(tmp_path, fixture, kind):
-    def build(media, series):
-        if fixture == "shunt-thru":
-            return media.shunt(series ** media.short())
-        if fixture == "series-thru":
-            return series
-        return series ** media.short()
-    freq, net = _skrf_fixtures(build)
+    freq, net = _skrf_fixture(fixture)
     net.name = "dut"
     path = tmp_path / f"dut.s{net.nports}p"
     path.write_text(net.write_touchstone(return_string=True, parameter=kind))
@@ -245,6 +245,15 @@ def test_fixture_impedance_from_skrf_networks(tmp_path, fixture, kind):
     # engine series R-L-C model; scikit-rf builds the network from the same R, L, C
     expected = capacitor.impedance(freq.f, C, ESR, ESL)
     np.testing.assert_allclose(z, expected, rtol=1e-9)
+
+
+@pytest.mark.parametrize("fixture", ["shunt-thru", "series-thru", "reflection"])
+def test_fixture_s_parameters_match_skrf_networks(fixture):
+    """The S-parameters of a modeled part in each fixture equal those scikit-rf builds from the
+    same R, L, C (its media elements and cascades are the reference)."""
+    freq, net = _skrf_fixture(fixture)
+    s = s_parameters(capacitor.impedance(freq.f, C, ESR, ESL), fixture)
+    np.testing.assert_allclose(s, net.s, rtol=1e-9, atol=1e-12)
 
 
 def test_fixture_errors():
@@ -263,7 +272,8 @@ def _round_sig(text_values: list[float], digits: int) -> list[float]:
 
 def _rounded_file(f, z, fixture, fmt, digits):
     """A .s2p of the thru fixture with every number rounded to `digits` significant digits."""
-    exact = read_touchstone(write_touchstone(f, z, fixture=fixture, fmt=fmt), name="x.s2p")
+    exact = read_touchstone(write_touchstone(f, s_parameters(z, fixture), fmt=fmt),
+                            name="x.s2p")
     lines = [f"# Hz S {fmt} R 50"]
     for fi, p in zip(f, exact.params, strict=True):
         vals = [p[0, 0], p[1, 0], p[0, 1], p[1, 1]]
@@ -332,7 +342,8 @@ def test_series_thru_loses_the_part_at_low_impedance():
 def test_write_read_round_trip_and_skrf(tmp_path, fmt, fixture, unit):
     f = np.logspace(3, 9, 61)
     z = capacitor.impedance(f, C, ESR, ESL)
-    text = write_touchstone(f, z, fixture=fixture, fmt=fmt, unit=unit, comments=["made by test"])
+    text = write_touchstone(f, s_parameters(z, fixture), fmt=fmt, unit=unit,
+                            comments=["made by test"])
     n = 1 if fixture == "reflection" else 2
     path = tmp_path / f"rt.s{n}p"
     path.write_text(text)
@@ -351,13 +362,17 @@ def test_write_read_round_trip_and_skrf(tmp_path, fmt, fixture, unit):
 
 
 def test_writer_rejects_bad_arguments():
-    f, z = np.array([1.0, 2.0]), np.array([1 + 1j, 2 + 2j])
+    f, z = np.array([1.0, 2.0]), s_parameters(np.array([1 + 1j, 2 + 2j]), "reflection")
     with pytest.raises(FileFormatError):
         write_touchstone(f, z, fmt="XY")
     with pytest.raises(UnitError):
         write_touchstone(f, z, unit="THz")
     with pytest.raises(FileFormatError):
         write_touchstone(f[::-1], z)
+    with pytest.raises(FileFormatError, match="shape"):
+        write_touchstone(f, z[:, 0, 0])
+    with pytest.raises(FileFormatError, match="reflection, shunt-thru, series-thru"):
+        s_parameters(z[:, 0, 0], "open")  # type: ignore[arg-type]
 
 
 # --- malformed files ----------------------------------------------------------------------------

@@ -152,7 +152,7 @@ def _main(
 
 def open_store_for(ctx: typer.Context, *, write: bool = False, create: bool | None = None):
     """Open the store named by --store / $PARTSEL_STORE / the default; print first-use notices."""
-    from partsel.store import open_store
+    from partsel.jobs.default_store import open_store
     path = (ctx.find_root().obj or {}).get("store")
     store = open_store(path, write=write, create=create)
     for notice in store.notices:

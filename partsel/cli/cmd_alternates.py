@@ -87,8 +87,8 @@ def alternates_cmd(
     working_voltage: str = typer.Option(None, "--working-voltage", metavar="V",
                                         help="Capacitors: instead of 'rated at least the "
                                              "original's', the rating derated by technology "
-                                             "must reach V (MnO2 tantalum 50 %, polymer "
-                                             "80-90 %)."),
+                                             "must reach V (MnO2 tantalum 50 %; polymer 90 % "
+                                             "up to a 10 V rating, 80 % above)."),
     srf_above: str = typer.Option(None, "--srf-above", metavar="F",
                                   help="Inductors: SRF at least F instead of at least the "
                                        "original's."),
@@ -236,7 +236,8 @@ def bom_cmd(
 
     Example: partsel bom parts_list.csv --format csv --out report.csv
     """
-    from partsel.jobs.bom import check_bom, read_parts_list
+    from partsel.io.parts_list import read_parts_list
+    from partsel.jobs.bom import check_bom
 
     fmt = opt.check_format(fmt)
     lines = read_parts_list(file)

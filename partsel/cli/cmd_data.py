@@ -196,7 +196,7 @@ def _fit_and_report(store, part: str, maker: str | None, tan_delta: bool, rp: bo
     from partsel.units import format_quantity as fq
 
     res = fit_part(store, part, maker=maker, tan_delta=tan_delta, rp=rp, band=band, save=save,
-                   keep_anyway=keep_anyway)
+                   keep_anyway=keep_anyway, cli=True)
     fit = res.fit
     pn = res.part["part_number"]
     units = _UNIT[res.part["kind"]]

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import math
-import re
 from pathlib import Path
 from typing import Annotated, Any
 
@@ -12,7 +11,7 @@ import typer
 from partsel import units
 from partsel.cli import options as opt
 from partsel.cli.app import app, echo, note, open_store_for
-from partsel.errors import QueryError, UnitError
+from partsel.errors import QueryError
 from partsel.render import Col
 
 LINE_COLS = [Col("count", "n", ""), Col("part_number", "part"), Col("case", "case"),
@@ -25,85 +24,6 @@ LINE_COLS = [Col("count", "n", ""), Col("part_number", "part"), Col("case", "cas
 CURVE_COL = Col("curve_source", "curve")
 PEAK_COLS = [Col("f_hz", "f", "Hz"), Col("z_ohm", "|Z|", "ohm", 4),
              Col("ratio", "x target", "", 4)]
-
-_MIL = 25.4e-6          # 1 mil = 0.001 in [m]
-_INCH = 25.4e-3
-_AREA_UNITS = {"in2": _INCH**2, "in^2": _INCH**2, "sqin": _INCH**2, "mm2": 1e-6,
-               "mm^2": 1e-6, "cm2": 1e-4, "cm^2": 1e-4, "m2": 1.0, "m^2": 1.0}
-_AREA_RE = re.compile(r"^\s*([0-9.eE+-]+)\s*([a-zA-Z^0-9]*)\s*$")
-
-
-def parse_length(text: str, what: str) -> float:
-    """A length [m]: '4mil', '0.1mm', '100um', '1e-4' (mil = 25.4 um, no SI prefix)."""
-    t = text.strip()
-    if t.lower().endswith("mil"):
-        number = t[:-3].strip()
-        return units.parse_number(number, what) * _MIL
-    if t.lower().endswith("in"):
-        return units.parse_number(t[:-2].strip(), what) * _INCH
-    return units.parse_quantity(t, "m", what=what)
-
-
-def parse_area(text: str) -> float:
-    """An area [m^2]: '1in2', '645mm2', '6.45cm^2', '25mm x 25mm', '1in x 1in' or plain m^2."""
-    t = text.strip()
-    if "x" in t.lower() and not t.lower().startswith("0x"):
-        a, b = re.split(r"[xX]", t, maxsplit=1)
-        return parse_length(a, "plane width") * parse_length(b, "plane length")
-    m = _AREA_RE.match(t)
-    if m:
-        unit = m[2].lower()
-        if unit in _AREA_UNITS:
-            return units.parse_number(m[1], "plane area") * _AREA_UNITS[unit]
-    raise UnitError(f"cannot read plane area '{text}': write e.g. 1in2, 645mm2, 6.45cm2 or "
-                    "25mm x 25mm")
-
-
-def parse_plane(text: str, plane_l: str | None) -> dict[str, float]:
-    """'1in2,4mil,4.3[,0.02]' (area, spacing, eps_r[, tan_delta]) or a capacitance '10nF'."""
-    from partsel.engine import pdn
-
-    fields = [x.strip() for x in text.split(",")]
-    spread = units.parse_quantity(plane_l, "H", what="--plane-l") if plane_l else None
-    if len(fields) == 1:
-        c = units.parse_quantity(fields[0], "F", what="--plane")
-        if spread is None:
-            raise QueryError("a plane given as a capacitance needs its spreading inductance: "
-                             "add --plane-l, e.g. --plane-l 50pH, or give the geometry "
-                             "--plane AREA,SPACING,EPS_R")
-        return {"plane_c": c, "plane_l": spread}
-    if len(fields) not in (3, 4):
-        raise QueryError(f"cannot read --plane '{text}': write AREA,SPACING,EPS_R[,TAN_DELTA], "
-                         "e.g. 1in2,4mil,4.3, or a capacitance such as 10nF")
-    area = parse_area(fields[0])
-    spacing = parse_length(fields[1], "plane spacing")
-    eps_r = units.parse_number(fields[2], "relative permittivity")
-    tan_d = units.parse_number(fields[3], "loss tangent") if len(fields) == 4 else 0.0
-    if not (area > 0 and spacing > 0 and eps_r >= 1 and 0 <= tan_d < 1):
-        raise QueryError(f"--plane '{text}': area and spacing must be positive, eps_r at least "
-                         "1 and the loss tangent between 0 and 1")
-    return {"plane_c": float(pdn.plane_capacitance(area, spacing, eps_r)),
-            "plane_l": spread if spread is not None else float(pdn.plane_inductance(spacing)),
-            "plane_tan_delta": tan_d}
-
-
-def parse_mount_l(values: list[str] | None) -> dict[str, Any]:
-    """'0.5nH' (every part) and/or 'CASE=L' items ('0402=0.4nH,0603=0.5nH')."""
-    one: float | None = None
-    by_case: dict[str, float] = {}
-    for item in opt.split_list(values):
-        if "=" in item:
-            case, value = (x.strip() for x in item.split("=", 1))
-            if not case:
-                raise QueryError(f"--mount-l '{item}' names no case: write e.g. 0402=0.4nH")
-            by_case[case] = units.parse_quantity(value, "H", what=f"--mount-l for {case}")
-        else:
-            if one is not None:
-                raise QueryError("--mount-l takes one value for every part: give the others "
-                                 "per case, e.g. 0.5nH,0402=0.4nH")
-            one = units.parse_quantity(item, "H", what="--mount-l")
-    return {"mount_l": one, "mount_l_by_case": by_case}
-
 
 def _count(n: int, word: str) -> str:
     """'1 part', '3 parts'."""
@@ -167,24 +87,33 @@ def render_text(res: Any) -> str:
     return "\n".join(lines)
 
 
-def _plot(res: Any, path: Path) -> Path:
-    import numpy as np
+def _rail_spec(rail: str | None, target: str | None, ripple: str | None, step: str | None,
+               band: str | None, board_text: tuple[Any, ...], worst_case: bool,
+               margin: str | None) -> Any:
+    """The Rail from the command's words: a target, or a ripple with a current step, and the
+    board (:func:`partsel.jobs.decouple.board_from_text` of ``board_text``)."""
+    from partsel.jobs import decouple as dec
 
-    from partsel.engine import pdn
-    from partsel.io import plot as plotting
-
-    f1, f2 = res.rail.band
-    f = pdn.log_grid(f1 / 3.0, f2 * 3.0, pdn.MIN_PER_DECADE)
-    curves = res.curves(f)
-    styles = {label: {"lw": 0.9, "alpha": 0.7} for label, _ in curves}
-    styles["total"] = {"lw": 2.2, "color": "black"}
-    marks = [(res.f_max_z, f"worst {units.format_quantity(res.max_z, 'ohm')}")] \
-        if np.isfinite(res.max_z) else []
-    fig = plotting.Figure(f, curves, title="Decoupling bank: |Z| of each line and the total",
-                          limit=res.rail.target,
-                          limit_label=f"target {units.format_quantity(res.rail.target, 'ohm')}",
-                          band=res.rail.band, marks=marks, styles=styles)
-    return plotting.save(fig, path)
+    if rail is None:
+        raise QueryError("give the rail voltage with --rail, e.g. --rail 1.0V: it sets the DC "
+                         "bias of class II ceramics and the minimum rated voltage")
+    if band is None:
+        raise QueryError("give the band with --band, e.g. --band 10kHz..100MHz")
+    voltage = units.parse_quantity(rail, "V", what="--rail")
+    f_band = units.parse_band(band)
+    board = dec.board_from_text(*board_text)
+    share = units.parse_percent(margin, "--margin") if margin is not None else 0.0
+    if target is not None:
+        if ripple is not None or step is not None:
+            raise QueryError("give either --target or --ripple with --step, not both")
+        return dec.Rail(voltage, units.parse_quantity(target, "ohm", what="--target"), f_band,
+                        board, worst_case, share)
+    if ripple is not None and step is not None:
+        return dec.Rail.from_ripple(voltage, units.parse_percent(ripple, "--ripple"),
+                                    units.parse_quantity(step, "A", what="--step"), f_band,
+                                    board, worst_case, share)
+    raise QueryError("give the target impedance: --target Z, or --ripple PCT with "
+                     "--step I (Z_t = V x ripple / step)")
 
 
 Texts = list[str] | None
@@ -246,8 +175,9 @@ def decouple_cmd(
         "--lifecycle", metavar="STATE,...",
         help="Lifecycle states to use: active, nrnd, obsolete (default active).")] = None,
     min_voltage: Annotated[str | None, typer.Option(
-        "--min-voltage", metavar="V", help="Rated voltage at least V (default: 1.25 x rail; "
-        "tantalum 2 x; polymer 1.11 x up to 10 V, 1.25 x above).")] = None,
+        "--min-voltage", metavar="V", help="Rated voltage at least V (default: the derated "
+        "rating at least the rail voltage, MnO2 tantalum 50 %, polymer 90 % up to a 10 V "
+        "rating, 80 % above; other parts rated at least 1.25 x the rail).")] = None,
     in_stock: Annotated[bool, typer.Option(
         "--in-stock", help="Only parts with stock > 0.")] = False,
     max_parts: Annotated[int, typer.Option(
@@ -294,34 +224,8 @@ def decouple_cmd(
     from partsel.jobs import decouple as dec
 
     fmt = opt.check_format(fmt)
-    if rail is None:
-        raise QueryError("give the rail voltage with --rail, e.g. --rail 1.0V: it sets the DC "
-                         "bias of class II ceramics and the minimum rated voltage")
-    if band is None:
-        raise QueryError("give the band with --band, e.g. --band 10kHz..100MHz")
-    voltage = units.parse_quantity(rail, "V", what="--rail")
-    f_band = units.parse_band(band)
-    board_kw: dict[str, Any] = parse_mount_l(mount_l)
-    if plane is not None:
-        board_kw.update(parse_plane(plane, plane_l))
-    elif plane_l is not None:
-        raise QueryError("--plane-l needs --plane (the plane pair it belongs to)")
-    board_kw["vrm_r"] = opt.quantity(vrm_r, "ohm", "--vrm-r")
-    board_kw["vrm_l"] = opt.quantity(vrm_l, "H", "--vrm-l")
-    board = dec.Board(**board_kw)
-    share = units.parse_percent(margin, "--margin") if margin is not None else 0.0
-    if target is not None:
-        if ripple is not None or step is not None:
-            raise QueryError("give either --target or --ripple with --step, not both")
-        spec = dec.Rail(voltage, units.parse_quantity(target, "ohm", what="--target"), f_band,
-                        board, worst_case, share)
-    elif ripple is not None and step is not None:
-        spec = dec.Rail.from_ripple(voltage, units.parse_percent(ripple, "--ripple"),
-                                    units.parse_quantity(step, "A", what="--step"), f_band, board,
-                                    worst_case, share)
-    else:
-        raise QueryError("give the target impedance: --target Z, or --ripple PCT with "
-                         "--step I (Z_t = V x ripple / step)")
+    spec = _rail_spec(rail, target, ripple, step, band, (mount_l, plane, plane_l, vrm_r, vrm_l),
+                      worst_case, margin)
     with open_store_for(ctx) as store:
         if check_file is not None:
             res = dec.check(store, spec, dec.read_bank(check_file), measured=measured,
@@ -349,6 +253,6 @@ def decouple_cmd(
         for c in res.cautions:
             note(c)
     if plot is not None:
-        note(f"plot written to {_plot(res, plot)}")
+        note(f"plot written to {dec.plot_bank(res, plot)}")
     if not res.met:
         raise typer.Exit(1)

@@ -54,6 +54,29 @@ def json_row(row: dict[str, Any]) -> dict[str, Any]:
     return out
 
 
+def _columns(search: Any) -> list[Col]:
+    """The table's columns for what the search computed."""
+    from partsel import units
+
+    cols = CAP_COLS if search.kind == "capacitor" else IND_COLS
+    if search.kind == "capacitor" and search.bias is not None:
+        cols = cols[:3] + [Col("c_eff_f", "C at bias", "F"), Col("bias_source", "bias")] + cols[3:]
+    if search.kind == "inductor" and search.band:
+        cols = cols[:-2] + [Col("max_z_ohm", "max |Z|", "ohm"),
+                            Col("min_z_ohm", "min |Z|", "ohm")] + cols[-2:]
+    if search.kind == "capacitor" and search.above is not None:
+        # an "above" search is decided by the band minimum: show it next to the maximum
+        at_max = [i for i, c in enumerate(cols) if c.key == "f_max_hz"][0]
+        cols = cols[:at_max + 1] + [Col("min_z_ohm", "min |Z|", "ohm"),
+                                    Col("f_min_hz", "at", "Hz")] + cols[at_max + 1:]
+    if search.kind == "capacitor" and search.mount_l:
+        cols = [Col("esl_mounted", "ESL+mount", "H") if c.key == "esl" else c for c in cols]
+    if search.kind == "inductor" and search.min_q:
+        cols = cols[:-2] + [Col("q", f"Q@{units.format_quantity(search.min_q[1], 'Hz')}", "")] \
+            + cols[-2:]
+    return cols
+
+
 @app.command("find")
 def find_cmd(
     ctx: typer.Context,
@@ -172,31 +195,14 @@ def find_cmd(
     kw.setdefault("limit", limit)
     search = Search(**kw)
     search.validate()
-    if search.band is None and search.inductive_to is None and search.current is None:
-        raise QueryError("nothing to search for: give --below/--above with --band, or "
-                         "--inductive-to (see 'partsel find --help')")
     with open_store_for(ctx) as store:
         result = find(store, search)
-    cols = CAP_COLS if search.kind == "capacitor" else IND_COLS
-    if search.kind == "capacitor" and search.bias is not None:
-        cols = cols[:3] + [Col("c_eff_f", "C at bias", "F"), Col("bias_source", "bias")] + cols[3:]
-    if search.kind == "inductor" and search.band:
-        cols = cols[:-2] + [Col("max_z_ohm", "max |Z|", "ohm"),
-                            Col("min_z_ohm", "min |Z|", "ohm")] + cols[-2:]
-    if search.kind == "capacitor" and search.above is not None:
-        # an "above" search is decided by the band minimum: show it next to the maximum
-        at_max = [i for i, c in enumerate(cols) if c.key == "f_max_hz"][0]
-        cols = cols[:at_max + 1] + [Col("min_z_ohm", "min |Z|", "ohm"),
-                                    Col("f_min_hz", "at", "Hz")] + cols[at_max + 1:]
+    cols = _columns(search)
     if search.kind == "capacitor" and search.mount_l:
-        cols = [Col("esl_mounted", "ESL+mount", "H") if c.key == "esl" else c for c in cols]
         for r in result.rows:
             r["esl_mounted"] = (r.get("esl") or 0.0) + search.mount_l
     if any(r.get("model_source") != "catalog" for r in result.rows):
         cols = cols[:-2] + [Col("model", "model")] + cols[-2:]
-    if search.kind == "inductor" and search.min_q:
-        cols = cols[:-2] + [Col("q", f"Q@{units.format_quantity(search.min_q[1], 'Hz')}", "")] \
-            + cols[-2:]
     echo(opt.emit(result.rows, cols, fmt, json_keys=json_row))
     shown = len(result.rows)
     note(f"{result.matches} of {result.considered} {search.kind}s pass; showing {shown}, "

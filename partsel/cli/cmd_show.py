@@ -148,9 +148,6 @@ def curve_cmd(
     else:
         echo(opt.emit(rows, cols, fmt))
     if plot is not None:
-        out = plotting.save(plotting.Figure(dense.f, list(zip(dense.labels, dense.z, strict=True)),
-                                            title="|Z| and phase", limit=lim,
-                                            limit_label=f"limit {units.format_quantity(lim, 'ohm')}"
-                                            if lim else "limit"), plot)
+        out = plotting.plot_curves(plot, dense.f, dense.labels, dense.z, limit=lim)
         note(f"plot written to {out}")
     note("Model: " + "; ".join(res.effects))

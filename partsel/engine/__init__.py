@@ -5,6 +5,6 @@ parameters as column vectors (``value[:, None]``) and frequencies as a row (``f[
 the result is a (P, F) array.
 """
 
-from partsel.engine import band, capacitor, ceramic, inductor, network
+from partsel.engine import band, capacitor, ceramic, fixture, inductor
 
-__all__ = ["band", "capacitor", "ceramic", "inductor", "network"]
+__all__ = ["band", "capacitor", "ceramic", "fixture", "inductor"]

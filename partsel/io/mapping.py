@@ -51,6 +51,7 @@ from partsel import units
 from partsel.catalog import BY_NAME, MODEL_PARAMETERS, NAMES
 from partsel.errors import CatalogError, FileFormatError, UnitError
 from partsel.io.catalog import normalise_header
+from partsel.io.text import read_text
 
 TARGETS: tuple[str, ...] = NAMES + tuple(f"{p}_source" for p in MODEL_PARAMETERS)
 PERCENT_COLUMNS = ("tolerance", "tan_delta", "isat_drop")
@@ -204,8 +205,8 @@ def parse_mapping(text: str, label: str = "mapping") -> Mapping:
     try:
         doc = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        raise FileFormatError(f"{label}: not valid TOML: {exc}; see the example in "
-                              "'partsel import --help'") from None
+        raise FileFormatError(f"{label}: not valid TOML: {exc}; the import command's help "
+                              "shows an example mapping") from None
     unknown = [k for k in doc if k not in _TOP_KEYS]
     if unknown:
         raise FileFormatError(f"{label}: unknown key or table '{unknown[0]}'; a mapping has "
@@ -241,15 +242,7 @@ def parse_mapping(text: str, label: str = "mapping") -> Mapping:
 def read_mapping(path: str | Path) -> Mapping:
     """Read a mapping file (TOML)."""
     p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8-sig")
-    except UnicodeDecodeError as exc:
-        raise FileFormatError(f"cannot read {p.name}: not UTF-8 text near byte {exc.start}; "
-                              "save the mapping as UTF-8") from None
-    except OSError as exc:
-        raise FileFormatError(f"cannot read the mapping {p}: {exc.strerror or exc}; check the "
-                              "path") from None
-    return parse_mapping(text, p.name)
+    return parse_mapping(read_text(p, "mapping", "give a TOML mapping file"), p.name)
 
 
 def _resolve(name: str, headers: list[str]) -> str | None:

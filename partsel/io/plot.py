@@ -2,12 +2,14 @@
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
 
 from partsel.errors import PartselError
+from partsel.units import format_quantity
 
 
 @dataclass
@@ -79,6 +81,16 @@ def save(fig: Figure, path: str | Path) -> Path:
     if fig.title:
         ax_z.set_title(fig.title)
     return write(figure, p)
+
+
+def plot_curves(path: str | Path, f: np.ndarray, labels: Sequence[str], z: np.ndarray,
+                limit: float | None = None) -> Path:
+    """|Z| and phase of several parts (``z`` is parts x f, complex) with an optional |Z| limit
+    [ohm], saved to ``path``."""
+    label = f"limit {format_quantity(limit, 'ohm')}" if limit else "limit"
+    fig = Figure(f, list(zip(labels, z, strict=True)), title="|Z| and phase", limit=limit,
+                 limit_label=label)
+    return save(fig, path)
 
 
 def new_figure(figsize: tuple[float, float]):

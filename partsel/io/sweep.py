@@ -25,6 +25,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from partsel.errors import FileFormatError, UnitError
+from partsel.io.text import read_text
 
 MIN_POINTS = 5
 FREQ_NAMES = ("frequency", "freq", "f")
@@ -201,14 +202,7 @@ def _load(path: str | Path) -> tuple[str, str]:
     if isinstance(path, str) and "\n" in path:
         return path, "<text>"
     p = Path(path)
-    try:
-        return p.read_text(encoding="utf-8-sig"), p.name
-    except UnicodeDecodeError as exc:
-        raise FileFormatError(f"cannot read {p.name}: not UTF-8 text near byte {exc.start}; "
-                              "save it as UTF-8 CSV") from None
-    except OSError as exc:
-        raise FileFormatError(f"cannot read sweep file {p}: {exc.strerror or exc}; "
-                              "check the path") from None
+    return read_text(p, "sweep file", "give a CSV file of f and Z"), p.name
 
 
 def read_sweep_csv(path: str | Path, *, freq_col: str | None = None,

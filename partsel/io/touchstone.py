@@ -1,4 +1,4 @@
-r"""Touchstone network files (IBIS Open Forum Touchstone 1.1 and 2.0): read, write, impedance.
+r"""Touchstone network files (IBIS Open Forum Touchstone 1.1 and 2.0): read and write.
 
 Version 1 files start with an option line ``# <Hz|kHz|MHz|GHz> <S|Y|Z|H|G> <DB|MA|RI> R <n>``
 (fields in any order, case-insensitive, missing fields default to GHz, S, MA, R 50) and take their
@@ -10,14 +10,8 @@ Pairs are read as RI (re, im), MA (magnitude, angle in degrees) or DB (20 log10 
 degrees). Version 1 stores Z and Y normalised to R; the reader returns ohm and siemens in both
 versions. H and G parameters are returned as written in the file.
 
-Impedance of a part mounted in a fixture (domain notes, section 6; derived from the S-parameters of
-a single series or shunt element between two Z0 ports):
-
-.. math::
-
-    Z_{refl} = Z_0 \frac{1 + S_{11}}{1 - S_{11}}, \qquad
-    Z_{shunt} = \frac{Z_0}{2} \frac{S_{21}}{1 - S_{21}}, \qquad
-    Z_{series} = 2 Z_0 \frac{1 - S_{21}}{S_{21}}
+The impedance of a part measured in a fixture, and the S-parameters of a modeled part in one,
+are computed by :mod:`partsel.engine.fixture`; this module holds the file format only.
 """
 
 from __future__ import annotations
@@ -26,15 +20,11 @@ import re
 from collections.abc import Iterable
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Literal
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from partsel.errors import FileFormatError, UnitError
-
-Fixture = Literal["reflection", "shunt-thru", "series-thru"]
-FIXTURES: tuple[str, ...] = ("reflection", "shunt-thru", "series-thru")
 
 FREQ_UNITS = {"hz": 1.0, "khz": 1e3, "mhz": 1e6, "ghz": 1e9}
 _UNIT_NAMES = {"hz": "Hz", "khz": "kHz", "mhz": "MHz", "ghz": "GHz"}
@@ -432,64 +422,6 @@ def read_touchstone(path_or_text: str | Path, *, name: str | None = None) -> Tou
     return _Reader(text, label).parse()
 
 
-def _to_s(data: TouchstoneData) -> NDArray[np.complex128]:
-    r"""S-parameters of the data for real reference impedances.
-
-    With :math:`R = \mathrm{diag}(z_0)`: :math:`z = R^{-1/2} Z R^{-1/2}`,
-    :math:`S = (z - I)(z + I)^{-1}`; :math:`y = R^{1/2} Y R^{1/2}`,
-    :math:`S = (I - y)(I + y)^{-1}` (Pozar, *Microwave Engineering*, section 4.3).
-    """
-    if data.kind == "S":
-        return data.params
-    if data.kind not in ("Z", "Y"):
-        raise FileFormatError(f"cannot take an impedance from {data.kind}-parameters; "
-                              "export the measurement as S, Y or Z parameters")
-    eye = np.eye(data.n_ports)
-    root = np.sqrt(data.z0)
-    if data.kind == "Z":
-        norm = data.params / np.outer(root, root)
-        num, den = norm - eye, norm + eye
-    else:
-        norm = data.params * np.outer(root, root)
-        num, den = eye - norm, eye + norm
-    # S = num @ inv(den)  <=>  den^T @ S^T = num^T
-    try:
-        st = np.linalg.solve(np.swapaxes(den, 1, 2), np.swapaxes(num, 1, 2))
-    except np.linalg.LinAlgError:
-        raise FileFormatError(f"{data.kind}-parameters cannot be converted to S at every "
-                              "frequency (singular matrix)") from None
-    return np.swapaxes(st, 1, 2)
-
-
-def impedance_from(data: TouchstoneData, fixture: Fixture) -> NDArray[np.complex128]:
-    """Impedance [ohm] of the part measured in `fixture`, one value per frequency.
-
-    ``reflection`` uses port 1 (Z11 or 1/Y11 directly for 1-port Z or Y data);
-    ``shunt-thru`` and ``series-thru`` use S21 of a 2-port with Z0 = the port 1 reference.
-    Equations in the module docstring.
-    """
-    if fixture not in FIXTURES:
-        raise FileFormatError(f"unknown fixture '{fixture}'; choose one of "
-                              + ", ".join(FIXTURES))
-    if fixture != "reflection" and data.n_ports < 2:
-        raise FileFormatError(f"the {fixture} fixture needs a 2-port file (.s2p) but this one "
-                              f"has {data.n_ports} port; use fixture 'reflection'")
-    z0 = float(data.z0[0])
-    with np.errstate(divide="ignore", invalid="ignore"):
-        if fixture == "reflection" and data.n_ports == 1 and data.kind == "Z":
-            return data.params[:, 0, 0].copy()
-        if fixture == "reflection" and data.n_ports == 1 and data.kind == "Y":
-            return 1.0 / data.params[:, 0, 0]
-        s = _to_s(data)
-        if fixture == "reflection":
-            s11 = s[:, 0, 0]
-            return z0 * (1.0 + s11) / (1.0 - s11)
-        s21 = s[:, 1, 0]
-        if fixture == "shunt-thru":
-            return 0.5 * z0 * s21 / (1.0 - s21)
-        return 2.0 * z0 * (1.0 - s21) / s21
-
-
 def _pair(x: complex, fmt: str) -> tuple[float, float]:
     if fmt == "RI":
         return x.real, x.imag
@@ -498,44 +430,31 @@ def _pair(x: complex, fmt: str) -> tuple[float, float]:
     return (mag if fmt == "MA" else 20.0 * float(np.log10(mag))), ang
 
 
-def write_touchstone(f: ArrayLike, z: ArrayLike, *, fixture: Fixture = "reflection",
-                     z0: float = 50.0, fmt: str = "RI", unit: str = "Hz",
-                     comments: Iterable[str] = ()) -> str:
-    """Text of a Touchstone 1.1 file holding the S-parameters that impedance `z` gives.
+def write_touchstone(f: ArrayLike, s: ArrayLike, *, z0: float = 50.0, fmt: str = "RI",
+                     unit: str = "Hz", comments: Iterable[str] = ()) -> str:
+    """Text of a Touchstone 1.1 file holding S-parameters ``s`` at frequencies ``f`` [Hz].
 
-    ``reflection`` writes a 1-port (.s1p), S11 = (Z - Z0)/(Z + Z0). ``shunt-thru`` writes a
-    2-port (.s2p) of Z from the line to ground: S21 = S12 = 2Z/(2Z + Z0),
-    S11 = S22 = -Z0/(2Z + Z0). ``series-thru`` writes Z in series between the ports:
-    S21 = S12 = 2Z0/(Z + 2Z0), S11 = S22 = Z/(Z + 2Z0) (derived from the ABCD matrices of a
-    shunt and a series element; Pozar, *Microwave Engineering*, table 4.1/4.2).
-    Numbers are written with repr, which reads back to the same float.
+    ``s`` is (F, 1, 1) for a 1-port (.s1p) or (F, 2, 2) for a 2-port (.s2p), written in the
+    version 1 order N11 N21 N12 N22 (:func:`partsel.engine.fixture.s_parameters` gives those
+    of a part in a fixture). Numbers are written with repr, which reads back to the same float.
     """
     fa = np.asarray(f, dtype=float).ravel()
-    za = np.asarray(z, dtype=complex).ravel()
+    sa = np.asarray(s, dtype=complex)
     fmt_u = fmt.upper()
-    if fixture not in FIXTURES:
-        raise FileFormatError(f"unknown fixture '{fixture}'; choose one of " + ", ".join(FIXTURES))
     if fmt_u not in FORMATS:
         raise FileFormatError(f"unknown Touchstone format '{fmt}'; choose RI, MA or DB")
     if unit.lower() not in FREQ_UNITS:
         raise UnitError(f"unknown frequency unit '{unit}' for Touchstone; use Hz, kHz, MHz or GHz")
-    if fa.shape != za.shape or fa.size == 0:
-        raise FileFormatError("f and z must be non-empty and of the same length")
+    if sa.ndim != 3 or sa.shape[1:] not in ((1, 1), (2, 2)) or sa.shape[0] != fa.size \
+            or fa.size == 0:
+        raise FileFormatError("f and s must be non-empty, with s of shape (len(f), 1, 1) or "
+                              "(len(f), 2, 2)")
     if not (np.all(np.isfinite(fa)) and np.all(np.diff(fa) > 0) and fa[0] >= 0):
         raise FileFormatError("frequencies must be finite, >= 0 and strictly increasing")
     if not z0 > 0:
         raise FileFormatError(f"reference impedance z0 must be > 0, not {z0}")
-    with np.errstate(divide="ignore", invalid="ignore"):
-        if fixture == "reflection":
-            cols = [(za - z0) / (za + z0)]
-        elif fixture == "shunt-thru":
-            s21 = 2.0 * za / (2.0 * za + z0)
-            s11 = -z0 / (2.0 * za + z0)
-            cols = [s11, s21, s21, s11]
-        else:
-            s21 = 2.0 * z0 / (za + 2.0 * z0)
-            s11 = za / (za + 2.0 * z0)
-            cols = [s11, s21, s21, s11]
+    cols = [sa[:, 0, 0]] if sa.shape[1] == 1 else \
+        [sa[:, 0, 0], sa[:, 1, 0], sa[:, 0, 1], sa[:, 1, 1]]
     scale = FREQ_UNITS[unit.lower()]
     out = [f"! {c}" for c in comments]
     out.append(f"# {_UNIT_NAMES[unit.lower()]} S {fmt_u} R {float(z0)!r}")
@@ -545,7 +464,7 @@ def write_touchstone(f: ArrayLike, z: ArrayLike, *, fixture: Fixture = "reflecti
             for col in cols:
                 nums.extend(_pair(complex(col[i]), fmt_u))
         if not all(np.isfinite(nums)):
-            raise FileFormatError(f"impedance at {fi!r} Hz gives S-parameters that cannot be "
-                                  f"written in {fmt_u}; use RI or check z")
+            raise FileFormatError(f"the S-parameters at {fi!r} Hz cannot be written in {fmt_u} "
+                                  "(not finite); use RI or check the data")
         out.append(" ".join(repr(x) for x in nums))
     return "\n".join(out) + "\n"

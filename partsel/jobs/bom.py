@@ -1,59 +1,34 @@
 """Parts-list check: each line's part, its status, and alternates where action is needed.
 
-A parts list is a CSV file with a header row naming ``part_number`` (required) and optionally
-``maker``, ``quantity`` and ``working_voltage`` (also read: ``part``, ``manufacturer``, ``qty``,
-``voltage``; other columns are ignored). Each line is checked on its own: a line that cannot be
-read gets status ``malformed`` and a one-line error, and the rest are still reported. A file
-that cannot be read at all raises :class:`partsel.errors.FileFormatError`.
+The parts list is read by :func:`partsel.io.parts_list.read_parts_list`. Each line is checked
+on its own: a line that cannot be read gets status ``malformed`` and a one-line error, and the
+rest are still reported.
 
 Statuses: ``found``; ``unknown`` (no such part; close matches named); ``ambiguous`` (several
 makers share the number and the line names none); ``malformed``. A found part needs action when
 it is obsolete, nrnd (not recommended for new designs), out of stock (stock 0), short of stock
 (stock below the quantity), or a capacitor whose rating, derated by technology, is below the
-line's working voltage (:func:`partsel.jobs.alternates.derating`). A part (maker and part
+line's working voltage (:func:`partsel.derating.derating`). A part (maker and part
 number) found on several lines is flagged on each of them, not refused: their quantities are
-totalled for the stock check. A quantity must be a whole number of 1 or more. Lines that need
-action get the best alternates: the same rules as :func:`partsel.jobs.alternates.alternates_for`,
-with candidates active and in stock, and the line's working voltage as the voltage rule and the
-DC bias.
+totalled for the stock check. Lines that need action get the best alternates: the same rules
+as :func:`partsel.jobs.alternates.alternates_for`, with candidates active and in stock, and the
+line's working voltage as the voltage rule and the DC bias.
 """
 
 from __future__ import annotations
 
-import csv
-import io
-import re
 from collections.abc import Sequence
 from dataclasses import dataclass, field
-from pathlib import Path
 from typing import Any
 
-from partsel.errors import FileFormatError, PartselError
-from partsel.jobs.alternates import Criteria, alternates_for, derating
+from partsel.derating import derating
+from partsel.errors import PartselError
+from partsel.io.parts_list import ListLine
+from partsel.jobs.alternates import Criteria, alternates_for
 from partsel.standards import safety
 from partsel.store.db import Store
-from partsel.units import format_quantity, parse_quantity
-
-STATUSES = ("found", "unknown", "ambiguous", "malformed")
-HEADERS = {  # normalised header -> field
-    "part_number": "part_number", "part": "part_number",
-    "maker": "maker", "manufacturer": "maker",
-    "quantity": "quantity", "qty": "quantity",
-    "working_voltage": "working_voltage", "voltage": "working_voltage",
-}
-_WHOLE = re.compile(r"[+-]?[0-9]+(?:\.0*)?")
-
-
-@dataclass(frozen=True)
-class ListLine:
-    """One line of a parts list as read; ``error`` says why it is malformed (None when not)."""
-
-    line: int                          # line number in the file (the header is line 1)
-    part_number: str | None
-    maker: str | None = None
-    quantity: int | None = None
-    working_voltage: float | None = None
-    error: str | None = None
+from partsel.store.parts import numbered
+from partsel.units import format_quantity
 
 
 @dataclass
@@ -108,108 +83,11 @@ class BomReport:
         return sum(ln.needs_action for ln in self.lines)
 
 
-# --- reading ------------------------------------------------------------------------------------
-
-def read_parts_list(path: str | Path) -> list[ListLine]:
-    """Read a parts-list CSV file. Raises FileFormatError when the file cannot be read at all."""
-    p = Path(path)
-    if not p.exists():
-        raise FileFormatError(f"no such parts list: {p}")
-    if p.is_dir():
-        raise FileFormatError(f"{p} is a folder: give a parts list (.csv)")
-    try:
-        text = p.read_text(encoding="utf-8-sig")
-    except UnicodeDecodeError as exc:
-        raise FileFormatError(f"cannot read {p.name}: not UTF-8 text near byte {exc.start}; "
-                              "save the parts list as UTF-8 CSV") from None
-    except OSError as exc:
-        raise FileFormatError(f"cannot read {p.name}: {exc.strerror}") from None
-    return parse_parts_list(text, p.name)
-
-
-def _normalise(name: str) -> str:
-    return re.sub(r"[\s\-]+", "_", name.strip().lower())
-
-
-def parse_parts_list(text: str, name: str = "parts list") -> list[ListLine]:
-    """Read parts-list CSV text line by line; a bad line becomes a ListLine with an error."""
-    if "\x00" in text:
-        raise FileFormatError(f"cannot read {name}: it holds NUL bytes, so it is not a CSV text "
-                              "file; export the parts list as CSV")
-    first = next((ln for ln in text.splitlines() if ln.strip()), None)
-    if first is None:
-        raise FileFormatError(f"{name} is empty: write a header row (part_number,maker,"
-                              "quantity,working_voltage) and one part per line")
-    delimiter = max(",;\t", key=first.count)
-    reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter)
-    header: list[str] | None = None
-    fields: list[str | None] = []
-    out: list[ListLine] = []
-    try:
-        for cells in reader:
-            if not any(c.strip() for c in cells):
-                continue
-            if header is None:
-                header = [_normalise(c) for c in cells]
-                fields = [HEADERS.get(h) for h in header]
-                _check_header(header, fields, name)
-                continue
-            out.append(_line(reader.line_num, cells, fields))
-    except csv.Error as exc:
-        raise FileFormatError(f"cannot read {name} as CSV near line {reader.line_num}: "
-                              f"{exc}") from None
-    return out
-
-
-def _check_header(header: list[str], fields: list[str | None], name: str) -> None:
-    if "part_number" not in fields:
-        raise FileFormatError(f"{name} has no part_number column: the first row must name the "
-                              "columns, e.g. part_number,maker,quantity,working_voltage")
-    known = [f for f in fields if f]
-    for f in set(known):
-        if known.count(f) > 1:
-            cols = [h for h, g in zip(header, fields, strict=True) if g == f]
-            raise FileFormatError(f"{name} names the {f} column twice ({', '.join(cols)}): "
-                                  "keep one")
-
-
-def _line(number: int, cells: Sequence[str], fields: Sequence[str | None]) -> ListLine:
-    errors: list[str] = []
-    if len(cells) > len(fields):
-        errors.append(f"{len(cells)} cells where the header has {len(fields)}: quote a cell "
-                      "that holds the delimiter")
-    got = {f: c.strip() for f, c in zip(fields, cells, strict=False) if f}
-    pn = got.get("part_number") or None
-    if pn is None:
-        errors.append("no part number: every line needs one")
-    quantity = None
-    if got.get("quantity"):
-        q = got["quantity"]
-        if _WHOLE.fullmatch(q) and int(float(q)) >= 1:
-            quantity = int(float(q))
-        elif _WHOLE.fullmatch(q):
-            errors.append(f"quantity {int(float(q))} must be a whole number of 1 or more")
-        else:
-            errors.append(f"quantity '{q}' is not a whole number: write e.g. 10")
-    wv = None
-    if got.get("working_voltage"):
-        try:
-            wv = parse_quantity(got["working_voltage"], "V", what="working_voltage",
-                                positive=True)
-        except PartselError as exc:
-            errors.append(str(exc))
-    if errors:  # what was read from a bad line is not to be trusted: keep only its part number
-        return ListLine(number, pn, got.get("maker") or None, error="; ".join(errors))
-    return ListLine(number, pn, got.get("maker") or None, quantity, wv)
-
-
 # --- checking -----------------------------------------------------------------------------------
 
 def check_bom(store: Store, lines: Sequence[ListLine], alternates: int = 3) -> BomReport:
     """Check every line of a parts list against the store (see the module docstring)."""
-    wanted = sorted({ln.part_number.lower() for ln in lines if ln.part_number and not ln.error})
-    hits = store.arrays("SELECT id, part_number, maker FROM parts "
-                        "WHERE list_contains(?, lower(part_number)) ORDER BY id", [wanted])
+    hits = numbered(store, [ln.part_number for ln in lines if ln.part_number and not ln.error])
     index: dict[str, list[tuple[int, str, str]]] = {}
     for i, pn, mk in zip(hits["id"], hits["part_number"], hits["maker"], strict=True):
         index.setdefault(pn.lower(), []).append((int(i), str(pn), str(mk)))
@@ -257,9 +135,7 @@ def check_bom(store: Store, lines: Sequence[ListLine], alternates: int = 3) -> B
 
 def _unknown_note(store: Store, ln: ListLine) -> str:
     """'not in the store' with the three most similar part numbers (Jaro-Winkler)."""
-    near = store.arrays("SELECT part_number FROM parts ORDER BY jaro_winkler_similarity("
-                        "lower(part_number), lower(?)) DESC, part_number LIMIT 3",
-                        [ln.part_number])["part_number"]
+    near = store.similar_part_numbers(ln.part_number or "")
     who = f" from maker '{ln.maker}'" if ln.maker else ""
     return (f"not in the store{who}" + (f"; close matches: {', '.join(near)}" if len(near)
                                          else ""))
@@ -318,5 +194,5 @@ def _judge(store: Store, rep: LineReport, part: dict[str, Any], n_alternates: in
     rep.alternates = sorted(rep.alternates, key=lambda a: not a["covers_quantity"])
     rep.alternates = rep.alternates[:n_alternates]
     if not rep.alternates:
-        rep.note = (f"no alternate passes every rule ({res.fit} pass form and fit): see "
-                    f"'partsel alternates {part['part_number']} --explain'")
+        rep.note = (f"no alternate passes every rule ({res.fit} pass form and fit): the near "
+                    f"misses of the alternates of {part['part_number']} (explain) say why")

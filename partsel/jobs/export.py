@@ -22,14 +22,17 @@ import pandas as pd
 from partsel import __version__
 from partsel.catalog import COLUMNS, MODEL_PARAMETERS, NAMES, PROVENANCES
 from partsel.engine import inductor
+from partsel.engine.fixture import FIXTURES, s_parameters
 from partsel.errors import ModelError, QueryError, StoreError
 from partsel.io.spice import capacitor_subckt, inductor_subckt, spice_name
-from partsel.io.touchstone import FIXTURES, write_touchstone
+from partsel.io.touchstone import write_touchstone
 from partsel.jobs.measured import FIT_REASON
 from partsel.jobs.models import Models
 from partsel.jobs.show import log_grid
 from partsel.standards import safety
+from partsel.store import history
 from partsel.store.db import Store
+from partsel.store.parts import catalog_rows
 from partsel.units import format_quantity
 
 
@@ -55,11 +58,9 @@ def write_atomic(path: Path, data: str | bytes) -> Path:
 # -- SPICE -------------------------------------------------------------------------------------
 
 def _fit_note(store: Store, part: dict[str, Any]) -> str | None:
-    row = store.con.execute(
-        "SELECT reason FROM model_history WHERE maker = ? AND part_number = ? AND reason LIKE "
-        f"'{FIT_REASON}%' ORDER BY saved_at DESC, rowid DESC LIMIT 1",
-        [part["maker"], part["part_number"]]).fetchone()
-    return row[0].removeprefix("replaced by a ") if row else None
+    """'measured fit to FILE (...)': how the part's model was last fitted, if it was."""
+    last = history.latest_with_reason(store, part["maker"], part["part_number"], FIT_REASON)
+    return last[1].removeprefix("replaced by a ") if last else None
 
 
 def _provenance(part: dict[str, Any]) -> dict[str, str]:
@@ -147,7 +148,7 @@ def touchstone_text(store: Store, part_number: str, band: tuple[float, float], *
     if fixture not in FIXTURES:
         raise QueryError(f"unknown fixture '{fixture}'; choose one of " + ", ".join(FIXTURES))
     if per_decade < 1:
-        raise QueryError("--points-per-decade must be at least 1")
+        raise QueryError("the points per decade must be at least 1")
     suffix = ".s1p" if fixture == "reflection" else ".s2p"
     if out_name is not None and not out_name.lower().endswith(suffix):
         raise QueryError(f"a {fixture} file has {1 if suffix == '.s1p' else 2} port"
@@ -174,8 +175,8 @@ def touchstone_text(store: Store, part_number: str, band: tuple[float, float], *
                 f"({part['maker']}, {part['kind']})",
                 f"written {datetime.now():%Y-%m-%d %H:%M}; a model, not a measurement",
                 "model: " + "; ".join(model), f"fixture: {where}, Z0 = {z0:g} ohm"]
-    return write_touchstone(f, z, fixture=fixture,  # type: ignore[arg-type]
-                            z0=z0, fmt=fmt, comments=comments)
+    s = s_parameters(z, fixture, z0)  # type: ignore[arg-type]
+    return write_touchstone(f, s, z0=z0, fmt=fmt, comments=comments)
 
 
 # -- Parquet -------------------------------------------------------------------------------------
@@ -189,9 +190,7 @@ def _extra_text(v: Any) -> str:
 def catalog_frame(store: Store) -> pd.DataFrame:
     """The whole catalog in the import format: catalog columns (SI values), the
     ``<param>_source`` columns, then extra columns (as text), sorted by maker and part number."""
-    cols = list(NAMES) + [p + "_source" for p in MODEL_PARAMETERS]
-    quoted = ", ".join(f'"{c}"' for c in cols)
-    df = store.frame(f"SELECT {quoted}, extra FROM parts ORDER BY maker, part_number")
+    df = catalog_rows(store, list(NAMES) + [p + "_source" for p in MODEL_PARAMETERS])
     for c in COLUMNS:
         if c.sql_type in ("INTEGER", "BIGINT"):
             df[c.name] = df[c.name].astype("Int64")

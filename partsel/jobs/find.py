@@ -117,6 +117,9 @@ class Search:
         if self.model_only and self.model == "catalog":
             raise QueryError("model_only needs a model choice other than catalog (vendor, "
                              "measured or best)")
+        if self.band is None and self.inductive_to is None and self.current is None:
+            raise QueryError("nothing to search for: give an impedance limit below or above "
+                             "over a band, a frequency to stay inductive to, or a current")
 
     _UNITS = {"below": "ohm", "above": "ohm", "inductive_to": "Hz", "value_min": "F|H",
               "value_max": "F|H", "min_voltage": "V", "bias": "V", "mount_l": "H",

@@ -6,19 +6,14 @@ from, the fixture and the import date. :func:`fit_part` fits the equivalent circ
 (:mod:`partsel.engine.fit`) to the latest sweep and stores the fitted values as the part's model
 with provenance "measured fit"; the model it replaces goes to ``model_history``.
 
-Between its points a measured curve is read by interpolating :math:`\ln|Z|` and the unwrapped
-phase linearly in :math:`\ln f` (straight lines on a Bode plot). Outside the measured range
-there is no measured curve: the model stands in there, or the caller refuses.
-The interpolated :math:`\ln|Z|` is piecewise linear in :math:`\ln f`, so its extrema over a band
-lie at the band edges or at measured points: :func:`curve_band` is exact for the interpolant.
+Measured curves used in place of the model (interpolation, band extrema, curves) are in
+:mod:`partsel.jobs.measured_curves`; their functions are importable from here too.
 """
 
 from __future__ import annotations
 
-import json
 import math
 import re
-from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from datetime import datetime
 from pathlib import Path
@@ -28,14 +23,22 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from partsel.catalog import MODEL_PARAMETERS
-from partsel.engine.band import BandExtrema
 from partsel.engine.fit import FitResult, fit_capacitor, fit_inductor
 from partsel.errors import FileFormatError, ModelError, QueryError
 from partsel.io.sweep import MIN_POINTS
+from partsel.jobs.measured_curves import (
+    curve_band,
+    interpolate,
+    measured_span,
+    overlay_band,
+    overlay_curves,
+    span_text,
+)
+from partsel.store import history, sweeps
 from partsel.store.db import Store
+from partsel.store.sweeps import StoredSweep
 from partsel.units import format_quantity
 
-TWO_PI = 2.0 * np.pi
 TOUCHSTONE = re.compile(r"\.(s\d+p|ts)\Z", re.IGNORECASE)
 CSV_SUFFIXES = (".csv", ".txt", ".tsv")
 POOR_FIT_DB = 1.0          # RMS residual above which a fit is flagged as poor [dB]
@@ -47,24 +50,6 @@ SRF_REACH = 10.0           # a sweep must reach within this factor of the part's
 
 class ImplausibleFit(ModelError):
     """A fit that converged but disagrees with the part's catalog data (likely a unit error)."""
-
-
-@dataclass(frozen=True)
-class StoredSweep:
-    """A measured sweep as stored: f [Hz] strictly increasing, z [ohm] complex."""
-
-    maker: str
-    part_number: str
-    source_file: str
-    fixture: str | None
-    imported_at: datetime
-    f: NDArray[np.float64]
-    z: NDArray[np.complex128]
-    note: str | None = None
-
-    @property
-    def band(self) -> tuple[float, float]:
-        return float(self.f[0]), float(self.f[-1])
 
 
 @dataclass(frozen=True)
@@ -85,8 +70,9 @@ def read_sweep_file(path: str | Path, *, fixture: str | None = None, cli: bool =
     impedance itself and take ``csv_options`` (see :func:`partsel.io.sweep.read_sweep_csv`);
     with ``cli`` their messages name the command's options.
     """
+    from partsel.engine.fixture import FIXTURES, impedance_from
     from partsel.io.sweep import read_sweep_csv
-    from partsel.io.touchstone import FIXTURES, impedance_from, read_touchstone
+    from partsel.io.touchstone import read_touchstone
 
     p = Path(path)
     if TOUCHSTONE.search(p.name):
@@ -97,8 +83,8 @@ def read_sweep_file(path: str | Path, *, fixture: str | None = None, cli: bool =
         if fixture is None:
             if data.n_ports != 1:
                 raise FileFormatError(f"{p.name} is a {data.n_ports}-port file: say how the part "
-                                      "was mounted with --fixture reflection, shunt-thru or "
-                                      "series-thru")
+                                      f"was mounted with {_word(cli, '--fixture ', 'fixture=')}"
+                                      "reflection, shunt-thru or series-thru")
             fixture = "reflection"
         if fixture not in FIXTURES:
             raise FileFormatError(f"unknown fixture '{fixture}'; choose one of "
@@ -109,12 +95,17 @@ def read_sweep_file(path: str | Path, *, fixture: str | None = None, cli: bool =
         return data.f, z, fixture, note
     if p.suffix.lower() in CSV_SUFFIXES:
         if fixture is not None:
-            raise FileFormatError("--fixture is for Touchstone files; a CSV sweep holds the "
-                                  "impedance itself")
+            raise FileFormatError(f"{_word(cli, '--fixture', 'a fixture')} is for Touchstone "
+                                  "files; a CSV sweep holds the impedance itself")
         sweep = read_sweep_csv(p, cli=cli, **csv_options)
         return sweep.f, sweep.z, None, sweep.source
     raise FileFormatError(f"cannot tell the sweep format of {p.name}: use a Touchstone file "
                           "(.s1p, .s2p, .ts) or a CSV file (.csv)")
+
+
+def _word(cli: bool, option: str, keyword: str) -> str:
+    """How a message names a choice: the command's option (``cli``) or the keyword argument."""
+    return option if cli else keyword
 
 
 def _checked(f: ArrayLike, z: ArrayLike, label: str) -> tuple[NDArray, NDArray]:
@@ -137,31 +128,15 @@ def _checked(f: ArrayLike, z: ArrayLike, label: str) -> tuple[NDArray, NDArray]:
 
 # -- storing and loading -------------------------------------------------------------------------
 
-def _row_to_sweep(row: Sequence[Any]) -> StoredSweep:
-    maker, pn, src, fixture, at, f, re_, im, note = row
-    return StoredSweep(maker, pn, src, fixture, at, np.asarray(f, dtype=float),
-                       np.asarray(re_, dtype=float) + 1j * np.asarray(im, dtype=float), note)
-
-
-_SWEEP_COLS = "maker, part_number, source_file, fixture, imported_at, f, z_re, z_im, note"
-
-
 def sweeps_of(store: Store, part_number: str, maker: str | None = None) -> list[StoredSweep]:
     """Every stored sweep of a part, newest first."""
     part = store.find_part(part_number, maker)
-    rows = store.con.execute(
-        f"SELECT {_SWEEP_COLS} FROM sweeps WHERE maker = ? AND part_number = ? "
-        "ORDER BY imported_at DESC, rowid DESC", [part["maker"], part["part_number"]]).fetchall()
-    return [_row_to_sweep(r) for r in rows]
+    return sweeps.sweeps_of(store, part["maker"], part["part_number"])
 
 
 def latest_sweep(store: Store, part: dict[str, Any]) -> StoredSweep | None:
     """The newest stored sweep of a part row, or None."""
-    row = store.con.execute(
-        f"SELECT {_SWEEP_COLS} FROM sweeps WHERE maker = ? AND part_number = ? "
-        "ORDER BY imported_at DESC, rowid DESC LIMIT 1",
-        [part["maker"], part["part_number"]]).fetchone()
-    return _row_to_sweep(row) if row else None
+    return sweeps.latest_sweep(store, part["maker"], part["part_number"])
 
 
 def store_sweep(store: Store, part_number: str, f: ArrayLike, z: ArrayLike, *,
@@ -173,24 +148,18 @@ def store_sweep(store: Store, part_number: str, f: ArrayLike, z: ArrayLike, *,
     """
     part = store.find_part(part_number, maker)
     fa, za = _checked(f, z, source_file or "sweep")
-    key = [part["maker"], part["part_number"]]
-    same = store.con.execute(
-        f"SELECT {_SWEEP_COLS} FROM sweeps WHERE maker = ? AND part_number = ? AND f = ? "
-        "AND z_re = ? AND z_im = ? AND fixture IS NOT DISTINCT FROM ? LIMIT 1",
-        key + [fa.tolist(), za.real.tolist(), za.imag.tolist(), fixture]).fetchone()
-    if same:
-        return SweepImport(_row_to_sweep(same), added=False)
-    row = store.con.execute(
-        f"INSERT INTO sweeps ({_SWEEP_COLS}) VALUES (?, ?, ?, ?, now(), ?, ?, ?, ?) "
-        f"RETURNING {_SWEEP_COLS}",
-        key + [source_file, fixture, fa.tolist(), za.real.tolist(), za.imag.tolist(), note]
-    ).fetchone()
+    key = (part["maker"], part["part_number"])
+    same = sweeps.same_sweep(store, *key, fa, za, fixture)
+    if same is not None:
+        return SweepImport(same, added=False)
+    stored = sweeps.insert_sweep(store, *key, fa, za, source_file=source_file, fixture=fixture,
+                                 note=note)
     remarks = []
     negative = int(np.count_nonzero(za.real < 0))
     if negative > fa.size // 4:
         remarks.append(f"{negative} of {fa.size} points have a negative resistance, which a "
                        "passive part cannot have: check the fixture and the calibration")
-    return SweepImport(_row_to_sweep(row), added=True, remarks=remarks)
+    return SweepImport(stored, added=True, remarks=remarks)
 
 
 def import_sweep(store: Store, path: str | Path, part_number: str, *, maker: str | None = None,
@@ -266,7 +235,7 @@ def _run_fit(kind: str, f: NDArray, z: NDArray, tan_delta: bool, rp: bool,
 
 def fit_part(store: Store, part_number: str, *, maker: str | None = None,
              tan_delta: bool = False, rp: bool = True, band: tuple[float, float] | None = None,
-             save: bool = True, keep_anyway: bool = False) -> PartFit:
+             save: bool = True, keep_anyway: bool = False, cli: bool = False) -> PartFit:
     """Fit a part's equivalent circuit to its latest stored sweep; store it unless ``save`` is
     false.
 
@@ -276,6 +245,7 @@ def fit_part(store: Store, part_number: str, *, maker: str | None = None,
     "measured fit"; the model they replace is kept in ``model_history``. A fit that did not
     converge is refused and changes nothing, and so is one that :func:`fit_doubts` finds
     implausible, unless ``keep_anyway`` (with ``save`` false its doubts become warnings).
+    With ``cli``, messages name the command's options instead of keyword arguments.
 
     Raises
     ------
@@ -287,25 +257,16 @@ def fit_part(store: Store, part_number: str, *, maker: str | None = None,
         store.require_write("store a fit")
     part = store.find_part(part_number, maker)
     if part["kind"] == "inductor" and tan_delta:
-        raise QueryError("--tan-delta is for capacitors; an inductor's losses are DCR and Rp")
+        raise QueryError(f"{_word(cli, '--tan-delta', 'tan_delta')} is for capacitors; an "
+                         "inductor's losses are DCR and Rp")
     sweep = latest_sweep(store, part)
     if sweep is None:
         raise QueryError(f"no measured sweep is stored for {part['part_number']}: import one "
-                         f"with 'partsel sweep import FILE --part {part['part_number']}'")
-    f, z = sweep.f, sweep.z
-    if band is not None:
-        keep = (f >= band[0]) & (f <= band[1])
-        if keep.sum() < MIN_POINTS:
-            raise QueryError(f"the band keeps {int(keep.sum())} of the sweep's points "
-                             f"({_span(*sweep.band)}); a fit needs {MIN_POINTS}: widen --band")
-        f, z = f[keep], z[keep]
+                         "first" + (f" with 'partsel sweep import FILE --part "
+                                    f"{part['part_number']}'" if cli else " (import_sweep)"))
+    f, z = _fit_points(sweep, band, cli)
     result = _run_fit(part["kind"], f, z, tan_delta, rp, _initial(part))
-    prm = result.params
-    if part["kind"] == "capacitor":
-        model = {k: prm[k] for k in ("value", "esr", "tan_delta", "esl")}
-    else:
-        model = {"value": prm["value"], "dcr": prm["dcr"], "srf": prm["srf"],
-                 "rp": prm["rp"] if math.isfinite(prm["rp"]) else None}
+    model = _fitted_model(part["kind"], result.params)
     doubts = fit_doubts(part, model["value"], (float(f[0]), float(f[-1])))
     warnings = _fit_warnings(result, sweep, f)
     if not save or keep_anyway:
@@ -314,20 +275,50 @@ def fit_part(store: Store, part_number: str, *, maker: str | None = None,
                   float(f[-1])), warnings)
     if not save:
         return out
-    if not result.success:
-        raise ModelError(f"the fit of {part['part_number']} did not converge "
-                         f"({result.message.rstrip('.')}); the stored model was not changed: "
-                         "try --band to leave out points the model cannot follow")
-    if doubts and not keep_anyway:
-        where = ("give --freq-unit MHz or put the unit in the column header, e.g. "
-                 "'Frequency (MHz)'" if sweep.fixture is None else
-                 "see the unit on the Touchstone option line ('# MHz ...')")
-        raise ImplausibleFit(f"the fit of {part['part_number']} was not stored: "
-                             f"{'; '.join(doubts)}; check the frequency unit of the sweep: "
-                             f"{where}; to store this fit anyway add --keep-anyway")
+    _refuse_bad_fit(part, sweep, result, [] if keep_anyway else doubts, cli)
     _save_fit(store, out)
     out.saved = True
     return out
+
+
+def _fit_points(sweep: StoredSweep, band: tuple[float, float] | None,
+                cli: bool) -> tuple[NDArray, NDArray]:
+    """The sweep's points inside ``band`` (all without one); at least MIN_POINTS of them."""
+    f, z = sweep.f, sweep.z
+    if band is None:
+        return f, z
+    keep = (f >= band[0]) & (f <= band[1])
+    if keep.sum() < MIN_POINTS:
+        raise QueryError(f"the band keeps {int(keep.sum())} of the sweep's points "
+                         f"({span_text(*sweep.band)}); a fit needs {MIN_POINTS}: widen "
+                         f"{_word(cli, '--band', 'the band')}")
+    return f[keep], z[keep]
+
+
+def _fitted_model(kind: str, prm: dict[str, float]) -> dict[str, float | None]:
+    """The fitted parameters under catalog names (an infinite Rp is no Rp)."""
+    if kind == "capacitor":
+        return {k: prm[k] for k in ("value", "esr", "tan_delta", "esl")}
+    return {"value": prm["value"], "dcr": prm["dcr"], "srf": prm["srf"],
+            "rp": prm["rp"] if math.isfinite(prm["rp"]) else None}
+
+
+def _refuse_bad_fit(part: dict[str, Any], sweep: StoredSweep, result: FitResult,
+                    doubts: list[str], cli: bool) -> None:
+    """Refuse to store a fit that did not converge, or one with doubts."""
+    if not result.success:
+        raise ModelError(f"the fit of {part['part_number']} did not converge "
+                         f"({result.message.rstrip('.')}); the stored model was not changed: "
+                         f"try a narrower {_word(cli, '--band', 'band')} to leave out points "
+                         "the model cannot follow")
+    if doubts:
+        where = (f"give {_word(cli, '--freq-unit MHz', 'freq_unit=MHz')} or put the unit in "
+                 "the column header, e.g. 'Frequency (MHz)'" if sweep.fixture is None else
+                 "see the unit on the Touchstone option line ('# MHz ...')")
+        raise ImplausibleFit(f"the fit of {part['part_number']} was not stored: "
+                             f"{'; '.join(doubts)}; check the frequency unit of the sweep: "
+                             f"{where}; to store this fit anyway add "
+                             f"{_word(cli, '--keep-anyway', 'keep_anyway=True')}")
 
 
 def fit_doubts(part: dict[str, Any], fitted_value: float,
@@ -351,7 +342,7 @@ def fit_doubts(part: dict[str, Any], fitted_value: float,
                        f"({part.get('value_source') or 'catalog'})")
     srf = part.get("srf")
     if srf and not band[0] / SRF_REACH <= float(srf) <= band[1] * SRF_REACH:
-        out.append(f"the sweep ({_span(*band)}) does not reach within a decade of the catalog "
+        out.append(f"the sweep ({span_text(*band)}) does not reach within a decade of the catalog "
                    f"SRF {format_quantity(float(srf), 'Hz')}")
     return out
 
@@ -361,7 +352,7 @@ def _fit_warnings(result: FitResult, sweep: StoredSweep, f: NDArray) -> list[str
     if result.residual_db > POOR_FIT_DB:
         out.append(f"the model departs from the data by {result.residual_db:.2f} dB RMS: the "
                    "equivalent circuit does not describe this part well over the whole band "
-                   "(see where it departs; --band can leave those points out)")
+                   "(see where it departs; a narrower band can leave those points out)")
     if sweep.fixture == "shunt-thru" and f[0] < SHUNT_GROUND_LOOP_HZ:
         out.append("shunt-thru data below about 100 kHz can carry a ground-loop error of the "
                    "fixture (rule of thumb): low-frequency mOhm values may be off")
@@ -372,21 +363,12 @@ def _save_fit(store: Store, fit: PartFit) -> None:
     part, sweep = fit.part, fit.sweep
     reason = (f"{FIT_REASON} to {sweep.source_file or 'a sweep'} (imported "
               f"{sweep.imported_at:%Y-%m-%d %H:%M}, {fit.fit.n_points} points from "
-              f"{_span(*fit.band)}, residual {fit.fit.residual_db:.3g} dB RMS)")
-    sets, params = [], []
+              f"{span_text(*fit.band)}, residual {fit.fit.residual_db:.3g} dB RMS)")
+    model: dict[str, Any] = {}
     for p, v in fit.model.items():
-        sets += [f'"{p}" = ?', f'"{p}_source" = ?']
-        params += [v, "measured fit" if v is not None else None]
-    con = store.con
-    con.execute("BEGIN TRANSACTION")
-    try:
-        con.execute("INSERT INTO model_history VALUES (?, ?, now(), ?, ?)",
-                    [part["maker"], part["part_number"], reason, json.dumps(fit.previous)])
-        con.execute(f"UPDATE parts SET {', '.join(sets)} WHERE id = ?", params + [part["id"]])
-        con.execute("COMMIT")
-    except Exception:
-        con.execute("ROLLBACK")
-        raise
+        model[p], model[f"{p}_source"] = v, "measured fit" if v is not None else None
+    history.replace_model(store, part["id"], part["maker"], part["part_number"], model, reason,
+                          fit.previous)
 
 
 @dataclass(frozen=True)
@@ -400,10 +382,8 @@ def model_history(store: Store, part_number: str, maker: str | None = None
                   ) -> list[HistoryEntry]:
     """Earlier models of a part, newest first."""
     part = store.find_part(part_number, maker)
-    rows = store.con.execute(
-        "SELECT saved_at, reason, model FROM model_history WHERE maker = ? AND part_number = ? "
-        "ORDER BY saved_at DESC, rowid DESC", [part["maker"], part["part_number"]]).fetchall()
-    return [HistoryEntry(at, reason, json.loads(model)) for at, reason, model in rows]
+    return [HistoryEntry(*entry) for entry in history.history(store, part["maker"],
+                                                              part["part_number"])]
 
 
 def undo_fit(store: Store, part_number: str, maker: str | None = None) -> dict[str, Any]:
@@ -416,205 +396,16 @@ def undo_fit(store: Store, part_number: str, maker: str | None = None) -> dict[s
     if not any(part.get(f"{p}_source") == "measured fit" for p in MODEL_PARAMETERS):
         raise QueryError(f"the model of {part['part_number']} is not a measured fit: nothing to "
                          "undo")
-    row = store.con.execute(
-        "SELECT rowid, model FROM model_history WHERE maker = ? AND part_number = ? "
-        f"AND reason LIKE '{FIT_REASON}%' ORDER BY saved_at DESC, rowid DESC LIMIT 1",
-        [part["maker"], part["part_number"]]).fetchone()
-    if row is None:
+    last = history.latest_with_reason(store, part["maker"], part["part_number"], FIT_REASON)
+    if last is None:
         raise QueryError(f"no earlier model of {part['part_number']} is kept: nothing to undo")
-    rowid, text = row
-    restored = json.loads(text)
-    sets, params = [], []
-    for p in MODEL_PARAMETERS:
-        sets += [f'"{p}" = ?', f'"{p}_source" = ?']
-        params += [restored.get(p), restored.get(f"{p}_source")]
-    con = store.con
-    con.execute("BEGIN TRANSACTION")
-    try:
-        con.execute("DELETE FROM model_history WHERE rowid = ?", [rowid])
-        con.execute("INSERT INTO model_history VALUES (?, ?, now(), ?, ?)",
-                    [part["maker"], part["part_number"], "measured fit undone",
-                     json.dumps(_model_of(part))])
-        con.execute(f"UPDATE parts SET {', '.join(sets)} WHERE id = ?", params + [part["id"]])
-        con.execute("COMMIT")
-    except Exception:
-        con.execute("ROLLBACK")
-        raise
+    rowid, _, restored = last
+    history.restore_model(store, part["id"], part["maker"], part["part_number"], rowid, restored,
+                          "measured fit undone", _model_of(part))
     return restored
 
 
-# -- measured curves in place of the model ------------------------------------------------------
-
-def _span(lo: float, hi: float) -> str:
-    return f"{format_quantity(lo, 'Hz')} to {format_quantity(hi, 'Hz')}"
-
-
-def interpolate(f_meas: ArrayLike, z_meas: ArrayLike, f: ArrayLike) -> NDArray[np.complex128]:
-    r"""The measured curve at frequencies ``f``: ln|Z| and unwrapped phase linear in ln f.
-
-    Exact at the measured points; NaN outside [f_meas[0], f_meas[-1]].
-    """
-    fm = np.asarray(f_meas, dtype=float)
-    zm = np.asarray(z_meas, dtype=complex)
-    fa = np.asarray(f, dtype=float)
-    lf = np.log(fm)
-    x = np.log(fa)
-    mag = np.interp(x, lf, np.log(np.abs(zm)))
-    phase = np.interp(x, lf, np.unwrap(np.angle(zm)))
-    z = np.exp(mag + 1j * phase)
-    inside = (fa >= fm[0]) & (fa <= fm[-1])
-    return np.where(inside, z, np.nan + 0j)
-
-
-def curve_band(f_meas: ArrayLike, z_meas: ArrayLike, f1: float, f2: float,
-               mount_l: float = 0.0) -> tuple[float, float, float, float]:
-    """(max |Z|, where, min |Z|, where) of the interpolated measured curve over [f1, f2].
-
-    The band must lie inside the measured range. Exact for the interpolant (module docstring);
-    with a mounting inductance, j omega L is added at the band edges and measured points, so
-    the extrema are those of these points.
-    """
-    fm = np.asarray(f_meas, dtype=float)
-    inner = fm[(fm > f1) & (fm < f2)]
-    pts = np.concatenate([[f1], inner, [f2]])
-    z = interpolate(fm, z_meas, pts)
-    if mount_l:
-        z = z + 1j * TWO_PI * pts * mount_l
-    mag = np.abs(z)
-    i, k = int(np.argmax(mag)), int(np.argmin(mag))
-    return float(mag[i]), float(pts[i]), float(mag[k]), float(pts[k])
-
-
-def latest_sweeps_by_id(store: Store) -> dict[int, StoredSweep]:
-    """Part id -> its newest sweep, for every part that has one."""
-    rows = store.con.execute(
-        f"SELECT p.id, {', '.join('s.' + c.strip() for c in _SWEEP_COLS.split(','))} "
-        "FROM sweeps s JOIN parts p ON p.maker = s.maker AND p.part_number = s.part_number "
-        "QUALIFY row_number() OVER (PARTITION BY s.maker, s.part_number "
-        "ORDER BY s.imported_at DESC, s.rowid DESC) = 1").fetchall()
-    return {int(r[0]): _row_to_sweep(r[1:]) for r in rows}
-
-
-ModelBand = Callable[[float, float, int], BandExtrema]
-
-
-@dataclass
-class MeasuredOverlay:
-    """Band extrema with measured curves in place of the model where the store has them."""
-
-    extrema: BandExtrema
-    source: NDArray[np.object_]      # per candidate: "model", "measured", "measured + model"
-    effects: list[str]
-    notes: list[str]
-
-
-def overlay_band(store: Store, ids: NDArray, band: tuple[float, float], extrema: BandExtrema,
-                 model_band: ModelBand, *, only: bool = False,
-                 mount_l: float = 0.0) -> MeasuredOverlay:
-    """Replace the model's band extrema of the parts that have a measured curve.
-
-    ``ids`` are the candidates' part ids (the order of ``extrema``). Where a part's sweep does
-    not cover the whole band, the model fills the rest (``model_band(f1, f2, position)``
-    gives its extrema over a sub-band), or, with ``only``, the part gets NaN extrema (left out),
-    as does every part without a sweep.
-    """
-    f1, f2 = band
-    sweeps = latest_sweeps_by_id(store)
-    ids = np.asarray(ids)
-    pos = np.flatnonzero(np.isin(ids, np.fromiter(sweeps, dtype=ids.dtype, count=len(sweeps))))
-    out = {k: np.array(getattr(extrema, k), dtype=float, copy=True)
-           for k in ("max_z", "f_max", "min_z", "f_min")}
-    source = np.full(len(ids), "model", dtype=object)
-    full = partial = outside = 0
-    # A loop over the parts that carry a sweep: bench measurements, a handful, not the catalog.
-    for i in pos:
-        sw = sweeps[int(ids[i])]
-        lo, hi = max(f1, sw.band[0]), min(f2, sw.band[1])
-        if lo > hi:
-            outside += 1
-            continue
-        pieces = [curve_band(sw.f, sw.z, lo, hi, mount_l)]
-        for a, b in ((f1, lo), (hi, f2)):
-            if a < b:
-                e = model_band(a, b, int(i))
-                pieces.append((float(e.max_z), float(e.f_max), float(e.min_z), float(e.f_min)))
-        if len(pieces) > 1 and only:
-            partial += 1
-            continue
-        top = max(pieces, key=lambda p: p[0])
-        low = min(pieces, key=lambda p: p[2])
-        out["max_z"][i], out["f_max"][i] = top[0], top[1]
-        out["min_z"][i], out["f_min"][i] = low[2], low[3]
-        source[i] = "measured" if len(pieces) == 1 else "measured + model"
-        full += len(pieces) == 1
-        partial += len(pieces) > 1
-    effects, notes = [], []
-    if only:
-        keep = source == "measured"
-        for k in out:
-            out[k][~keep] = np.nan
-        effects.append(f"measured curves only: {full} parts measured over the whole band")
-        left = len(ids) - full
-        if left:
-            notes.append(f"{left} parts were left out: no stored sweep covers the whole band "
-                         f"({partial} cover part of it)")
-    else:
-        used = full + partial
-        effects.append(f"measured curves for {used} of {len(ids)} parts"
-                       + (f" ({partial} with the model outside the measured range)"
-                          if partial else "")
-                       + ("; the model for the others" if used < len(ids) else ""))
-        if outside:
-            notes.append(f"{outside} parts have a sweep that does not reach the band: their "
-                         "model was used")
-    if mount_l and (full or partial):
-        effects.append("mounting inductance added to the measured curves at their points")
-    return MeasuredOverlay(BandExtrema(**out), source, effects, notes)
-
-
-def measured_span(store: Store, rows: Sequence[dict[str, Any]], *,
-                  only: bool = False) -> tuple[float, float] | None:
-    """The band the parts' sweeps cover: their union, or with ``only`` their common part."""
-    bands = [sw.band for sw in (latest_sweep(store, r) for r in rows) if sw is not None]
-    if not bands:
-        return None
-    if only:
-        lo, hi = max(b[0] for b in bands), min(b[1] for b in bands)
-        if lo >= hi:
-            raise QueryError("the parts' measured sweeps share no frequency range; plot them "
-                             "with --measured or one at a time")
-        return lo, hi
-    return min(b[0] for b in bands), max(b[1] for b in bands)
-
-
-def overlay_curves(store: Store, rows: Sequence[dict[str, Any]], f: NDArray,
-                   z_model: NDArray, *, only: bool = False,
-                   mount_l: float = 0.0) -> tuple[NDArray, list[str]]:
-    """Measured curves in place of the model on the grid ``f`` (rows x f), and what was used.
-
-    Outside a sweep's range the model stays, or, with ``only``, a QueryError names the part
-    and its measured range.
-    """
-    z = np.array(z_model, dtype=complex, copy=True)
-    effects = []
-    for i, part in enumerate(rows):
-        sw = latest_sweep(store, part)
-        pn = part["part_number"]
-        if sw is None:
-            if only:
-                raise QueryError(f"{pn} has no stored measured sweep; leave out --measured-only "
-                                 "to use its model")
-            effects.append(f"{pn}: model (no measured sweep)")
-            continue
-        meas = interpolate(sw.f, sw.z, f)
-        inside = np.isfinite(meas)
-        if mount_l and part.get("kind") == "capacitor":
-            meas = meas + 1j * TWO_PI * f * mount_l
-        rng = _span(*sw.band)
-        if only and not inside.all():
-            raise QueryError(f"{pn} was measured from {rng} only; narrow --band to that range "
-                             "or use --measured")
-        z[i, inside] = meas[inside]
-        where = "" if inside.all() else f", model outside {rng}"
-        effects.append(f"{pn}: measured curve of {sw.source_file or 'a sweep'} ({rng}{where})")
-    return z, effects
+__all__ = ["FIT_REASON", "HistoryEntry", "ImplausibleFit", "PartFit", "StoredSweep", "SweepImport",
+           "curve_band", "fit_doubts", "fit_part", "import_sweep", "interpolate",
+           "latest_sweep", "measured_span", "model_history", "overlay_band", "overlay_curves",
+           "read_sweep_file", "store_sweep", "sweeps_of", "undo_fit"]

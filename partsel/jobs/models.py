@@ -313,7 +313,7 @@ def _with_curves(store: Any, ids: NDArray, models: ModelSet, source: NDArray, or
                  span: tuple[NDArray, NDArray], only: bool, value: NDArray | None,
                  tan_delta: NDArray | None) -> ModelSet:
     """Put each part's newest stored sweep in place of its model (the model as fallback)."""
-    from partsel.jobs.measured import latest_sweeps_by_id
+    from partsel.store.sweeps import latest_sweeps_by_id
 
     sweeps = latest_sweeps_by_id(store)
     pos = np.array([k for k, i in enumerate(ids) if int(i) in sweeps], dtype=np.intp)

@@ -100,7 +100,7 @@ def report(store: Store, part_number: str, maker: str | None = None,
     from partsel.standards import safety
     if safety.needs_caution(part.get("safety_class"), part.get("rated_voltage")):
         cautions.append(safety.caution_text())
-    from partsel.store.models import sweep_count
+    from partsel.store.sweeps import sweep_count
     used = {"source": str(chosen.source[0]), "family": str(chosen.family[0]),
             "origin": str(chosen.origin[0]), "label": chosen.labels()[0]}
     return PartReport(part, params, _derived(part, chosen), _points(part, chosen.models),

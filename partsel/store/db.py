@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import json
 import os
-from collections.abc import Iterable, Sequence
+from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -92,10 +92,10 @@ class Store:
             others = sorted({r["maker"] for r in self._match(part_number, None)})
             if others:
                 raise PartNotFound(f"part '{part_number}' is not from maker '{maker}' in the store "
-                                   f"{self.path}; it is from {', '.join(others)}: change or drop "
-                                   "--maker")
+                                   f"{self.path}; it is from {', '.join(others)}: name one of them "
+                                   "as the maker, or none")
         if not rows:
-            hint = self._suggest(part_number)
+            hint = self.similar_part_numbers(part_number)
             who = f" from maker '{maker}'" if maker else ""
             raise PartNotFound(f"no part '{part_number}'{who} in the store {self.path}"
                                + (f"; close matches: {', '.join(hint)}" if hint else
@@ -103,7 +103,7 @@ class Store:
         if len(rows) > 1:
             makers = ", ".join(sorted(r["maker"] for r in rows))
             raise PartNotFound(f"part number '{part_number}' is used by several makers "
-                               f"({makers}): add --maker to choose one")
+                               f"({makers}): name the maker to choose one")
         return rows[0]
 
     def _match(self, part_number: str, maker: str | None) -> list[dict[str, Any]]:
@@ -120,10 +120,12 @@ class Store:
                 return [_decode_row(dict(zip(names, r, strict=True))) for r in rows]
         return []
 
-    def _suggest(self, part_number: str, n: int = 3) -> list[str]:
+    def similar_part_numbers(self, part_number: str, n: int = 3) -> list[str]:
+        """The ``n`` stored part numbers most like ``part_number`` (Jaro-Winkler similarity,
+        letter case ignored; ties by part number)."""
         rows = self.con.execute(
             "SELECT part_number FROM parts ORDER BY jaro_winkler_similarity(lower(part_number), "
-            "lower(?)) DESC LIMIT ?", [part_number, n]).fetchall()
+            "lower(?)) DESC, part_number LIMIT ?", [part_number, n]).fetchall()
         return [r[0] for r in rows]
 
     def parts_by_id(self, ids: Iterable[int]) -> list[dict[str, Any]]:
@@ -160,64 +162,71 @@ def _connect(path: Path, read_only: bool) -> duckdb.DuckDBPyConnection:
             raise StoreError(f"the store {path} is in use by another process ({text}); "
                              "close it there or open a copy") from None
         raise StoreError(f"{path} is not a partsel store (not a DuckDB database file); give "
-                         "--store a .duckdb file made by partsel, or a new file name") from None
+                         "a .duckdb file made by partsel, or a new file name") from None
+
+
+def _create(p: Path, create: bool, write: bool, first_use: FirstUse | None) -> Store:
+    if not create:
+        raise StoreError(f"no store at {p}: create one by importing a catalog into it, or by "
+                         "filling it with demo parts")
+    try:
+        p.parent.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise StoreError(f"cannot create the store folder {p.parent}: {exc.strerror}; "
+                         "choose another store path") from None
+    store = Store(p, _connect(p, read_only=False), read_only=False)
+    schema.migrate(store.con, None)
+    if first_use is not None:
+        store.notices.append(first_use(store))
+    if not write:
+        store.close()
+        store = Store(p, _connect(p, read_only=True), read_only=True, notices=store.notices)
+    return store
+
+
+def resolve_path(path: str | os.PathLike[str] | None = None) -> tuple[Path, bool]:
+    """The store file a path names: ``path``, else $PARTSEL_STORE, else the per-user default
+    store; and whether it is that default."""
+    if path is not None and str(path) != "":
+        return Path(path).expanduser(), False
+    env = os.environ.get(ENV_VAR)
+    if env:
+        return Path(env).expanduser(), False
+    return default_store_path(), True
+
+
+FirstUse = Callable[[Store], str]
 
 
 def open_store(path: str | os.PathLike[str] | None = None, *, write: bool = False,
-               create: bool | None = None) -> Store:
+               create: bool | None = None, first_use: FirstUse | None = None) -> Store:
     """Open (and when needed create or migrate) a store.
 
-    ``path`` None means $PARTSEL_STORE, else the per-user default store, which is created on
-    first use and filled with the bundled demo catalog (a notice says so). An explicit path that
-    does not exist is created only when ``create`` is true (default: when ``write`` is true).
+    ``path`` None means $PARTSEL_STORE, else the per-user default store. A store that does not
+    exist is created only when ``create`` is true (default: when ``write`` is true, and for the
+    default store when ``first_use`` is given). ``first_use(store)`` fills a newly created
+    default store and returns a notice for the user, which the store keeps in ``notices``
+    (:func:`partsel.jobs.default_store.open_store` fills it with the bundled demo catalog).
     """
-    is_default = False
-    if path is None or str(path) == "":
-        env = os.environ.get(ENV_VAR)
-        if env:
-            path = env
-        else:
-            path = default_store_path()
-            is_default = True
-    p = Path(path).expanduser()
+    p, is_default = resolve_path(path)
     if create is None:
-        create = write or is_default
+        create = write or (is_default and first_use is not None)
     if p.is_dir():
         raise StoreError(f"store path {p} is a directory: give a file name such as "
                          f"{p / 'parts.duckdb'}")
     if not p.exists():
-        if not create:
-            raise StoreError(f"no store at {p}: create one with 'partsel --store {p} import FILE' "
-                             f"or 'partsel --store {p} demo'")
-        try:
-            p.parent.mkdir(parents=True, exist_ok=True)
-        except OSError as exc:
-            raise StoreError(f"cannot create the store folder {p.parent}: {exc.strerror}; "
-                             "choose another --store path") from None
-        store = Store(p, _connect(p, read_only=False), read_only=False)
-        schema.migrate(store.con, None)
-        if is_default:
-            from partsel.demo import DEFAULT_PARTS, demo_catalog
-            from partsel.store.importer import insert_frame
-            insert_frame(store, demo_catalog(), source_file="demo catalog (invented parts)")
-            store.notices.append(
-                f"created a store at {p} with the bundled demo catalog ({DEFAULT_PARTS} invented "
-                f"parts); use --store PATH or {ENV_VAR} for your own catalog")
-        if not write:
-            store.close()
-            store = Store(p, _connect(p, read_only=True), read_only=True, notices=store.notices)
-        return store
+        return _create(p, create, write, first_use if is_default else None)
     con = _connect(p, read_only=not write)
     try:
         version = schema.current_version(con)
     except duckdb.Error as exc:
         con.close()
-        raise StoreError(f"{p} is not a partsel store ({exc}); give --store a file made by "
+        raise StoreError(f"{p} is not a partsel store ({exc}); give a store file made by "
                          "partsel") from None
     if version is None:
         con.close()
         raise StoreError(f"{p} is a DuckDB database but not a partsel store (no partsel schema); "
-                         "give --store a file made by partsel, or a new file name")
+                         "give a store file made by partsel, or a new file name")
     if version > schema.SCHEMA_VERSION:
         con.close()
         raise StoreError(f"{p} was written by a newer partsel (schema {version}, this one reads "

@@ -39,8 +39,6 @@ from partsel.io.catalog import normalise_header, read_cells
 from partsel.io.mapping import Mapping, apply_mapping, read_mapping
 from partsel.store.db import Store
 
-MAX_LISTED = 20
-
 
 @dataclass(frozen=True)
 class Problem:
@@ -75,7 +73,8 @@ class ImportSummary:
         est = ", ".join(f"{k} for {v}" for k, v in self.estimated.items() if v)
         same = f" ({self.unchanged} of them unchanged)" if self.unchanged else ""
         fits = (f"; kept the measured-fit model of {self.kept_fits} part"
-                f"{'s' if self.kept_fits != 1 else ''} (undo with 'partsel fit PART --undo')"
+                f"{'s' if self.kept_fits != 1 else ''} (undo a part's fit to go back to the "
+                "catalog model)"
                 if self.kept_fits else "")
         def n(count: int, word: str) -> str:
             return f"{count} {word}{'' if count == 1 else 's'}"
@@ -244,7 +243,7 @@ def parse_catalog(cells: pd.DataFrame) -> tuple[pd.DataFrame, list[Problem]]:
         word = "columns" if len(missing) > 1 else "column"
         problems.append(Problem(0, ", ".join(missing), f"required {word} missing; the file has "
                                 + ", ".join(map(str, cells.columns))
-                                + ": rename them or map them with --map MAP.toml"))
+                                + ": rename them or map them with a mapping file (TOML)"))
     if problems:
         return pd.DataFrame(), problems
     cells = cells.set_axis(headers, axis=1)
@@ -419,8 +418,8 @@ def refused_rows(problems: list[Problem], rows: int) -> int:
 def _refusal(path: Path, problems: list[Problem], rows: int) -> CatalogError:
     first = problems[0]
     more = len(problems) - 1
-    tail = f"; and {more} more problem{'s' if more > 1 else ''} (list them with 'partsel " \
-           f"import --check {path.name}')" if more else ""
+    tail = f"; and {more} more problem{'s' if more > 1 else ''} (a check of {path.name} " \
+           "lists them all)" if more else ""
     refused = refused_rows(problems, rows)
     return CatalogError(f"{path.name} was not imported (nothing changed; {refused} of {rows} "
                         f"rows refused): {first}{tail}")

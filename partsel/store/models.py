@@ -171,8 +171,3 @@ def model_text(store: Store, maker: str, part_number: str, source: str) -> str |
                             [maker, part_number, source]).fetchone()
     return row[0] if row else None
 
-
-def sweep_count(store: Store, maker: str, part_number: str) -> int:
-    """How many measured sweeps the store holds for a part."""
-    return int(store.con.execute("SELECT count(*) FROM sweeps WHERE maker = ? AND "
-                                 "part_number = ?", [maker, part_number]).fetchall()[0][0])

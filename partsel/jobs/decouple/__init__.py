@@ -75,22 +75,31 @@ within the limits holds on them the answer says so with the reasons.
 
 Modules
 -------
-``inputs`` the request (Board, Rail, Choice); ``capacitance`` C at DC bias and worst case;
-``candidates`` loading and reduction (step 1); ``measured`` measured curves and networks;
-``solver`` steps 2-5; ``diagnosis`` why a bank fails; ``effects`` what a result says was
-applied; ``result`` the Result and its rows; ``evaluate`` a bank checked into a Result;
-``planner`` :func:`plan`; ``bank`` the bank file and :func:`check`.
+``inputs`` the request (Board, Rail, Choice); ``board_options`` the board read from text;
+``capacitance`` C at DC bias and worst case; ``candidates`` loading and reduction (step 1);
+``measured`` measured curves and networks; ``solver`` steps 2-5; ``diagnosis`` why a bank
+fails; ``effects`` what a result says was applied; ``result`` the Result and its rows;
+``evaluate`` a bank checked into a Result; ``planner`` :func:`plan`; ``bank`` :func:`check`
+(the bank file is read by :func:`partsel.io.bank.read_bank`); ``plot`` the plot of a bank.
 """
 
-from partsel.jobs.decouple.bank import BankEntry, check, read_bank
+from partsel.io.bank import BankEntry, read_bank
+from partsel.jobs.decouple.bank import check
+from partsel.jobs.decouple.board_options import (
+    board_from_text,
+    parse_area,
+    parse_length,
+    parse_mount_l,
+    parse_plane,
+)
 from partsel.jobs.decouple.candidates import (
     DEFAULT_VOLTAGE_MARGIN,
-    VOLTAGE_MARGIN,
+    VOLTAGE_RULE,
     Parts,
     load_candidates,
-    minimum_rated_voltage,
-    polymer_margin,
     reduce_candidates,
+    usable,
+    voltage_rule_text,
     weights,
 )
 from partsel.jobs.decouple.capacitance import (
@@ -120,6 +129,7 @@ from partsel.jobs.decouple.measured import (
     measured_curves,
 )
 from partsel.jobs.decouple.planner import plan
+from partsel.jobs.decouple.plot import plot_bank
 from partsel.jobs.decouple.result import MEASURED_TEXT, MODEL_TEXT, Result
 from partsel.jobs.decouple.solver import (
     Limits,
@@ -155,9 +165,10 @@ __all__ = [
     "Search",
     "THROUGH_HOLE",
     "TWO_PI",
-    "VOLTAGE_MARGIN",
+    "VOLTAGE_RULE",
     "WORST_CASE_TOLERANCE",
     "capacitance_at_bias",
+    "board_from_text",
     "check",
     "curve_source",
     "diagnose",
@@ -165,13 +176,18 @@ __all__ = [
     "linearised_lp",
     "load_candidates",
     "measured_curves",
-    "minimum_rated_voltage",
+    "parse_area",
+    "parse_length",
+    "parse_mount_l",
+    "parse_plane",
     "plan",
-    "polymer_margin",
+    "plot_bank",
     "read_bank",
     "reduce_candidates",
     "solve",
     "solve_measured",
+    "usable",
+    "voltage_rule_text",
     "weights",
     "worst_case_ratio",
 ]

@@ -1,102 +1,28 @@
-"""Checking a given bank: the bank file reader and the check against a rail."""
+"""Checking a given bank against a rail (the bank file is read by :mod:`partsel.io.bank`)."""
 
 from __future__ import annotations
 
-import csv
-import math
 import time
 from collections.abc import Sequence
-from dataclasses import dataclass, field, replace
-from pathlib import Path
+from typing import Any
 
 import numpy as np
 from numpy.typing import NDArray
 
-from partsel.errors import FileFormatError, ModelError, QueryError
-from partsel.jobs.decouple.candidates import Parts, _parts_from, minimum_rated_voltage
+from partsel.derating import derating
+from partsel.errors import ModelError, QueryError
+from partsel.io.bank import BankEntry
+from partsel.jobs.decouple.candidates import (
+    DEFAULT_VOLTAGE_MARGIN,
+    Parts,
+    _parts_from,
+    usable,
+)
 from partsel.jobs.decouple.evaluate import _result
 from partsel.jobs.decouple.inputs import Rail
 from partsel.jobs.decouple.measured import MeasuredCurve, _not_reaching, measured_curves
 from partsel.jobs.decouple.result import Result, _fq
 from partsel.store.db import Store
-
-
-@dataclass(frozen=True)
-class BankEntry:
-    """One row of a bank file: a part number, how many, and optionally its maker."""
-
-    part_number: str
-    count: int
-    maker: str | None = None
-    lines: tuple[int, ...] = field(default=(), compare=False)  # file lines, when listed twice
-
-
-# header words read as the bank file's columns (spaces and hyphens read as '_')
-HEADERS = {"part_number": "part_number", "part": "part_number", "mpn": "part_number",
-           "count": "count", "quantity": "count", "qty": "count",
-           "maker": "maker", "manufacturer": "maker"}
-
-
-def read_bank(path: str | Path) -> list[BankEntry]:
-    """Read a bank file: CSV with a header naming ``part_number`` and ``count`` (and
-    optionally ``maker``); blank lines and lines starting with '#' are skipped.
-
-    The separator is ',', ';' or tab, whichever the header line holds most; the header also
-    reads part / part number / mpn, quantity / qty and manufacturer. A part listed on several
-    rows gets one entry with the counts summed (its ``lines`` name the rows).
-    """
-    p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8-sig")
-    except FileNotFoundError:
-        raise FileFormatError(f"no bank file {p}: give a CSV with part_number,count "
-                              "rows") from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise FileFormatError(f"cannot read the bank file {p}: {exc}") from None
-    lines = [(n, ln) for n, ln in enumerate(text.splitlines(), 1)
-             if ln.strip() and not ln.lstrip().startswith("#")]
-    if not lines:
-        raise FileFormatError(f"the bank file {p} is empty: write a header part_number,count "
-                              "and one row per part")
-    delimiter = max(",;\t", key=lines[0][1].count)
-    rows = list(csv.reader([ln for _, ln in lines], delimiter=delimiter))
-    header = [HEADERS.get(_word(h), _word(h)) for h in rows[0]]
-    if "part_number" not in header or "count" not in header:
-        raise FileFormatError(f"{p}, line {lines[0][0]}: the header must name part_number and "
-                              f"count (and optionally maker), found {', '.join(header)}")
-    ip, ic = header.index("part_number"), header.index("count")
-    im = header.index("maker") if "maker" in header else None
-    out: list[BankEntry] = []
-    seen: dict[tuple[str, str | None], int] = {}  # -> position in out
-    first_line: dict[tuple[str, str | None], int] = {}
-    for (n, _), row in zip(lines[1:], rows[1:], strict=True):
-        cells = [c.strip() for c in row] + [""] * len(header)
-        pn, cnt = cells[ip], cells[ic]
-        maker = cells[im] or None if im is not None else None
-        if not pn:
-            raise FileFormatError(f"{p}, line {n}: the part number is empty")
-        try:
-            value = float(cnt)
-        except ValueError:
-            value = math.nan
-        if not (math.isfinite(value) and value == int(value) and value >= 1):
-            raise FileFormatError(f"{p}, line {n}: count '{cnt}' must be a whole number >= 1")
-        key = (pn.lower(), maker.lower() if maker else None)
-        if key in seen:
-            first = out[seen[key]]
-            out[seen[key]] = replace(first, count=first.count + int(value),
-                                     lines=(first.lines or (first_line[key],)) + (n,))
-            continue
-        seen[key] = len(out)
-        first_line[key] = n
-        out.append(BankEntry(pn, int(value), maker))
-    if not out:
-        raise FileFormatError(f"the bank file {p} has a header but no parts")
-    return out
-
-
-def _word(header: str) -> str:
-    return "_".join(header.strip().lower().replace("-", " ").split())
 
 
 def check(store: Store, rail: Rail, entries: Sequence[BankEntry], *, measured: bool = False,
@@ -126,15 +52,7 @@ def check(store: Store, rail: Rail, entries: Sequence[BankEntry], *, measured: b
         if r.get("technology") == "mlcc" and not r.get("dielectric"):
             notes.append(f"{pn}: MLCC without a dielectric code: taken without DC-bias loss, "
                          "which is optimistic if it is class II")
-        rated = r.get("rated_voltage")
-        need = float(minimum_rated_voltage(rail.voltage, [r.get("technology")])[0])
-        if rated is None:
-            notes.append(f"{pn}: rated voltage unknown")
-        elif rated < rail.voltage:
-            notes.append(f"{pn}: rated {_fq(rated, 'V')}, below the rail voltage")
-        elif rated < need:
-            notes.append(f"{pn}: rated {_fq(rated, 'V')}, below the usual margin "
-                         f"({_fq(need, 'V')} for {r.get('technology') or 'this technology'})")
+        notes += _voltage_notes(r, rail.voltage)
         if r.get("lifecycle") in ("nrnd", "obsolete"):
             notes.append(f"{pn}: lifecycle {r['lifecycle']}")
     cols: dict[str, NDArray] = {}
@@ -158,13 +76,33 @@ def check(store: Store, rail: Rail, entries: Sequence[BankEntry], *, measured: b
     return res
 
 
+def _voltage_notes(row: dict[str, Any], voltage: float) -> list[str]:
+    """What a bank's part lacks against the voltage rule of the planner (none when it passes)."""
+    pn, rated = row["part_number"], row.get("rated_voltage")
+    if rated is None:
+        return [f"{pn}: rated voltage unknown"]
+    electrolyte = (row.get("extra") or {}).get("electrolyte")
+    if usable(voltage, [rated], [row.get("technology")], [electrolyte])[0]:
+        return []
+    if rated < voltage:
+        return [f"{pn}: rated {_fq(rated, 'V')}, below the rail voltage"]
+    factor, why = derating(row.get("technology"), electrolyte, rated)
+    if factor < 1:
+        return [f"{pn}: rated {_fq(rated, 'V')}, usable to {_fq(rated * factor, 'V')} ({why}): "
+                "below the rail voltage"]
+    need = _fq(voltage * DEFAULT_VOLTAGE_MARGIN, "V")
+    return [f"{pn}: rated {_fq(rated, 'V')}, below the design margin ({need}, "
+            f"{DEFAULT_VOLTAGE_MARGIN:g} x the rail voltage)"]
+
+
 def _refuse_uncovered(parts: Parts, curves: Sequence[MeasuredCurve | None],
                       ranges: Sequence[tuple[float, float] | None],
                       band: tuple[float, float]) -> None:
     for pn, c, r in zip(parts.part_number, curves, ranges, strict=True):
         if r is None:
-            raise QueryError(f"{pn} has no stored measured sweep; leave out --measured-only to "
-                             "use its model")
+            raise QueryError(f"{pn} has no stored measured sweep; allow the model where "
+                             "there is no measurement to use it")
         if c is None or not c.covers(band):
             raise QueryError(f"{pn} was measured from {_fq(r[0], 'Hz')} to {_fq(r[1], 'Hz')} "
-                             "only; narrow --band to that range or use --measured")
+                             "only; narrow the band to that range or let the model stand in "
+                             "outside it")

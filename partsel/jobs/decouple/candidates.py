@@ -4,30 +4,31 @@ reduced to the candidates worth considering (package notes, step 1).
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
-from numpy.typing import NDArray
+from numpy.typing import ArrayLike, NDArray
 
 from partsel import units
+from partsel.derating import NO_DERATING, derating_factors
 from partsel.engine import pdn
 from partsel.errors import QueryError
 from partsel.jobs.decouple.capacitance import capacitance_at_bias, worst_case_ratio
 from partsel.jobs.decouple.inputs import Choice, Prefer, Rail
 from partsel.store.db import Store
-from partsel.store.query import membership
+from partsel.store.parts import capacitors
 
-# Default minimum rated voltage as a multiple of the rail voltage, per technology (shared
-# domain notes section 7, rule of thumb): MnO2 tantalum used at <= 50 % of rated; polymer
-# 10 % below rated up to 10 V, 20 % above; everything else a 25 % margin (class II ceramics
-# lose capacitance with bias, which the planner applies separately).
-VOLTAGE_MARGIN = {"tantalum": 2.0}
+# The rated voltage a part needs by default (:func:`usable`): parts with a derating rule
+# (MnO2 and polymer, :mod:`partsel.derating`) are used up to their derated rating; for the other
+# technologies, which have no derating rule (the DC-bias loss of class II ceramics is applied
+# separately), the planner keeps a design margin of its own: a rating at least 1.25 x the rail
+# voltage. The margin is not applied on top of a derating.
 DEFAULT_VOLTAGE_MARGIN = 1.25
-
-
-def polymer_margin(voltage: float) -> float:
-    return 1.0 / 0.9 if voltage <= 10.0 else 1.0 / 0.8
+VOLTAGE_RULE = ("rated voltage x derating (MnO2 tantalum 50 %; polymer 90 % up to a 10 V "
+                "rating, 80 % above) at least the rail voltage; other technologies rated at "
+                f"least {DEFAULT_VOLTAGE_MARGIN:g} x the rail voltage (a design margin)")
 
 
 @dataclass
@@ -69,11 +70,6 @@ class Parts:
         return pdn.Branches.of(self.c_eff, self.esr, self.l_total, self.tan_delta, counts)
 
 
-_COLUMNS = ("id, part_number, maker, value, tolerance, esr, esl, tan_delta, technology, "
-            "dielectric, \"case\", mounting, rated_voltage, price, stock, lifecycle, bias_v, "
-            "bias_ratio, safety_class")
-
-
 def _parts_from(cols: dict[str, NDArray], rail: Rail) -> Parts:
     value = np.asarray(cols["value"], dtype=float)
     c_bias, source = capacitance_at_bias(
@@ -95,42 +91,39 @@ def _parts_from(cols: dict[str, NDArray], rail: Rail) -> Parts:
         lifecycle=cols["lifecycle"], safety_class=cols["safety_class"])
 
 
-def _where(choice: Choice) -> tuple[str, list[Any]]:
-    conds = ["kind = 'capacitor'"]
-    params: list[Any] = []
-    if choice.lifecycles:
-        conds.append("list_contains(?, coalesce(lower(lifecycle), 'active'))")
-        params.append([x.lower() for x in choice.lifecycles])
-    more, more_params = membership(choice.cases, choice.dielectrics, choice.technologies,
-                                   choice.makers, choice.in_stock)
-    conds += more
-    params += more_params
-    return " AND ".join(conds), params
-
-
-def minimum_rated_voltage(voltage: float, technology: NDArray,
-                          override: float | None = None) -> NDArray[np.float64]:
-    """Lowest acceptable rated voltage per part [V]: ``override``, else the rail voltage times
-    the margin of its technology (:data:`VOLTAGE_MARGIN`)."""
+def usable(voltage: float, rated_voltage: ArrayLike, technology: Sequence[Any],
+           electrolyte: Sequence[Any], override: float | None = None) -> NDArray[np.bool_]:
+    """Which parts may serve a rail of ``voltage`` [V]: rated at least ``override`` when given,
+    else the default rule (:data:`VOLTAGE_RULE`). An unknown rating is never usable."""
+    rated = np.asarray(rated_voltage, dtype=float)
     if override is not None:
-        return np.full(len(technology), float(override))
-    m = np.array([polymer_margin(voltage) if t == "polymer" else
-                  VOLTAGE_MARGIN.get(t or "", DEFAULT_VOLTAGE_MARGIN) for t in technology])
-    return voltage * m
+        return rated >= override
+    factor = derating_factors(technology, electrolyte, rated)
+    need = np.where(factor < NO_DERATING, voltage, voltage * DEFAULT_VOLTAGE_MARGIN)
+    return rated * factor >= need
+
+
+def voltage_rule_text(voltage: float, override: float | None = None) -> str:
+    """The voltage rule for a rail, as the effects of a plan state it."""
+    if override is not None:
+        return f"rated voltage at least {units.format_quantity(override, 'V')}"
+    return (f"{VOLTAGE_RULE} ({units.format_quantity(voltage * DEFAULT_VOLTAGE_MARGIN, 'V')} "
+            "for this rail)")
 
 
 def load_candidates(store: Store, rail: Rail, choice: Choice) -> tuple[Parts, list[str], int]:
     """Capacitors that pass the filters and carry a usable model: (parts, notes, considered)."""
-    where, params = _where(choice)
-    cols = store.arrays(f"SELECT {_COLUMNS} FROM parts WHERE {where} ORDER BY id", params)
+    cols = capacitors(store, lifecycles=choice.lifecycles, cases=choice.cases,
+                      dielectrics=choice.dielectrics, technologies=choice.technologies,
+                      makers=choice.makers, in_stock=choice.in_stock)
     considered = len(cols["id"])
     notes: list[str] = []
     if considered == 0:
         raise QueryError("no capacitor in the store passes the filters (case, technology, "
                          "dielectric, maker, lifecycle, stock): widen them")
     tech = cols["technology"]
-    rated = np.asarray(cols["rated_voltage"], dtype=float)
-    need = minimum_rated_voltage(rail.voltage, tech, choice.min_voltage)
+    ok_voltage = usable(rail.voltage, cols["rated_voltage"], tech, cols["electrolyte"],
+                        choice.min_voltage)
     keep = np.ones(considered, dtype=bool)
 
     def drop(mask: NDArray, why: str) -> None:
@@ -140,10 +133,9 @@ def load_candidates(store: Store, rail: Rail, choice: Choice) -> tuple[Parts, li
             notes.append(f"{k} capacitors left out: {why}")
         keep &= ~mask
 
-    drop(~(rated >= need), "rated voltage unknown or below "
+    drop(~ok_voltage, "rated voltage unknown or below "
          + (f"{units.format_quantity(choice.min_voltage, 'V')}" if choice.min_voltage
-            is not None else "the default margin over the rail voltage (x1.25; tantalum x2; "
-            "polymer x1.11 up to 10 V, x1.25 above)"))
+            is not None else "the voltage rule (" + VOLTAGE_RULE + ")"))
     esr = np.asarray(cols["esr"], dtype=float)
     esl = np.asarray(cols["esl"], dtype=float)
     value = np.asarray(cols["value"], dtype=float)
@@ -154,7 +146,7 @@ def load_candidates(store: Store, rail: Rail, choice: Choice) -> tuple[Parts, li
     drop(diel_unknown, "MLCCs without a dielectric code (their DC-bias loss is unknown)")
     if choice.prefer == "cost" or choice.max_cost is not None:
         drop(~np.isfinite(np.asarray(cols["price"], dtype=float)),
-             "no price in the store (needed by --prefer cost / --max-cost)")
+             "no price in the store (needed to prefer cost or to limit it)")
     idx = np.flatnonzero(keep)
     if idx.size == 0:
         raise QueryError("no capacitor is left to plan with: " + "; ".join(notes))

@@ -16,7 +16,7 @@ from partsel.jobs.decouple.candidates import Parts
 from partsel.store.db import Store
 
 if TYPE_CHECKING:
-    from partsel.jobs.measured import StoredSweep
+    from partsel.store.sweeps import StoredSweep
 
 TWO_PI = 2.0 * np.pi
 
@@ -31,8 +31,8 @@ class MeasuredCurve:
         - \frac{1}{\omega C}\Big)
 
     Z_m is the data read between its points with ln|Z| and unwrapped phase linear in ln f
-    (:func:`partsel.jobs.measured.interpolate`); the last term is the series R-L-C model's own
-    change when C falls to C_eff (any circuit-theory text), zero when nothing is lost.
+    (:func:`partsel.jobs.measured_curves.interpolate`); the last term is the series R-L-C
+    model's own change when C falls to C_eff (any circuit-theory text), zero when nothing is lost.
     """
 
     f: NDArray            # measured frequencies [Hz], increasing
@@ -52,7 +52,7 @@ class MeasuredCurve:
 
     def impedance(self, f: NDArray) -> NDArray[np.complex128]:
         """Z at ``f`` [ohm]; NaN outside the measured range."""
-        from partsel.jobs.measured import interpolate
+        from partsel.jobs.measured_curves import interpolate
 
         fa = np.asarray(f, dtype=float)
         w = TWO_PI * fa
@@ -140,7 +140,7 @@ def measured_curves(store: Store, parts: Parts, band: tuple[float, float]
                     ) -> tuple[list[MeasuredCurve | None], list[tuple[float, float] | None]]:
     """Each part's latest stored sweep as a :class:`MeasuredCurve` when it reaches ``band``
     (else None), and the range of every part's sweep (None: the part has none)."""
-    from partsel.jobs.measured import latest_sweeps_by_id
+    from partsel.store.sweeps import latest_sweeps_by_id
 
     sweeps: dict[int, StoredSweep] = latest_sweeps_by_id(store)
     out: list[MeasuredCurve | None] = []

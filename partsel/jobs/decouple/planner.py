@@ -10,11 +10,10 @@ from numpy.typing import NDArray
 from partsel.engine import pdn
 from partsel.errors import QueryError
 from partsel.jobs.decouple.candidates import (
-    DEFAULT_VOLTAGE_MARGIN,
     Parts,
     load_candidates,
-    polymer_margin,
     reduce_candidates,
+    voltage_rule_text,
     weights,
 )
 from partsel.jobs.decouple.evaluate import _result
@@ -77,10 +76,7 @@ def plan(store: Store, rail: Rail, choice: Choice | None = None, *, measured: bo
                   cand_curves)
     res.effects += story[0]
     res.explanation[:0] = story[1]
-    res.effects.insert(2, "minimum rated voltage: " + (
-        _fq(choice.min_voltage, "V") if choice.min_voltage is not None else
-        f"{_fq(rail.voltage * DEFAULT_VOLTAGE_MARGIN, 'V')} (1.25 x rail; tantalum 2 x, "
-        f"polymer {polymer_margin(rail.voltage):.3g} x)"))
+    res.effects.insert(2, voltage_rule_text(rail.voltage, choice.min_voltage))
     res.stats["seconds"] = time.perf_counter() - t0
     return res
 

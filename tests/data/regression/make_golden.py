@@ -71,13 +71,12 @@ FIND_KEYS = ("part_number", "maker", "max_z_ohm", "f_max_hz", "min_z_ohm", "f_mi
 
 def demo_store(folder: Path) -> Path:
     """A store filled with the bundled demo catalog, as the first use of partsel makes it."""
-    from partsel.demo import demo_catalog
+    from partsel.jobs.default_store import fill_with_demo
     from partsel.store import open_store
-    from partsel.store.importer import insert_frame
 
     path = folder / "demo.duckdb"
     with open_store(path, write=True) as s:
-        insert_frame(s, demo_catalog(), source_file="demo catalog (invented parts)")
+        fill_with_demo(s)
     return path
 
 
