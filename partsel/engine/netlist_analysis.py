@@ -23,8 +23,9 @@ Method, per model (all steps vectorised over models):
    check points.
 5. :mod:`partsel.engine.netlist_bnb` finds every stationary point of |Z| and every sign
    change of Im Z on (0, 1] and, through Z(1/s'), on [1, inf); each is then polished on the
-   exact nodal evaluation (Illinois steps on d|Z|^2/d omega, resp. Im Z, inside a 1e-7
-   bracket), and |Z| there is evaluated exactly.
+   exact nodal evaluation (regula falsi and bisection on d|Z|^2/d omega, resp. Im Z,
+   inside a bracket of 1e-7 relative, widened up to 1e-4 until it changes sign), and |Z|
+   there is evaluated exactly.
 6. ``value``: a pole at s = 0 gives the capacitance C = 1/Res_{s=0} Z; a zero at s = 0 the
    inductance L = lim Z/s; a finite Z(0) with Z'(0) > 0 the inductance L = Z'(0), with
    Z'(0) < 0 the capacitance C = -Z'(0)/Z(0)^2 (of Y = 1/R + sC: a capacitor with leakage).
@@ -295,7 +296,12 @@ def analyse(ns: NetlistSet) -> Analysis:
     # stationary points and crossings of the verified models, scaled
     gi = np.flatnonzero(good)
     sub = _Roots(rt.sig[gi], rt.bet[gi], rt.pair[gi], rt.e[gi], rt.bad[gi])
-    st_m, st_w, ax_z, zp_m, zp_w = _features(sub, argk[gi])
+    failed = np.zeros(len(gi), dtype=bool)
+    st_m, st_w, ax_z, zp_m, zp_w = _features(sub, argk[gi], failed)
+    keep_s, keep_z = ~failed[st_m], ~failed[zp_m]
+    st_m, st_w, zp_m, zp_w = st_m[keep_s], st_w[keep_s], zp_m[keep_z], zp_w[keep_z]
+    ax_z = tuple(x[~failed[ax_z[0]]] for x in ax_z)
+    good[gi[failed]] = False
     st_m, zp_m = gi[st_m], gi[zp_m]
     st_f = _polish(ns, st_m, st_w * w0[st_m], stationary=True) / TWO_PI
     zp_f = _polish(ns, zp_m, zp_w * w0[zp_m], stationary=False) / TWO_PI
@@ -323,18 +329,18 @@ def analyse(ns: NetlistSet) -> Analysis:
     return Analysis(sf, sz, so, zf, zo, value, vkind, approx)
 
 
-def _features(rt: _Roots, argk: NDArray) -> tuple:
+def _features(rt: _Roots, argk: NDArray, failed: NDArray) -> tuple:
     """Stationary points and sign changes of Im Z (scaled omega) over (0, inf)."""
     w, x0, a = bnb.x_terms(rt.sig, rt.bet, rt.pair, rt.e)
-    m1, x1 = bnb.stationary(w, x0, a)
+    m1, x1 = bnb.stationary(w, x0, a, failed)
     ds, db, dp, de = bnb.dual_roots(rt.sig, rt.bet, rt.pair, rt.e)
     wd, x0d, ad = bnb.x_terms(ds, db, dp, de)
-    m2, x2 = bnb.stationary(wd, x0d, ad)
+    m2, x2 = bnb.stationary(wd, x0d, ad, failed)
     st_m = np.concatenate([m1, m2])
     with np.errstate(divide="ignore"):
         st_w = np.concatenate([np.sqrt(x1), 1.0 / np.sqrt(x2)])
-    c1, w1 = bnb.crossings(rt.sig, rt.bet, rt.pair, rt.e, argk)
-    c2, w2 = bnb.crossings(ds, db, dp, de, argk)
+    c1, w1 = bnb.crossings(rt.sig, rt.bet, rt.pair, rt.e, argk, failed)
+    c2, w2 = bnb.crossings(ds, db, dp, de, argk, failed)
     am, aw, change = bnb.axis_sign_changes(rt.sig, rt.bet, rt.pair, rt.e, argk)
     on = (rt.sig == 0) & (rt.bet > 0) & (rt.e != 0)
     ae = rt.e[on]
@@ -358,8 +364,8 @@ def _pack_sorted(n: int, m: NDArray, f: NDArray, z: NDArray
 
 
 def _polish(ns: NetlistSet, owner: NDArray, wv: NDArray, stationary: bool) -> NDArray:
-    """Refine roots [rad/s] on the nodal evaluation: d|Z|^2/dw (or Im Z) changes sign in a
-    1e-7 bracket; Illinois steps, else the root is kept as found."""
+    """Refine roots [rad/s] on the nodal evaluation where d|Z|^2/dw (or Im Z) changes sign in
+    a bracket around them (1e-7 relative, widened to 1e-4); elsewhere the root is kept."""
     if not len(owner):
         return wv
 
@@ -369,9 +375,19 @@ def _polish(ns: NetlistSet, owner: NDArray, wv: NDArray, stationary: bool) -> ND
             return np.real(np.conj(z) * 1j * dz)
         return z.imag
 
-    lo, hi = wv * (1 - 1e-7), wv * (1 + 1e-7)
-    flo, fhi = fn(lo), fn(hi)
-    ok = np.isfinite(flo) & np.isfinite(fhi) & (np.sign(flo) * np.sign(fhi) < 0)
+    lo, hi = wv.copy(), wv.copy()
+    flo = fhi = np.full(len(wv), np.nan)
+    ok = np.zeros(len(wv), dtype=bool)
+    for width in (1e-7, 1e-6, 1e-5, 1e-4):
+        # the factorization places a root to about its verification tolerance: widen the
+        # bracket until the nodal function changes sign across it
+        todo = ~ok
+        lo[todo], hi[todo] = wv[todo] * (1 - width), wv[todo] * (1 + width)
+        f_lo, f_hi = fn(lo), fn(hi)
+        flo, fhi = np.where(todo, f_lo, flo), np.where(todo, f_hi, fhi)
+        ok = np.isfinite(flo) & np.isfinite(fhi) & (np.sign(flo) * np.sign(fhi) < 0)
+        if ok.all():
+            break
     out = wv.copy()
     if not ok.any():
         return out
@@ -379,22 +395,21 @@ def _polish(ns: NetlistSet, owner: NDArray, wv: NDArray, stationary: bool) -> ND
     owner_all = owner
     owner = owner_all[sel]
     a, b, fa, fb = lo[sel], hi[sel], flo[sel], fhi[sel]
-    side = np.zeros(len(sel))
-    for _ in range(12):
+    for it in range(80):
+        # regula falsi and bisection in turn: superlinear near a simple root, and the bracket
+        # halves at least every second step (a pole of Im Z, a jump through infinity, too)
         with np.errstate(divide="ignore", invalid="ignore"):
             c = (a * fb - b * fa) / (fb - fa)
+        if it % 2:
+            c = 0.5 * (a + b)
         c = np.where(np.isfinite(c) & (c > a) & (c < b), c, 0.5 * (a + b))
         fc = fn(c)
         left = np.sign(fc) == np.sign(fa)
         a, fa = np.where(left, c, a), np.where(left, fc, fa)
         b, fb = np.where(left, b, c), np.where(left, fb, fc)
-        # Illinois: halve the stale end's value when the same end moves twice
-        fb = np.where(left & (side == 1), fb / 2, fb)
-        fa = np.where(~left & (side == -1), fa / 2, fa)
-        side = np.where(left, 1, -1)
         if np.all(b - a <= 4e-16 * b):
             break
-    out[sel] = np.where(np.abs(fa) < np.abs(fb), a, b)
+    out[sel] = 0.5 * (a + b)
     return out
 
 

@@ -38,7 +38,11 @@ bisection. A lossless root is a jump of arg Z by pi: Im Z changes sign there whe
 differs on its two sides (:func:`axis_sign_changes`).
 
 Intervals that shrink to 1e-13 relative width without being decided (a double root) yield
-their midpoint as a candidate: for band extrema an extra candidate is harmless.
+their midpoint as a candidate: for band extrema an extra candidate is harmless. Besides the
+closed-form ranges, each interval is tested with a Taylor form about its centre (exact
+derivatives, a remainder bounded by the distance to each root), which sees through pole-zero
+dipoles whose separate ranges cancel. A model whose search exceeds a budget of open intervals
+is reported as failed (the caller falls back to a grid and says so).
 """
 
 from __future__ import annotations
@@ -132,6 +136,14 @@ def _split_point(lo: NDArray, hi: NDArray) -> NDArray:
 
 
 _ORDER = 6
+_CAP = 4000  # open intervals per model before its search is given up (grid fallback)
+
+
+def _over_cap(mi: NDArray, go: NDArray, failed: NDArray) -> NDArray[np.bool_]:
+    """Intervals of models that exceed the budget (those models are marked failed)."""
+    count = np.bincount(mi[go], minlength=len(failed))
+    failed |= count > _CAP
+    return failed[mi]
 
 
 def _taylor_g(lo: NDArray, hi: NDArray, w: NDArray, x0: NDArray, a: NDArray
@@ -193,8 +205,10 @@ def _taylor_phase(lo: NDArray, hi: NDArray, r: NDArray, e: NDArray, value: NDArr
 
 
 @np.errstate(invalid="ignore", divide="ignore", over="ignore")
-def stationary(w: NDArray, x0: NDArray, a: NDArray) -> tuple[NDArray, NDArray]:
-    """Every root of sum w_i t_i(x - x0_i) on (0, 1], per model: (model index, x)."""
+def stationary(w: NDArray, x0: NDArray, a: NDArray, failed: NDArray[np.bool_]
+               ) -> tuple[NDArray, NDArray]:
+    """Every root of sum w_i t_i(x - x0_i) on (0, 1], per model: (model index, x). Models
+    whose search does not close within the interval budget are set in ``failed``."""
     mi, lo, hi = _splits(x0, a, w)
     out_m, out_x = [], []
     br_m, br_lo, br_hi = [], [], []
@@ -237,9 +251,11 @@ def stationary(w: NDArray, x0: NDArray, a: NDArray) -> tuple[NDArray, NDArray]:
         out_m.append(mi[done])
         out_x.append(0.5 * (lo[done] + hi[done]))
         go = open_ & ~tiny
+        go &= ~_over_cap(mi, go, failed)
         mid = _split_point(lo[go], hi[go])
         mi = np.concatenate([mi[go], mi[go]])
         lo, hi = np.concatenate([lo[go], mid]), np.concatenate([mid, hi[go]])
+    failed[np.unique(mi)] = True  # still open after the last round
     bm = np.concatenate(br_m) if br_m else np.empty(0, np.intp)
     blo, bhi = (np.concatenate(br_lo), np.concatenate(br_hi)) if br_m else (np.empty(0),) * 2
     if len(bm):
@@ -288,9 +304,10 @@ def _phase(wv: NDArray, argk: NDArray, e: NDArray, sig: NDArray, bet: NDArray,
 
 
 @np.errstate(invalid="ignore", divide="ignore", over="ignore")
-def crossings(sig: NDArray, bet: NDArray, pair: NDArray, e: NDArray,
-              argk: NDArray) -> tuple[NDArray, NDArray]:
-    """Every omega in (0, 1] where arg Z crosses a multiple of pi: (model index, omega)."""
+def crossings(sig: NDArray, bet: NDArray, pair: NDArray, e: NDArray, argk: NDArray,
+              failed: NDArray[np.bool_]) -> tuple[NDArray, NDArray]:
+    """Every omega in (0, 1] where arg Z crosses a multiple of pi: (model index, omega);
+    models over the interval budget are set in ``failed``."""
     mi, lo, hi = _splits(bet, np.where(sig > 0, 1.0, 0.0), e)
     out_m, out_w = [], []
     br = ([], [], [], [])
@@ -332,9 +349,11 @@ def crossings(sig: NDArray, bet: NDArray, pair: NDArray, e: NDArray,
         out_m.append(mi[done])
         out_w.append(0.5 * (lo[done] + hi[done]))
         go = open_ & ~tiny
+        go &= ~_over_cap(mi, go, failed)
         mid = _split_point(lo[go], hi[go])
         mi = np.concatenate([mi[go], mi[go]])
         lo, hi = np.concatenate([lo[go], mid]), np.concatenate([mid, hi[go]])
+    failed[np.unique(mi)] = True  # still open after the last round
     if br[0]:
         bm, blo, bhi, target = (np.concatenate(x) for x in br)
         if len(bm):

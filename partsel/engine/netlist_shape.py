@@ -260,6 +260,23 @@ def run_programs(kinds: NDArray, vals: NDArray, op: NDArray, left: NDArray, righ
     return z[:, -1], (dz[:, -1] if dz is not None else None)
 
 
+def _solve_or_nan(m: NDArray, rhs: NDArray) -> NDArray:
+    """Batched solve; a matrix that is singular (a frequency exactly at a natural frequency)
+    gives NaN instead of stopping the batch."""
+    try:
+        return np.linalg.solve(m, rhs)
+    except np.linalg.LinAlgError:
+        flat_m = m.reshape(-1, *m.shape[-2:])
+        flat_r = rhs.reshape(-1, *rhs.shape[-2:])
+        out = np.full(flat_r.shape, np.nan + 0j)
+        for k in range(len(flat_m)):
+            try:
+                out[k] = np.linalg.solve(flat_m[k], flat_r[k])
+            except np.linalg.LinAlgError:
+                pass
+        return out.reshape(rhs.shape)
+
+
 # -- modified nodal analysis ------------------------------------------------------------------
 class MNAShape(Shape):
     """A network solved by modified nodal analysis (module docstring)."""
@@ -372,7 +389,7 @@ class MNAShape(Shape):
         m = m * d[..., :, None] * d[..., None, :]
         rhs = np.zeros(m.shape[:-1], dtype=complex)
         rhs[..., 0] = d[..., 0]
-        x = np.linalg.solve(m, rhs[..., None])
+        x = _solve_or_nan(m, rhs[..., None])
         return x[..., 0] * d, b, s
 
     def impedance(self, vals: NDArray[np.float64],
