@@ -226,6 +226,7 @@ def _check_points(rt: _Roots) -> NDArray[np.float64]:
 
 
 # -- the analysis ----------------------------------------------------------------------------
+@np.errstate(all="ignore")  # roots at the origin and on the axis give inf/NaN, handled
 def analyse(ns: NetlistSet) -> Analysis:
     """The :class:`Analysis` of every part of ``ns`` (module docstring)."""
     n = len(ns)
@@ -306,12 +307,17 @@ def analyse(ns: NetlistSet) -> Analysis:
     st_f = _polish(ns, st_m, st_w * w0[st_m], stationary=True) / TWO_PI
     zp_f = _polish(ns, zp_m, zp_w * w0[zp_m], stationary=False) / TWO_PI
     st_z = np.abs(ns.impedance_at(st_m, 1j * TWO_PI * st_f)[0])
-    # lossless resonances: |Z| = 0 (zero) or inf (pole), exactly
+    # resonances on the axis (lossless): minima (zeros) and maxima (poles) of |Z|
     ax_m, ax_w, ax_e = ax_z
     ax_m = gi[ax_m]
     st_m = np.concatenate([st_m, ax_m])
     st_f = np.concatenate([st_f, ax_w * w0[ax_m] / TWO_PI])
-    st_z = np.concatenate([st_z, np.where(ax_e > 0, 0.0, np.inf)])
+    # the exact nodal |Z| there (a root snapped to the axis may be very slightly lossy);
+    # 0 or inf where the evaluation itself is singular
+    ax_f = _polish(ns, ax_m, ax_w * w0[ax_m], stationary=True) / TWO_PI
+    ax_abs = np.abs(ns.impedance_at(ax_m, 1j * TWO_PI * ax_f)[0])
+    st_z = np.concatenate([st_z, np.where(np.isfinite(ax_abs), ax_abs,
+                                          np.where(ax_e > 0, 0.0, np.inf))])
     # value from the factorization and the DC matrices
     v, vk = _value(rt, logk_re, argk, z0, z1, w0, r0)
     value[good], vkind[good] = v[good], vk[good]
