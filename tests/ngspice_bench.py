@@ -59,3 +59,27 @@ def assert_same_z(z_spice: np.ndarray, z_model: np.ndarray) -> None:
     """|Z| to 1e-6 relative and phase to 1e-6 rad (ngspice solves in double precision)."""
     np.testing.assert_allclose(np.abs(z_spice), np.abs(z_model), rtol=1e-6)
     np.testing.assert_allclose(np.angle(z_spice), np.angle(z_model), rtol=0, atol=1e-6)
+
+
+def ac_batch(tmp_path: Path, library: str, names: list[str], per_decade: int = 20,
+             fstart: float = 1e3, fstop: float = 1e9) -> tuple[np.ndarray, np.ndarray]:
+    """One ngspice run for many subcircuits: each instance driven by its own 1 A AC source
+    (with R_DC to ground), one AC analysis for all; returns (f, Z) with Z of shape
+    (len(names), F)."""
+    lines = ["* partsel test bench: many subcircuits, 1 A AC into each, V(node) = Z",
+             library.rstrip()]
+    for i, name in enumerate(names):
+        lines += [f"X{i} p{i} 0 {name}", f"I{i} 0 p{i} DC 0 AC 1", f"RDC{i} p{i} 0 {R_DC!r}"]
+    out = tmp_path / "batch.txt"
+    vecs = " ".join(f"v(p{i})" for i in range(len(names)))
+    lines += [f".ac dec {per_decade} {fstart!r} {fstop!r}", ".control", "set wr_singlescale",
+              "set numdgt=16", "run", f"wrdata {out} {vecs}", "quit", ".endc", ".end"]
+    cir = tmp_path / "batch.cir"
+    cir.write_text("\n".join(lines) + "\n")
+    exe = str(NGSPICE) if NGSPICE.exists() else shutil.which("ngspice")
+    proc = subprocess.run([exe, "-b", str(cir)], capture_output=True, text=True, timeout=600,
+                          cwd=tmp_path)
+    assert proc.returncode == 0, proc.stdout[-2000:] + proc.stderr[-2000:]
+    data = np.loadtxt(out, ndmin=2)
+    z = data[:, 1::2] + 1j * data[:, 2::2]
+    return data[:, 0], z.T

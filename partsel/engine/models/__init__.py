@@ -23,6 +23,8 @@ FAMILIES: dict[str, str] = {
     "rlc-skin": "partsel.engine.models.rlc_skin",
     "lcp": "partsel.engine.models.lcp",
     "measured": "partsel.engine.models.measured",
+    "netlist": "partsel.engine.models.netlist",
+    "ladder2": "partsel.engine.models.ladder2",
 }
 
 _LOADED: dict[str, Family] = {}
