@@ -458,7 +458,7 @@ def test_no_part_within_the_cost_limit(cli, make_store):
     code, data, _ = run_json(cli, store, "--rail", "1.0V", "--target", "50mohm", "--band",
                              "1MHz..10MHz", "--max-cost", "1")
     assert code == 1 and data["bank"] == [] and data["max_z_ohm"] == "inf"
-    assert "raise --max-cost" in data["explanation"][0]
+    assert "raise the part or cost limit" in data["explanation"][0]
 
 
 # --- checking a given bank --------------------------------------------------------------------

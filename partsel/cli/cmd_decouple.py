@@ -22,6 +22,7 @@ LINE_COLS = [Col("count", "n", ""), Col("part_number", "part"), Col("case", "cas
              Col("esl_total_h", "L total", "H"), Col("srf_hz", "SRF", "Hz"),
              Col("price", "price", "")]
 CURVE_COL = Col("curve_source", "curve")
+MODEL_COL = Col("model", "model")
 PEAK_COLS = [Col("f_hz", "f", "Hz"), Col("z_ohm", "|Z|", "ohm", 4),
              Col("ratio", "x target", "", 4)]
 
@@ -45,10 +46,13 @@ def _summary(res: Any) -> list[str]:
 
 
 def line_cols(res: Any) -> list[Col]:
-    """The bank table's columns: a curve column when measured curves were asked for."""
+    """The bank table's columns: model and curve columns when a line does not use its
+    catalog model."""
     cols = [Col("c_eff_f", "C worst", "F") if c.key == "c_eff_f" and res.rail.worst_case
             else c for c in LINE_COLS]
-    if res.measured:
+    if any(r["model_source"] != "catalog" for r in res.lines):
+        cols.insert(-1, MODEL_COL)
+    if any(r["curve_source"] != "model" for r in res.lines):
         cols.insert(-1, CURVE_COL)
     return cols
 
@@ -191,14 +195,16 @@ def decouple_cmd(
     prefer: Annotated[str, typer.Option(
         "--prefer", metavar="count|cost", help="Among banks that hold: fewest parts (then "
         "lowest cost), or lowest cost (then fewest parts).")] = "count",
+    model: str = opt.model_option(),
+    model_only: bool = opt.model_only_option(),
     measured: Annotated[bool, typer.Option(
-        "--measured", help="Use each part's stored measured curve (its latest sweep) in place "
-        "of its model where the sweep has points, the model outside; the mounting inductance "
-        "and the capacitance lost at the rail voltage are added to it (the sweep is taken as "
-        "measured at 0 V).")] = False,
+        "--measured", help="Same as --model measured (a measured curve is taken as measured "
+        "at 0 V; the mounting inductance and the capacitance lost at the rail voltage are "
+        "added to it).")] = False,
     measured_only: Annotated[bool, typer.Option(
-        "--measured-only", help="Measured curves only: plan with only the parts whose sweep "
-        "covers the band; with --check, refuse a part whose sweep does not.")] = False,
+        "--measured-only", help="Same as --model measured --model-only: plan with only the "
+        "parts whose sweep covers the band; with --check, refuse a part whose sweep does "
+        "not.")] = False,
     check_file: Annotated[Path | None, typer.Option(
         "--check", metavar="FILE", help="Evaluate this bank instead of planning one: CSV "
         "with part_number,count[,maker].")] = None,
@@ -228,7 +234,8 @@ def decouple_cmd(
                       worst_case, margin)
     with open_store_for(ctx) as store:
         if check_file is not None:
-            res = dec.check(store, spec, dec.read_bank(check_file), measured=measured,
+            res = dec.check(store, spec, dec.read_bank(check_file), model=model,
+                            model_only=model_only, measured=measured,
                             measured_only=measured_only)
         else:
             life = tuple(x.lower() for x in opt.split_list(lifecycle)) or ("active",)
@@ -238,7 +245,7 @@ def decouple_cmd(
                 lifecycles=life, min_voltage=opt.quantity(min_voltage, "V", "--min-voltage"),
                 in_stock=in_stock, max_parts=max_parts, max_lines=max_lines,
                 max_cost=units.parse_number(max_cost, "--max-cost") if max_cost else None,
-                prefer=prefer.strip().lower())
+                prefer=prefer.strip().lower(), model=model, model_only=model_only)
             res = dec.plan(store, spec, choice, measured=measured, measured_only=measured_only)
     if fmt == "json":
         from partsel.render import to_json

@@ -99,22 +99,30 @@ class Bank:
                             self.count.copy())
 
     def equivalents(self) -> pdn.Branches:
-        """Each branch as a series R-L-C with its low-frequency C, the L that puts its series
-        resonance at its SRF, and its resistance there: the structure the anti-resonance
-        estimates of a mixed bank come from (module notes). An R-L-C branch is itself."""
-        exact = self.rlc_branches()
-        if exact is not None:
-            return exact
-        c = self.models.value()
-        srf = self.models.srf()
-        with np.errstate(divide="ignore", invalid="ignore"):
-            lser = np.where(np.isfinite(srf) & (srf > 0), 1.0 / ((TWO_PI * srf) ** 2 * c), 0.0)
-            r = np.abs(self.models.impedance_each(np.where(np.isfinite(srf) & (srf > 0), srf,
-                                                           1.0)).real)
-        ok = np.isfinite(c) & (c > 0) & np.isfinite(lser)
-        return pdn.Branches(np.where(ok, c, np.inf), np.where(ok, np.nan_to_num(r), 0.0),
-                            np.where(ok, lser, 0.0), np.zeros(len(self)),
-                            np.where(ok, self.count, 0.0))
+        """Each branch as a series R-L-C: an ``rlc`` branch as itself, any other with its
+        low-frequency C, the L that puts its series resonance at its SRF, and its resistance
+        there: the structure the anti-resonance estimates of a mixed bank come from (module
+        notes). A branch without a finite C and SRF is left out (count 0)."""
+        n = len(self)
+        c, r, lser, td = np.full(n, np.inf), np.zeros(n), np.zeros(n), np.zeros(n)
+        count = self.count.copy()
+        for g in self.models.groups:
+            i = g.index
+            if g.family.name == "rlc":
+                b = g.batch
+                c[i], r[i], lser[i], td[i] = b["value"], b["esr"], b["esl"], b["tan_delta"]
+                continue
+            cv = g.family.value(g.batch)
+            srf = g.family.srf(g.batch)
+            good = np.isfinite(cv) & (cv > 0) & np.isfinite(srf) & (srf > 0)
+            with np.errstate(divide="ignore", invalid="ignore"):
+                lv = 1.0 / ((TWO_PI * srf) ** 2 * cv)
+                rv = np.abs(g.family.impedance_each(g.batch, np.where(good, srf, 1.0)).real)
+            c[i] = np.where(good, cv, np.inf)
+            lser[i] = np.where(good, lv, 0.0)
+            r[i] = np.where(good, np.nan_to_num(rv), 0.0)
+            count[i] = np.where(good, count[i], 0.0)
+        return pdn.Branches(c, r, lser, td, count)
 
     def scan(self, f1: float, f2: float, per_decade: int = pdn.MIN_PER_DECADE,
              refine_above: float = 0.0, polish: bool = True) -> pdn.Scan:

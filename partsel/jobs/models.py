@@ -246,6 +246,22 @@ class Chosen:
         return "models: " + ", ".join(f"{lab} for {n} part{'s' if n != 1 else ''}"
                                       for lab, n in sorted(counts.items(), key=lambda x: -x[1]))
 
+    def reverted(self, mask: NDArray[np.bool_], base: ModelSet) -> Chosen:
+        """The parts where ``mask`` holds back on their models in ``base`` (their catalog
+        models): for a measured curve that does not reach the band, say."""
+        pos = np.flatnonzero(mask)
+        if not len(pos):
+            return self
+        sub = base.take(pos)
+        models = self.models
+        for g in sub.groups:
+            models = _replace(models, pos[g.index], g.family.name, g.batch)
+        source, origin = self.source.copy(), self.origin.copy()
+        source[pos], origin[pos] = "catalog", "catalog columns"
+        lo, hi = self.measured_lo.copy(), self.measured_hi.copy()
+        lo[pos] = hi[pos] = np.nan
+        return Chosen(models, source, origin, self.available, lo, hi)
+
     def take(self, idx: NDArray[np.intp]) -> Chosen:
         return Chosen(self.models.take(idx), self.source[idx], self.origin[idx],
                       self.available[idx], self.measured_lo[idx], self.measured_hi[idx])

@@ -47,37 +47,38 @@ Every bank returned has passed ``pdn.scan`` on the whole band. The result says w
 were applied (DC-bias estimates labelled) and, when the target is not met, which part of the
 band fails and why, with the band bounds C >= 1/(2 pi f Z_t) and L <= Z_t/(2 pi f).
 
-Measured curves
----------------
-With ``measured``, a part whose latest stored sweep reaches the band uses it in place of its
-model where the sweep has points, the model outside (:class:`MeasuredCurve`): the data read
-between points with ln|Z| and phase linear in ln f, plus the board's mounting inductance in
-series, plus the model's change from C to C at the rail's bias (and worst case),
-(tan_delta - j)(1/(omega C_eff) - 1/(omega C)). The store keeps no bias with a sweep, so a
-sweep is taken as measured at 0 V on the part's model capacitance C; this keeps the rule that
-the bank never counts on capacitance a class II part does not have at the rail voltage (find
-and curve refuse --bias with measured curves instead; here the rail always sets a bias).
-``measured_only`` leaves out (plan) or refuses (check) the parts whose sweep does not cover the
-whole band.
+Models of each part
+-------------------
+Each capacitor is planned and checked with the model :func:`partsel.jobs.models.choose_models`
+picks for it (``Choice.model``: ``best`` by default, its measured curve, else its maker's
+model, else its catalog model), with the rail's layers applied the way the catalog model takes
+them: every capacitance scaled to the capacitance at the rail's DC bias (and worst case), and
+the mounting inductance in series. A measured curve answers within its measured range and the
+catalog model outside it (a curve that does not reach the band leaves the catalog model); the
+store keeps no bias with a sweep, so a sweep is taken as measured at 0 V on the part's catalog
+C and shifted by the series R-L-C model's own change,
+(tan_delta - j)(1/(omega C_eff) - 1/(omega C)), so that the bank never counts on capacitance a
+class II part does not have at the rail voltage. A maker's netlist has every C element scaled.
+``model_only`` leaves out (plan) or refuses (check) the parts without the chosen kind of model
+(with ``measured``: whose sweep does not cover the whole band).
 
-A measured branch has no R-L-C structure: no Foster brackets, no SRF. The exact check of a bank
-with measured branches (``pdn.scan_admittance``) evaluates |Z| on the union of the 200-per-
-decade grid, the lossless anti-resonances of the models, and every measured point in the band
-(with the model side of each sweep's ends), and refines each local maximum by golden-section
-search on the interpolated data. Between two measured points the data is only the
-interpolation, so the check is only as fine as the data: a resonance narrower than the sweep's
-point spacing is not seen. The planner keeps steps 1-4 on the models (the reduction bins by SRF
-and loss, the check inside the search uses the anti-resonances); parts with a measured curve
-over the band stay candidates. Step 5 then checks the bank on the measured curves and, with
-the same greedy fill, constraint generation and pruning (steps 2 and 4) run on the measured
-curves, adds parts until it holds on them, or prunes the parts they do not need; when no bank
-within the limits holds on them the answer says so with the reasons.
+While every candidate uses its catalog series R-L-C model the network is ``pdn.Branches`` and
+the exact check is ``pdn.scan`` (Foster brackets). Otherwise the candidates form a
+:class:`partsel.engine.bank.Bank` of their models, and steps 1-4 run on it directly: step 1
+bins only the catalog R-L-C parts (a part with a model of its own always stays a candidate),
+the search grid also holds every candidate's landmarks in the band (resonances, stationary
+points, measured points), and the exact check is :meth:`Bank.scan`: the 200-per-decade grid,
+every used model's landmarks and the anti-resonances of the lines' R-L-C equivalents, each
+local maximum refined. With measured curves the check is only as fine as the data (a resonance
+narrower than a sweep's point spacing is not seen). A result whose models are not all catalog
+ones also reports the same bank on its catalog models alone (``model_check``) and says when
+the two disagree.
 
 Modules
 -------
 ``inputs`` the request (Board, Rail, Choice); ``board_options`` the board read from text;
-``capacitance`` C at DC bias and worst case; ``candidates`` loading and reduction (step 1);
-``measured`` measured curves and networks; ``solver`` steps 2-5; ``diagnosis`` why a bank
+``capacitance`` C at DC bias and worst case; ``candidates`` loading, models and reduction
+(step 1); ``solver`` steps 2-4; ``diagnosis`` why a bank
 fails; ``effects`` what a result says was applied; ``result`` the Result and its rows;
 ``evaluate`` a bank checked into a Result; ``planner`` :func:`plan`; ``bank`` :func:`check`
 (the bank file is read by :func:`partsel.io.bank.read_bank`); ``plot`` the plot of a bank.
@@ -96,6 +97,7 @@ from partsel.jobs.decouple.candidates import (
     DEFAULT_VOLTAGE_MARGIN,
     VOLTAGE_RULE,
     Parts,
+    attach_models,
     load_candidates,
     reduce_candidates,
     usable,
@@ -121,13 +123,6 @@ from partsel.jobs.decouple.inputs import (
     Prefer,
     Rail,
 )
-from partsel.jobs.decouple.measured import (
-    TWO_PI,
-    MeasuredCurve,
-    Network,
-    curve_source,
-    measured_curves,
-)
 from partsel.jobs.decouple.planner import plan
 from partsel.jobs.decouple.plot import plot_bank
 from partsel.jobs.decouple.result import MEASURED_TEXT, MODEL_TEXT, Result
@@ -138,7 +133,6 @@ from partsel.jobs.decouple.solver import (
     greedy,
     linearised_lp,
     solve,
-    solve_measured,
 )
 
 __all__ = [
@@ -154,28 +148,24 @@ __all__ = [
     "MOUNT_L_BY_CASE",
     "MOUNT_L_OTHER",
     "MOUNT_L_THROUGH_HOLE",
-    "MeasuredCurve",
-    "Network",
     "Outcome",
     "PEAK_WINDOW_DECADES",
     "Parts",
+    "attach_models",
     "Prefer",
     "Rail",
     "Result",
     "Search",
     "THROUGH_HOLE",
-    "TWO_PI",
     "VOLTAGE_RULE",
     "WORST_CASE_TOLERANCE",
     "capacitance_at_bias",
     "board_from_text",
     "check",
-    "curve_source",
     "diagnose",
     "greedy",
     "linearised_lp",
     "load_candidates",
-    "measured_curves",
     "parse_area",
     "parse_length",
     "parse_mount_l",
@@ -185,7 +175,6 @@ __all__ = [
     "read_bank",
     "reduce_candidates",
     "solve",
-    "solve_measured",
     "usable",
     "voltage_rule_text",
     "weights",

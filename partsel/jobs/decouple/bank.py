@@ -16,22 +16,27 @@ from partsel.jobs.decouple.candidates import (
     DEFAULT_VOLTAGE_MARGIN,
     Parts,
     _parts_from,
+    attach_models,
     usable,
 )
 from partsel.jobs.decouple.evaluate import _result
 from partsel.jobs.decouple.inputs import Rail
-from partsel.jobs.decouple.measured import MeasuredCurve, _not_reaching, measured_curves
 from partsel.jobs.decouple.result import Result, _fq
 from partsel.store.db import Store
 
 
-def check(store: Store, rail: Rail, entries: Sequence[BankEntry], *, measured: bool = False,
+def check(store: Store, rail: Rail, entries: Sequence[BankEntry], *, model: str = "best",
+          model_only: bool = False, measured: bool = False,
           measured_only: bool = False) -> Result:
-    """Evaluate a given bank against ``rail`` with the same models as :func:`plan`.
+    """Evaluate a given bank against ``rail`` with the same models as :func:`plan`: each part
+    with the model ``model`` picks for it (see :func:`partsel.jobs.models.choose_models`).
 
-    ``measured`` uses each part's latest stored sweep in place of its model where the sweep
-    has points; ``measured_only`` refuses a part whose sweep does not cover the whole band.
+    ``model_only`` refuses a part without the chosen kind of model, or (measured) whose sweep
+    does not cover the whole band. ``measured`` / ``measured_only`` are the old spellings of
+    ``model="measured"`` (with ``model_only``).
     """
+    if measured or measured_only:
+        model, model_only = "measured", model_only or measured_only
     rail.validate()
     if not entries:
         raise QueryError("the bank is empty: list at least one part")
@@ -62,16 +67,14 @@ def check(store: Store, rail: Rail, entries: Sequence[BankEntry], *, measured: b
         cols[key][:] = [r.get(key) for r in rows]
     for key in ("value", "tolerance", "esr", "esl", "tan_delta", "rated_voltage", "price"):
         cols[key] = np.array([np.nan if r.get(key) is None else float(r[key]) for r in rows])
-    parts = _parts_from(cols, rail)
-    curves = None
-    if measured or measured_only:
-        curves, ranges = measured_curves(store, parts, rail.band)
-        if measured_only:
-            _refuse_uncovered(parts, curves, ranges, rail.band)
-        elif (text := _not_reaching(curves, ranges)) is not None:
-            notes.append(text)
+    parts = attach_models(store, _parts_from(cols, rail), rail, model, False, notes)
+    if model_only:
+        _refuse_missing(parts, model, rail.band)
     counts = np.array([e.count for e in entries], dtype=float)
-    res = _result(rail, "check", parts, counts, notes, {}, None, "", curves)
+    res = _result(rail, "check", parts, counts, notes, {}, None, "")
+    if not parts.catalog_rlc:
+        res.effects.insert(1, "models: " + "; ".join(
+            f"{pn} {lab}" for pn, lab in zip(parts.part_number, parts.label, strict=True)))
     res.stats["seconds"] = time.perf_counter() - t0
     return res
 
@@ -95,14 +98,19 @@ def _voltage_notes(row: dict[str, Any], voltage: float) -> list[str]:
             f"{DEFAULT_VOLTAGE_MARGIN:g} x the rail voltage)"]
 
 
-def _refuse_uncovered(parts: Parts, curves: Sequence[MeasuredCurve | None],
-                      ranges: Sequence[tuple[float, float] | None],
-                      band: tuple[float, float]) -> None:
-    for pn, c, r in zip(parts.part_number, curves, ranges, strict=True):
-        if r is None:
+def _refuse_missing(parts: Parts, model: str, band: tuple[float, float]) -> None:
+    """Refuse a part without the chosen kind of model (or a measured curve over the band)."""
+    src = parts.sources()
+    covers = parts.covers(band)
+    for i, pn in enumerate(parts.part_number):
+        if model == "measured" and src[i] != "measured":
             raise QueryError(f"{pn} has no stored measured sweep; allow the model where "
                              "there is no measurement to use it")
-        if c is None or not c.covers(band):
-            raise QueryError(f"{pn} was measured from {_fq(r[0], 'Hz')} to {_fq(r[1], 'Hz')} "
+        if model == "measured" and not covers[i]:
+            lo, hi = parts.measured_lo[i], parts.measured_hi[i]
+            raise QueryError(f"{pn} was measured from {_fq(lo, 'Hz')} to {_fq(hi, 'Hz')} "
                              "only; narrow the band to that range or let the model stand in "
                              "outside it")
+        if model in ("vendor", "best") and src[i] not in ("vendor", "measured"):
+            what = "vendor model" if model == "vendor" else "vendor model or measured sweep"
+            raise QueryError(f"{pn} has no {what}; allow its catalog model to use it")

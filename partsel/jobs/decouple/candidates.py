@@ -14,6 +14,8 @@ from numpy.typing import ArrayLike, NDArray
 from partsel import units
 from partsel.derating import NO_DERATING, derating_factors
 from partsel.engine import pdn
+from partsel.engine.bank import Bank
+from partsel.engine.models import ModelSet, family
 from partsel.errors import QueryError
 from partsel.jobs.decouple.capacitance import capacitance_at_bias, worst_case_ratio
 from partsel.jobs.decouple.inputs import Choice, Prefer, Rail
@@ -29,6 +31,9 @@ DEFAULT_VOLTAGE_MARGIN = 1.25
 VOLTAGE_RULE = ("rated voltage x derating (MnO2 tantalum 50 %; polymer 90 % up to a 10 V "
                 "rating, 80 % above) at least the rail voltage; other technologies rated at "
                 f"least {DEFAULT_VOLTAGE_MARGIN:g} x the rail voltage (a design margin)")
+
+
+_MODEL_FIELDS = ("models", "source", "label", "origin", "measured_lo", "measured_hi")
 
 
 @dataclass
@@ -55,6 +60,14 @@ class Parts:
     mounting: NDArray
     lifecycle: NDArray
     safety_class: NDArray     # None when the part has none
+    # The model each part is evaluated with (jobs.models.choose_models) with the rail's
+    # layers applied; None while every part uses its catalog series R-L-C (the arrays above).
+    models: ModelSet | None = None
+    source: NDArray | None = None        # per part: catalog, fit, vendor or measured
+    label: NDArray | None = None         # per part: e.g. "vendor netlist"
+    origin: NDArray | None = None        # per part: file, subcircuit, date
+    measured_lo: NDArray | None = None   # a measured curve's range [Hz], else NaN
+    measured_hi: NDArray | None = None
 
     @property
     def l_total(self) -> NDArray:
@@ -64,10 +77,77 @@ class Parts:
         return len(self.id)
 
     def take(self, idx: NDArray) -> Parts:
-        return Parts(**{k: getattr(self, k)[idx] for k in self.__dataclass_fields__})
+        out = {}
+        for k in self.__dataclass_fields__:
+            v = getattr(self, k)
+            out[k] = None if v is None else (v.take(idx) if isinstance(v, ModelSet) else v[idx])
+        return Parts(**out)
 
     def branches(self, counts: NDArray | float = 1.0) -> pdn.Branches:
+        """The parts' catalog series R-L-C models with the rail's layers, as branches."""
         return pdn.Branches.of(self.c_eff, self.esr, self.l_total, self.tan_delta, counts)
+
+    @property
+    def catalog_rlc(self) -> bool:
+        """Every part evaluated with its catalog series R-L-C model."""
+        return self.models is None
+
+    def network(self, counts: NDArray | float = 1.0) -> pdn.Branches | Bank:
+        """The parts as branches of the network: R-L-C branches when every part uses its
+        catalog model (the exact Foster scan applies), else a bank of their chosen models."""
+        if self.models is None:
+            return self.branches(counts)
+        return Bank.of(self.models, counts)
+
+    def without_models(self) -> Parts:
+        """The same parts on their catalog models only."""
+        return Parts(**{k: (None if k in _MODEL_FIELDS else getattr(self, k))
+                        for k in self.__dataclass_fields__})
+
+    def sources(self) -> NDArray:
+        return self.source if self.source is not None else np.full(len(self), "catalog",
+                                                                      dtype=object)
+
+    def covers(self, band: tuple[float, float]) -> NDArray[np.bool_]:
+        """Per part: its measured curve covers the band."""
+        if self.measured_lo is None or self.measured_hi is None:
+            return np.zeros(len(self), dtype=bool)
+        return (self.measured_lo <= band[0]) & (band[1] <= self.measured_hi)
+
+
+def attach_models(store: Store, parts: Parts, rail: Rail, choice: str, only: bool,
+                  notes: list[str]) -> Parts:
+    """Each part's chosen model (:func:`partsel.jobs.models.choose_models`) with the rail's
+    DC bias, worst case and mounting applied the way the catalog model takes them: C scaled
+    to ``c_eff`` and the mounting inductance in series. A measured curve that does not reach
+    the band leaves the catalog model in place (said in the notes)."""
+    from partsel.jobs.models import choose_models
+
+    rlc = family("rlc")
+    base = ModelSet.of(rlc, rlc.make(value=parts.value, esr=parts.esr, esl=parts.esl,
+                                     tan_delta=parts.tan_delta))
+    chosen = choose_models(store, parts.id, base, choice, only=only, value=parts.value,
+                           tan_delta=parts.tan_delta)
+    f1, f2 = rail.band
+    away = (chosen.source == "measured") & ~((chosen.measured_lo <= f2)
+                                             & (chosen.measured_hi >= f1))
+    if away.any():
+        notes.append(f"{int(away.sum())} capacitor(s) have a stored sweep that does not reach "
+                     "the band: their model is used")
+        chosen = chosen.reverted(away, base)
+    keep = chosen.available
+    if not keep.all():
+        parts, chosen = parts.take(np.flatnonzero(keep)), chosen.take(np.flatnonzero(keep))
+    if np.all(chosen.source == "catalog"):
+        return parts
+    models = chosen.models.with_capacitance_scale(parts.c_eff / parts.value)
+    models = models.with_series_inductance(parts.mount_l)
+    return Parts(**{k: getattr(parts, k) for k in parts.__dataclass_fields__
+                    if k not in _MODEL_FIELDS},
+                 models=models, source=chosen.source, label=np.array(chosen.labels(),
+                                                                      dtype=object),
+                 origin=chosen.origin, measured_lo=chosen.measured_lo,
+                 measured_hi=chosen.measured_hi)
 
 
 def _parts_from(cols: dict[str, NDArray], rail: Rail) -> Parts:
@@ -112,7 +192,8 @@ def voltage_rule_text(voltage: float, override: float | None = None) -> str:
 
 
 def load_candidates(store: Store, rail: Rail, choice: Choice) -> tuple[Parts, list[str], int]:
-    """Capacitors that pass the filters and carry a usable model: (parts, notes, considered)."""
+    """Capacitors that pass the filters and carry a usable model, each with its chosen model
+    (``choice.model``): (parts, notes, considered)."""
     cols = capacitors(store, lifecycles=choice.lifecycles, cases=choice.cases,
                       dielectrics=choice.dielectrics, technologies=choice.technologies,
                       makers=choice.makers, in_stock=choice.in_stock)
@@ -151,7 +232,34 @@ def load_candidates(store: Store, rail: Rail, choice: Choice) -> tuple[Parts, li
     if idx.size == 0:
         raise QueryError("no capacitor is left to plan with: " + "; ".join(notes))
     parts = _parts_from({k: v[idx] for k, v in cols.items()}, rail)
+    measured_only = choice.model_only and choice.model == "measured"
+    parts = attach_models(store, parts, rail, choice.model,
+                          choice.model_only and not measured_only, notes)
+    if measured_only:
+        parts = _covering(parts, rail.band, notes)
+    elif choice.model_only and len(parts) < len(idx):
+        notes.append(f"{len(idx) - len(parts)} capacitors left out: no {choice.model} model")
+    if not len(parts):
+        raise QueryError(f"no capacitor that passes the filters has a {choice.model} model: "
+                         "import one or choose another model")
     return parts, notes, considered
+
+
+def _covering(parts: Parts, band: tuple[float, float], notes: list[str]) -> Parts:
+    """Only the parts whose measured curve covers the band (a measured-only plan)."""
+    keep = parts.covers(band)
+    left = len(keep) - int(keep.sum())
+    if left:
+        partial = int((parts.sources() == "measured").sum()) - int(keep.sum())
+        notes.append(f"{left} capacitors left out (measured curves only): no stored sweep "
+                     f"covers the whole band ({partial} cover part of it)")
+    if not keep.any():
+        raise QueryError(f"no capacitor that passes the filters has a stored sweep covering "
+                         f"{units.format_quantity(band[0], 'Hz')}.."
+                         f"{units.format_quantity(band[1], 'Hz')}: import sweeps with "
+                         "'partsel sweep import', narrow the band, or let the models stand in "
+                         "where there is no measurement")
+    return parts.take(np.flatnonzero(keep))
 
 
 # -- candidate reduction -----------------------------------------------------------------------
@@ -178,6 +286,14 @@ def reduce_candidates(parts: Parts, w: NDArray, f_band: tuple[float, float],
     weight), at most ``per_bin`` parts spread over it (1 keeps the lowest L, for the count
     objective, where the weight is only a tie-break).
     """
+    if parts.models is not None:
+        # parts with a model of their own (vendor, measured, a saved fit) stay candidates
+        # whatever their catalog model's bin; the bins sort the catalog R-L-C parts
+        own = np.flatnonzero(parts.sources() != "catalog")
+        cat = np.flatnonzero(parts.sources() == "catalog")
+        kept = cat[reduce_candidates(parts.take(cat).without_models(), w[cat], f_band,
+                                     per_bin)] if len(cat) else np.empty(0, np.intp)
+        return np.union1d(own, kept).astype(np.intp)
     c, l_tot = parts.c_eff, parts.l_total
     with np.errstate(divide="ignore"):
         srf = 1.0 / (2 * np.pi * np.sqrt(l_tot * c))

@@ -10,9 +10,9 @@ import numpy as np
 from numpy.typing import NDArray
 
 from partsel.engine import pdn
+from partsel.engine.bank import Bank
 from partsel.jobs.decouple.candidates import Parts
 from partsel.jobs.decouple.inputs import Rail
-from partsel.jobs.decouple.measured import Network
 from partsel.jobs.decouple.result import _fq
 from partsel.jobs.decouple.solver import _CHECK_SLACK
 
@@ -31,14 +31,14 @@ def _crossing(total: Callable[[NDArray], NDArray], f_in: float, f_out: float,
 
 
 def diagnose(rail: Rail, bank: pdn.Branches, sc: pdn.Scan, pool: Parts | None,
-             limits: str, network: Network | None = None
+             limits: str, network: Bank | None = None
              ) -> tuple[list[dict[str, Any]], list[str]]:
     """Which parts of the band exceed the target, and why, with the numbers.
 
     ``pool`` holds the parts the planner could use (for "the best part has ..."); ``limits``
-    says which limits bound the bank (empty for a check). With a ``network`` (measured
-    curves), its |Z| decides where the band fails and the kind of failure; the capacitance and
-    inductance figures are the models'.
+    says which limits bound the bank (empty for a check). With a ``network`` (the
+    models used, when not all catalog ones), its |Z| decides where the band fails and the kind
+    of failure; the capacitance and inductance figures are the catalog models'.
     """
     total = (network or bank).total
     zt, (f1, f2) = rail.design_target, rail.band

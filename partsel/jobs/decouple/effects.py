@@ -4,8 +4,6 @@ and how |Z| was checked.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
-
 import numpy as np
 from numpy.typing import NDArray
 
@@ -13,12 +11,10 @@ from partsel.engine import pdn
 from partsel.jobs.decouple.candidates import Parts
 from partsel.jobs.decouple.capacitance import BIAS_LABELS, WORST_CASE_TOLERANCE
 from partsel.jobs.decouple.inputs import THROUGH_HOLE, Rail
-from partsel.jobs.decouple.measured import MeasuredCurve
 from partsel.jobs.decouple.result import _fq
 
 
-def _effects(rail: Rail, parts: Parts, counts: NDArray,
-             curves: Sequence[MeasuredCurve | None] | None = None) -> list[str]:
+def _effects(rail: Rail, parts: Parts, counts: NDArray) -> list[str]:
     b = rail.board
     eff = ["series R-L-C per part: Z = ESR + tan_delta/(2 pi f C) + j(2 pi f (ESL + mounting) "
            "- 1/(2 pi f C)); parts and board added as complex admittances"]
@@ -56,29 +52,39 @@ def _effects(rail: Rail, parts: Parts, counts: NDArray,
                                              if b.plane_tan_delta else ", lossless"))
     if b.vrm_r is not None and b.vrm_l is not None:
         eff.append(f"regulator output {_fq(b.vrm_r, 'ohm')} + j 2 pi f {_fq(b.vrm_l, 'H')}")
-    used = [] if curves is None else [(int(i), c) for i in np.flatnonzero(counts)
-                                      if (c := curves[i]) is not None]
-    if curves is None or not used:
-        if curves is not None:
-            eff.append("measured curves: no part in the bank has a stored sweep that reaches "
-                       "the band, so the models stand")
-        eff.append(f"|Z| checked on {pdn.MIN_PER_DECADE} points per decade plus the lossless "
-                   "anti-resonances, every peak refined to rounding")
+    src = parts.sources()
+    lines = np.flatnonzero(counts)
+    vendor = [i for i in lines if src[i] in ("vendor", "fit")]
+    if vendor:
+        eff.append("models of their own in place of the catalog's: " + "; ".join(
+            f"{parts.part_number[i]}: {parts.label[i]} ({parts.origin[i]})" for i in vendor)
+            + " (every C scaled to the capacitance at bias, the mounting inductance in series)")
+    used = [int(i) for i in lines if src[i] == "measured"]
+    if not used:
+        if parts.models is None:
+            eff.append(f"|Z| checked on {pdn.MIN_PER_DECADE} points per decade plus the "
+                       "lossless anti-resonances, every peak refined to rounding")
+        else:
+            eff.append(f"|Z| checked on {pdn.MIN_PER_DECADE} points per decade, every model's "
+                       "own resonances and stationary points and the anti-resonances of the "
+                       "lines' R-L-C equivalents, peaks refined")
         return eff
     return eff + _measured_effects(rail, parts, counts, used)
 
 
-def _measured_effects(rail: Rail, parts: Parts, counts: NDArray,
-                      used: list[tuple[int, MeasuredCurve]]) -> list[str]:
+def _measured_effects(rail: Rail, parts: Parts, counts: NDArray, used: list[int]) -> list[str]:
     f1, f2 = rail.band
-    items, shifted, points = [], [], [np.empty(0)]
-    for i, c in used:
+    covers = parts.covers(rail.band)
+    items, shifted = [], []
+    for i in used:
         pn = str(parts.part_number[i])
-        items.append(f"{pn} from {c.source} ({_fq(c.band[0], 'Hz')} to {_fq(c.band[1], 'Hz')}"
-                     + ("" if c.covers(rail.band) else ", the model outside it") + ")")
-        if c.c_eff != c.c_model:
-            shifted.append(f"{pn} {_fq(c.c_model, 'F')} -> {_fq(c.c_eff, 'F')}")
-        points.append(c.f[(c.f >= f1) & (c.f <= f2)])
+        lo, hi = float(parts.measured_lo[i]), float(parts.measured_hi[i])
+        items.append(f"{pn} from {str(parts.origin[i]).split(', imported')[0]} "
+                     f"({_fq(lo, 'Hz')} to {_fq(hi, 'Hz')}"
+                     + ("" if covers[i] else ", the model outside it") + ")")
+        if parts.c_eff[i] != parts.value[i]:
+            shifted.append(f"{pn} {_fq(float(parts.value[i]), 'F')} -> "
+                           f"{_fq(float(parts.c_eff[i]), 'F')}")
     others = len(np.flatnonzero(counts)) - len(used)
     eff = ["measured curves (the latest stored sweep, ln|Z| and phase interpolated linearly in "
            "ln f) in place of the model for " + "; ".join(items)
@@ -92,9 +98,8 @@ def _measured_effects(rail: Rail, parts: Parts, counts: NDArray,
                    "(tan_delta - j)(1/(2 pi f C_eff) - 1/(2 pi f C)), taking each sweep as "
                    "measured at 0 V on the model's C: " + ", ".join(shifted))
     eff.append(f"|Z| checked on {pdn.MIN_PER_DECADE} points per decade, the lossless "
-               "anti-resonances of the models and every measured point in the band "
-               f"({np.unique(np.concatenate(points)).size}),"
-               " peaks refined on the data interpolated in ln f: with measured curves the "
-               "check is only as fine as the data (a resonance narrower than a sweep's point "
-               "spacing is not seen)")
+               "anti-resonances of the models and every measured point in the band, peaks "
+               "refined on the data interpolated in ln f: with measured curves the check is "
+               "only as fine as the data (a resonance narrower than a sweep's point spacing is "
+               "not seen)")
     return eff

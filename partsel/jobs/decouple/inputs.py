@@ -153,6 +153,8 @@ class Choice:
     max_cost: float | None = None
     max_lines: int | None = None            # distinct part numbers in the bank
     prefer: Prefer = "count"
+    model: str = "best"                     # which model of each part (jobs.models)
+    model_only: bool = False                # leave out parts without the chosen kind of model
 
     def validate(self) -> None:
         """Refuse unknown limits; spell the list filters as the catalog does (aliases such as
@@ -163,6 +165,8 @@ class Choice:
         self.lifecycles = tuple(canonical("lifecycle", x, LIFECYCLES) for x in self.lifecycles)
         self.dielectrics = tuple(eia198.decode(d).code for d in self.dielectrics)
         self.cases = tuple(normalise_case(c) for c in self.cases)
+        from partsel.jobs.models import check_choice
+        check_choice(self.model)
         if self.prefer not in ("count", "cost"):
             raise QueryError(f"unknown --prefer '{self.prefer}': use count or cost")
         if self.max_parts < 1:

@@ -13,10 +13,10 @@ from numpy.typing import NDArray
 
 from partsel import units
 from partsel.engine import pdn
+from partsel.engine.bank import Bank
 from partsel.jobs.decouple.candidates import Parts
 from partsel.jobs.decouple.capacitance import BIAS_LABELS
 from partsel.jobs.decouple.inputs import Board, Rail
-from partsel.jobs.decouple.measured import MeasuredCurve, Network, curve_source
 from partsel.standards import safety
 
 MODEL_TEXT = ("Z_k = esr_ohm + tan_delta/(w c_eff_f) + j(w esl_total_h - 1/(w c_eff_f)), "
@@ -26,6 +26,10 @@ MEASURED_TEXT = ("; a line whose curve_source is not 'model' uses, inside measur
                  "the latest stored sweep of the part instead: ln|Z| and unwrapped phase "
                  "linear in ln f between its points, plus j w mount_l_h, plus (tan_delta - j)"
                  "(1/(w c_eff_f) - 1/(w value_f))")
+VENDOR_TEXT = ("; a line whose model_source is 'vendor' or whose model_family is not 'rlc' "
+               "uses that model instead (model_origin names it: a maker's netlist solved "
+               "exactly, or its Touchstone data as a measured curve), with every C scaled by "
+               "c_eff_f / value_f and j w mount_l_h in series")
 
 
 @dataclass
@@ -48,9 +52,8 @@ class Result:
     stats: dict[str, Any]
     branches: pdn.Branches              # bank lines then board, counts applied (models)
     labels: list[str]
-    network: Network | None = None      # the same with measured curves, when any are used
-    model_check: dict[str, Any] | None = None   # the bank on its models alone, when measured
-    measured: bool = False              # measured curves were asked for
+    network: Bank | None = None         # the same on the models used, when not all catalog
+    model_check: dict[str, Any] | None = None   # the bank on its catalog models alone, then
 
     @property
     def margin_ohm(self) -> float:
@@ -92,6 +95,16 @@ class Result:
             out.append(("total", net.total(f)))
         return out
 
+    def model_text(self) -> str:
+        """The equations behind the figures, as the JSON states them."""
+        text = MODEL_TEXT
+        if any(r["curve_source"] != "model" for r in self.lines):
+            text += MEASURED_TEXT
+        if any(r["model_source"] == "vendor" or r["model_family"] not in ("rlc", "measured")
+               for r in self.lines):
+            text += VENDOR_TEXT
+        return text
+
     def to_dict(self) -> dict[str, Any]:
         """The result as plain data (SI units in every key name)."""
         return {
@@ -102,8 +115,9 @@ class Result:
             "margin_ohm": self.margin_ohm, "margin_db": self.margin_db,
             "parts": self.parts, "lines": len(self.lines), "cost": self.cost,
             "bank": self.lines, "board": self.board,
-            "model": MODEL_TEXT + (MEASURED_TEXT if self.network is not None else ""),
-            "measured_curves": self.measured, "model_check": self.model_check,
+            "model": self.model_text(),
+            "measured_curves": any(r["curve_source"] != "model" for r in self.lines),
+            "model_check": self.model_check,
             "peaks": self.peaks, "failures": self.failures,
             "explanation": self.explanation, "cautions": self.cautions,
             "bounds": self.bounds, "effects": self.effects, "notes": self.notes,
@@ -111,10 +125,14 @@ class Result:
         }
 
 
-def _line(parts: Parts, i: int, count: int, curve: MeasuredCurve | None,
-          band: tuple[float, float]) -> dict[str, Any]:
+def _line(parts: Parts, i: int, count: int, band: tuple[float, float]) -> dict[str, Any]:
     c, l_tot = float(parts.c_eff[i]), float(parts.l_total[i])
     price = float(parts.price[i])
+    source = str(parts.sources()[i])
+    measured = source == "measured"
+    fam = parts.models.take([i]).family_names()[0] if parts.models is not None else "rlc"
+    curve = ("measured" if bool(parts.covers(band)[i]) else "measured + model") if measured \
+        else "model"
     return {
         "part_number": str(parts.part_number[i]), "maker": str(parts.maker[i]),
         "count": int(count), "value_f": float(parts.value[i]), "c_eff_f": c,
@@ -130,9 +148,14 @@ def _line(parts: Parts, i: int, count: int, curve: MeasuredCurve | None,
         "rated_voltage_v": float(parts.rated_voltage[i]), "lifecycle": parts.lifecycle[i],
         "safety_class": parts.safety_class[i] or None,
         "price": price if math.isfinite(price) else None,
-        "curve_source": curve_source(curve, band),
-        "measured_band_hz": list(curve.band) if curve is not None else None,
-        "sweep_file": curve.source if curve is not None else None,
+        "curve_source": curve,
+        "measured_band_hz": [float(parts.measured_lo[i]), float(parts.measured_hi[i])]
+        if measured else None,
+        "sweep_file": str(parts.origin[i]).split(", imported")[0] if measured else None,
+        "model_source": source, "model_family": fam,
+        "model": str(parts.label[i]) if parts.label is not None else "catalog rlc",
+        "model_origin": str(parts.origin[i]) if parts.origin is not None else
+        "catalog columns",
     }
 
 

@@ -1,5 +1,5 @@
 """The search for counts: greedy fill, linearised LP rounds and pruning with the exact check
-(package notes, steps 2-4), and the same on measured curves (step 5).
+(package notes, steps 2-4), on R-L-C branches or on a bank of any model families.
 """
 
 from __future__ import annotations
@@ -12,7 +12,9 @@ import numpy as np
 from numpy.typing import NDArray
 
 from partsel.engine import pdn
-from partsel.jobs.decouple.measured import Network
+from partsel.engine.bank import Bank
+
+Network = pdn.Branches | Bank
 
 _CHECK_SLACK = 1e-9   # relative slack of the exact check (rounding of |Z| near the target)
 _GRID_SLACK = 1e-6    # the search grid asks this much more, so refinement rarely fails
@@ -22,8 +24,8 @@ _GRID_SLACK = 1e-6    # the search grid asks this much more, so refinement rarel
 class Search:
     """Candidates evaluated on a frequency grid: Y_k(f) of one part, Y of the board.
 
-    The candidates are models (``pdn.Branches``) or, in step 5, a :class:`Network` with
-    measured curves: only their values on the grid matter here."""
+    The candidates are R-L-C branches (``pdn.Branches``) or a :class:`Bank` of any model
+    families: only their values on the grid matter here."""
 
     f: NDArray
     y_parts: NDArray          # (K, F)
@@ -31,13 +33,13 @@ class Search:
     y_target: float           # 1/Z_t, with the grid slack
 
     @classmethod
-    def build(cls, f: NDArray, cands: pdn.Branches | Network, board: pdn.Branches,
+    def build(cls, f: NDArray, cands: Network, board: pdn.Branches,
               target: float) -> Search:
         y_parts = 1.0 / cands.impedance(f)
         y_board = board.admittance(f) if len(board) else np.zeros(len(f), dtype=complex)
         return cls(f, y_parts, y_board, (1.0 + _GRID_SLACK) / target)
 
-    def add_frequencies(self, f_new: NDArray, cands: pdn.Branches | Network,
+    def add_frequencies(self, f_new: NDArray, cands: Network,
                         board: pdn.Branches) -> Search:
         f = np.concatenate([self.f, f_new])
         y_parts = np.concatenate([self.y_parts, 1.0 / cands.impedance(f_new)], axis=1)
@@ -151,13 +153,19 @@ class Outcome:
 class _Solver:
     """The state of one search: the grid (growing with cuts), the exact check, the limits."""
 
-    def __init__(self, cands: pdn.Branches | Network, board: pdn.Branches, target: float,
+    def __init__(self, cands: Network, board: pdn.Branches, target: float,
                  band: tuple[float, float], w: NDArray, price: NDArray,
                  limits: Limits, grid: NDArray | None = None) -> None:
         self.cands, self.board, self.target, self.band = cands, board, target, band
         self.w, self.price, self.limits = w, price, limits
         if grid is None:
             grid = pdn.log_grid(*band, pdn.MIN_PER_DECADE)
+            if isinstance(cands, Bank):
+                # the grid also holds every candidate's landmarks in the band (resonances,
+                # measured points), where a model's behaviour changes
+                marks = np.concatenate([np.empty(0)] + cands.models.landmarks())
+                grid = np.unique(np.concatenate(
+                    [grid, marks[(marks > band[0]) & (marks < band[1])]]))
         self.search = Search.build(grid, cands, board, target)
         self.cap = max(4 * limits.max_parts, 200)
         self.strict = False
@@ -169,6 +177,10 @@ class _Solver:
         # the lossless anti-resonances and 200 points per decade, so they cannot hide a peak
         # above it); the bank returned passes the full check (``strict``).
         bank = _bank(self.cands, counts, self.board)
+        if isinstance(bank, Bank):
+            if self.strict:
+                return bank.scan(*self.band)
+            return bank.scan(*self.band, refine_above=0.5 * self.target, polish=False)
         if self.strict:
             return pdn.scan(*self.band, bank)
         return pdn.scan(*self.band, bank, refine_above=0.5 * self.target, polish=False)
@@ -244,7 +256,7 @@ class _Solver:
         return counts
 
 
-def solve(cands: pdn.Branches, board: pdn.Branches, target: float,
+def solve(cands: Network, board: pdn.Branches, target: float,
           band: tuple[float, float], w: NDArray, price: NDArray,
           limits: Limits | None = None, rounds: int = 6) -> Outcome:
     """Counts of ``cands`` (one part each) that keep |Z| <= target over ``band`` with the
@@ -292,47 +304,11 @@ def solve(cands: pdn.Branches, board: pdn.Branches, target: float,
     return Outcome(best, True, sv.stats)
 
 
-def _bank(cands: pdn.Branches, counts: NDArray, board: pdn.Branches) -> pdn.Branches:
+def _bank(cands: Network, counts: NDArray, board: pdn.Branches) -> Network:
+    """The candidates with ``counts`` and the board in parallel."""
+    if isinstance(cands, Bank):
+        bank = cands.with_counts(counts)
+        return bank.concat(Bank.from_branches(board)) if len(board) else bank
     bank = pdn.Branches(cands.c, cands.esr, cands.esl, cands.tan_delta,
                         np.asarray(counts, dtype=float))
     return pdn.Branches.concat(bank, board) if len(board) else bank
-
-
-class _MeasuredSolver(_Solver):
-    """The same search on a :class:`Network`: the grid also holds every measured point in the
-    band, and the exact check is :meth:`Network.scan`."""
-
-    def __init__(self, cands: Network, board: pdn.Branches, target: float,
-                 band: tuple[float, float], w: NDArray, price: NDArray,
-                 limits: Limits) -> None:
-        grid = np.unique(np.concatenate([pdn.log_grid(*band, pdn.MIN_PER_DECADE),
-                                         cands.sample_points(*band)]))
-        super().__init__(cands, board, target, band, w, price, limits, grid)
-        self.net = cands
-
-    def scan(self, counts: NDArray) -> pdn.Scan:
-        # as in _Solver.scan: maxima below half the target are left unrefined while searching
-        net = self.net.with_counts(counts, self.board)
-        return net.scan(*self.band, refine_above=0.0 if self.strict else 0.5 * self.target)
-
-
-def solve_measured(cands: Network, board: pdn.Branches, target: float,
-                   band: tuple[float, float], w: NDArray, price: NDArray, limits: Limits,
-                   start: NDArray) -> Outcome:
-    """Step 5 (package notes): from the bank ``start`` planned on the models, add parts until
-    it holds on the measured curves (greedy fill with constraint generation), then remove the
-    parts they do not need (pruning). ``met`` is False when no bank within the limits holds on
-    them; the counts are then the best attempt within the limits."""
-    t0 = time.perf_counter()
-    sv = _MeasuredSolver(cands, board, target, band, w, price, limits)
-    counts, best_within, ok = sv.fill(np.asarray(start, dtype=float))
-    sv.stats["greedy_parts"] = int(counts.sum())
-    best = sv.prune(counts) if ok and sv.allows(counts) else None
-    if best is not None:
-        sv.strict = True
-        checked, _, ok = sv.fill(best)
-        best = checked if ok and sv.allows(checked) else None
-    sv.stats["seconds"] = time.perf_counter() - t0
-    if best is None:
-        return Outcome(best_within, False, sv.stats)
-    return Outcome(best, True, sv.stats)
