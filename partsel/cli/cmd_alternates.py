@@ -48,6 +48,7 @@ def _row(rank: int, cand: Any, kind: str) -> dict[str, Any]:
         out.update(value_at_bias=cand.value_eff, bias_source=cand.bias_source)
         if cand.esr_ratio is not None:
             out["esr_ratio"] = cand.esr_ratio
+    out.update(model=cand.model, model_source=cand.model_source)
     out["rules"] = [{"rule": r.rule, "passed": r.passed, "detail": r.detail}
                     for r in cand.rules]
     return out
@@ -99,6 +100,7 @@ def alternates_cmd(
     in_stock: bool = typer.Option(False, "--in-stock", help="Only candidates with stock > 0."),
     explain: bool = typer.Option(False, "--explain",
                                  help="Also list near misses and the one rule each failed."),
+    model: str = opt.model_option(),
     limit: int = opt.limit_option(10),
     fmt: str = opt.format_option(),
 ) -> None:
@@ -130,7 +132,7 @@ def alternates_cmd(
         working_voltage=opt.quantity(working_voltage, "V", "--working-voltage"),
         srf_above=opt.quantity(srf_above, "Hz", "--srf-above"),
         lifecycles=tuple(s.lower() for s in opt.split_list(lifecycle)) or ("active",),
-        in_stock=in_stock, explain=explain, limit=limit)
+        in_stock=in_stock, explain=explain, limit=limit, model=model)
     with open_store_for(ctx) as store:
         res = alternates(store, part, maker, crit)
     kind = res.original["kind"]

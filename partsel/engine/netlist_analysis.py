@@ -16,7 +16,9 @@ Method, per model (all steps vectorised over models):
    largest |mu| are kept: "dropping infinite eigenvalues" needs no threshold.
 3. Roots are cleaned: |s| < 1e-11 (scaled) is the origin, |Re s| < 1e-10 |s| is on the axis
    (a resonance of Q above 5e9 counts as lossless), a pole and a zero closer than 1e-8 |s|
-   cancel.
+   cancel, provided that the pair moves log|Z| by less than 1e-10 anywhere on the axis (about
+   their distance over the smaller damping) or they agree to 1e-14: a lightly damped pair that
+   is close but not equal keeps the narrow wiggle it makes in |Z|.
 4. The gain K follows from the nodal Z at check points (a log grid spanning the roots and the
    points beta, beta +- sigma of every resonance); the factorization is *verified* when
    log Z from it and from nodal evaluation agree to 1e-7 (relative |Z| and radians) at all
@@ -52,6 +54,8 @@ from partsel.engine.netlist_shape import C, L, R
 
 VERIFY_TOL = 1e-7
 _ORIGIN, _AXIS, _CANCEL = 1e-11, 1e-10, 1e-8
+_UNSEEN = 1e-10     # a pair that moves log|Z| by less than this is cancelled
+_ROUNDING = 1e-14   # roots this close (relative) are the same root
 KIND_C, KIND_L, KIND_NONE = 0, 1, -1
 
 
@@ -162,7 +166,12 @@ def _clean(zeros: NDArray, poles: NDArray) -> _Roots:
         zc, pc = -sig[i, zi] + 1j * bet[i, zi], -sig[i, pi] + 1j * bet[i, pi]
         d = np.abs(zc[:, None] - pc[None, :])
         scale = np.maximum(np.abs(zc)[:, None], np.abs(pc)[None, :])
-        close = (d <= _CANCEL * scale) & (pair[i, zi][:, None] == pair[i, pi][None, :])
+        # a pair moves log|Z| by at most about d / (the smaller damping) anywhere on the axis:
+        # cancel it only where that is below rounding, so a lightly damped pole-zero pair that
+        # is close but not equal keeps the narrow wiggle it makes in |Z|
+        damp = np.minimum(sig[i, zi][:, None], sig[i, pi][None, :])
+        close = (d <= _CANCEL * scale) & (pair[i, zi][:, None] == pair[i, pi][None, :]) \
+            & ((d <= _UNSEEN * np.maximum(damp, 0.0)) | (d <= _ROUNDING * scale))
         while close.any():
             j, k = np.unravel_index(np.argmin(np.where(close, d, np.inf)), d.shape)
             e[i, zi[j]] = e[i, pi[k]] = 0.0

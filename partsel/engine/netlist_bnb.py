@@ -3,8 +3,9 @@ impedances given by their poles and zeros, by interval branch-and-bound (none ca
 
 Z(s) = K prod(s - z_i) / prod(s - p_i) with real coefficients: roots are real or come in
 conjugate pairs, r = -sigma +- j beta (sigma >= 0 for a passive network). The functions here
-work on the frequency range (0, 1] (a scaled frequency); the caller maps omega >= 1 onto (0, 1]
-with omega' = 1/omega, under which Z(1/s') is again rational, with roots 1/r and |s'|^(nz-np)
+work on the frequency range (0, 2] (a scaled frequency, reaching past 1 so that the two halves
+overlap); the caller maps omega >= 1 onto (0, 1] with omega' = 1/omega, under which Z(1/s')
+is again rational, with roots 1/r and |s'|^(nz-np)
 (:func:`dual_roots`). Roots are given per model as padded arrays (models x roots): ``sig``,
 ``bet`` (>= 0; one entry per conjugate pair), ``pair`` (bool) and ``e`` (+1 zero, -1 pole,
 0 padding). A root with sigma = 0 is on the axis (a lossless resonance, or the origin).
@@ -51,6 +52,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 _TINY = 1e-13
+TOP = 2.0   # the search range (0, TOP] of each half (see _splits)
 _MAX_ROUNDS = 400
 
 
@@ -117,11 +119,15 @@ def _g(x: NDArray, w: NDArray, x0: NDArray, a: NDArray, left: bool) -> NDArray:
 
 
 def _splits(x0: NDArray, a: NDArray, w: NDArray) -> tuple[NDArray, NDArray, NDArray]:
-    """Initial intervals (model, lo, hi) of (0, 1] split at the poles of the derivative."""
-    sing = (a == 0) & (x0 > 0) & (x0 < 1) & (w != 0)
+    """Initial intervals (model, lo, hi) of (0, TOP] split at the poles of the derivative.
+
+    The range reaches past 1 (the scale) to :data:`TOP`, so that each half overlaps the other:
+    a root that falls exactly on the scale (a series R-L-C scaled by its own resonance) lies
+    inside one of them instead of on the edge of both (the caller merges the duplicates)."""
+    sing = (a == 0) & (x0 > 0) & (x0 < TOP) & (w != 0)
     pts = np.where(sing, x0, np.nan)
     m = len(x0)
-    pts = np.concatenate([np.zeros((m, 1)), pts, np.ones((m, 1))], axis=1)
+    pts = np.concatenate([np.zeros((m, 1)), pts, np.full((m, 1), TOP)], axis=1)
     pts = np.sort(pts, axis=1)  # NaN last
     lo, hi = pts[:, :-1], pts[:, 1:]
     ok = np.isfinite(hi) & (hi > lo)
@@ -207,7 +213,7 @@ def _taylor_phase(lo: NDArray, hi: NDArray, r: NDArray, e: NDArray, value: NDArr
 @np.errstate(invalid="ignore", divide="ignore", over="ignore")
 def stationary(w: NDArray, x0: NDArray, a: NDArray, failed: NDArray[np.bool_]
                ) -> tuple[NDArray, NDArray]:
-    """Every root of sum w_i t_i(x - x0_i) on (0, 1], per model: (model index, x). Models
+    """Every root of sum w_i t_i(x - x0_i) on (0, TOP], per model: (model index, x). Models
     whose search does not close within the interval budget are set in ``failed``."""
     mi, lo, hi = _splits(x0, a, w)
     out_m, out_x = [], []
@@ -306,7 +312,7 @@ def _phase(wv: NDArray, argk: NDArray, e: NDArray, sig: NDArray, bet: NDArray,
 @np.errstate(invalid="ignore", divide="ignore", over="ignore")
 def crossings(sig: NDArray, bet: NDArray, pair: NDArray, e: NDArray, argk: NDArray,
               failed: NDArray[np.bool_]) -> tuple[NDArray, NDArray]:
-    """Every omega in (0, 1] where arg Z crosses a multiple of pi: (model index, omega);
+    """Every omega in (0, TOP] where arg Z crosses a multiple of pi: (model index, omega);
     models over the interval budget are set in ``failed``."""
     mi, lo, hi = _splits(bet, np.where(sig > 0, 1.0, 0.0), e)
     out_m, out_w = [], []

@@ -78,6 +78,9 @@ class Criteria:
         Also report near misses: candidates that fail exactly one rule.
     limit : int
         Candidates (and near misses) returned; 0 = all.
+    model : str
+        Which model of each part the function rules use: catalog, vendor, measured or best
+        (see :func:`partsel.jobs.models.choose_models`).
     """
 
     cases: tuple[str, ...] = ()
@@ -92,8 +95,11 @@ class Criteria:
     in_stock: bool = False
     explain: bool = False
     limit: int = 10
+    model: str = "best"
 
     def validate(self, kind: str) -> None:
+        from partsel.jobs.models import check_choice
+        check_choice(self.model)
         """Raise QueryError for options that contradict each other or the original's kind."""
         if self.band is not None and not 0 < self.band[0] < self.band[1] < np.inf:
             raise QueryError("the band must run from a lower to a higher positive frequency, "
@@ -148,6 +154,8 @@ class Candidate:
     bias_source: str          # one of partsel.jobs.models.BIAS_SOURCES
     esr_ratio: float | None
     rules: list[RuleResult]
+    model: str = "catalog rlc"      # the model the function rules used, e.g. "vendor netlist"
+    model_source: str = "catalog"
 
     @property
     def failed(self) -> list[RuleResult]:

@@ -9,7 +9,10 @@ from typing import Any
 import numpy as np
 from numpy.typing import NDArray
 
-from partsel.engine import capacitor, ceramic, inductor
+from partsel.engine import ceramic
+from partsel.engine.models import ModelSet
+from partsel.engine.models.lcp import peak_frequency
+from partsel.engine.models.rlc import min_impedance_frequency
 from partsel.errors import QueryError
 from partsel.jobs.alternates.criteria import (
     CAPACITOR_BAND,
@@ -19,7 +22,7 @@ from partsel.jobs.alternates.criteria import (
     REFINE_SPAN,
     Z_FLOOR,
 )
-from partsel.jobs.models import Models
+from partsel.jobs.models import Chosen, catalog_models, choose_models
 from partsel.jobs.show import log_grid
 
 
@@ -102,50 +105,68 @@ def band_grid(band: tuple[float, float], f_star: NDArray[np.float64]) -> NDArray
     return np.sort(grid, axis=1)
 
 
-def _impedance_at(m: Models, f: NDArray[np.float64]) -> NDArray[np.complex128]:
-    """Z of the parts of ``m`` (all one kind) at per-part frequencies f (P, K) [ohm]."""
-    if m.is_cap.all():
-        return capacitor.impedance(f, m.value[:, None], m.esr[:, None], m.esl[:, None],
-                                   m.tan_delta[:, None])
-    return inductor.impedance(f, m.value[:, None], m.dcr[:, None], m.cp[:, None], m.rp[:, None])
+def _impedance_at(m: ModelSet, f: NDArray[np.float64]) -> NDArray[np.complex128]:
+    """Z of the parts of ``m`` at per-part frequencies f (P, K) [ohm]; a set of one part is
+    evaluated on every row of ``f``."""
+    rows, k = f.shape
+    owner = np.repeat(np.arange(rows) if len(m) == rows else np.zeros(rows, np.intp), k)
+    return m.take(owner).impedance_each(f.ravel()).reshape(rows, k)
 
 
-def distances(mo: Models, mc: Models, band: tuple[float, float],
-               chunk: int = 4096) -> tuple[NDArray, NDArray, NDArray]:
+def distances(mo: ModelSet, mc: ModelSet, band: tuple[float, float],
+              chunk: int = 4096) -> tuple[NDArray, NDArray, NDArray]:
     """Curve distance, largest difference and where, for every candidate of ``mc``."""
     n = len(mc)
     rms, worst, f_worst = np.zeros(n), np.zeros(n), np.zeros(n)
-    f_orig = _extremum_frequency(mo)
+    f_orig = extremum_points(mo)
     for start in range(0, n, chunk):
-        part = slice(start, min(start + chunk, n))
-        mp = Models(*(getattr(mc, k)[part] for k in Models.__dataclass_fields__))
-        f_star = np.stack(np.broadcast_arrays(f_orig, _extremum_frequency(mp)), axis=1)
+        idx = np.arange(start, min(start + chunk, n))
+        mp = mc.take(idx)
+        f_star = np.concatenate([np.broadcast_to(f_orig, (len(idx), f_orig.shape[1])),
+                                 extremum_points(mp)], axis=1)
         f = band_grid(band, f_star)
-        rms[part], worst[part], f_worst[part] = curve_distance(
+        rms[idx], worst[idx], f_worst[idx] = curve_distance(
             f, _impedance_at(mp, f), _impedance_at(mo, f))
     return rms, worst, f_worst
 
 
-def _extremum_frequency(m: Models) -> NDArray[np.float64]:
-    if m.is_cap.all():
-        return capacitor.min_impedance_frequency(m.value, m.esr, m.esl, m.tan_delta)
-    return inductor.peak_frequency(m.value, m.dcr, m.cp, m.rp)
+def extremum_points(m: ModelSet) -> NDArray[np.float64]:
+    """Per part, the frequencies to refine the distance grid around, (P, k): the |Z| minimum
+    of a series R-L-C capacitor, the |Z| peak of an ``lcp`` inductor (closed forms), or every
+    landmark of another model (its resonances and stationary points), padded by repetition."""
+    cols: list[NDArray] = [np.empty(0)] * len(m)
+    for g in m.groups:
+        if g.family.name == "rlc":
+            b = g.batch
+            pts = min_impedance_frequency(b["value"], b["esr"], b["esl"], b["tan_delta"])
+            found = [np.array([x]) for x in pts]
+        elif g.family.name == "lcp":
+            b = g.batch
+            found = [np.array([x]) for x in peak_frequency(b["value"], b["dcr"], b["cp"],
+                                                           b["rp"])]
+        else:
+            found = [x[np.isfinite(x) & (x > 0)][:8] for x in g.family.landmarks(g.batch)]
+        for i, pts in zip(g.index, found, strict=True):
+            cols[int(i)] = pts if len(pts) else np.array([1.0])
+    k = max((len(c) for c in cols), default=1)
+    return np.array([np.resize(c, k) for c in cols], dtype=float).reshape(len(m), k)
 
 
-def models_of(cols: dict[str, NDArray], value: NDArray, is_cap: bool) -> Models:
-    n = len(value)
-    rp = cols["rp"].astype(float)
-    return Models(is_cap=np.full(n, is_cap), value=value,
-                  esr=np.nan_to_num(cols["esr"].astype(float)),
-                  esl=np.nan_to_num(cols["esl"].astype(float)),
-                  tan_delta=np.nan_to_num(cols["tan_delta"].astype(float)),
-                  dcr=np.nan_to_num(cols["dcr"].astype(float)),
-                  cp=inductor.winding_capacitance(cols["value"].astype(float),
-                                                  cols["srf"].astype(float)),
-                  rp=np.where(np.isfinite(rp), rp, np.inf))
+def chosen_models(store: Any, cols: dict[str, NDArray], kind: str, ratio: NDArray,
+                  choice: str) -> tuple[Chosen, ModelSet]:
+    """The chosen model of each part (:func:`partsel.jobs.models.choose_models`) and the same
+    with its capacitance scaled by ``ratio`` (the DC-bias loss of a capacitor)."""
+    base = catalog_models(kind, cols)
+    td = np.nan_to_num(np.asarray(cols["tan_delta"], dtype=float)) if "tan_delta" in cols \
+        else None
+    chosen = choose_models(store, np.asarray(cols["id"], dtype=np.int64), base, choice,
+                           value=np.asarray(cols["value"], dtype=float), tan_delta=td)
+    models = chosen.models.with_capacitance_scale(ratio) if kind == "capacitor" \
+        else chosen.models
+    return chosen, models
 
 
-def default_band(mo: Models, is_cap: bool) -> tuple[float, float]:
+def default_band(mo: ModelSet, is_cap: bool) -> tuple[float, float]:
     srf = float(mo.srf()[0])
     if not np.isfinite(srf) or srf <= 0:
         what = "ESL" if is_cap else "SRF"

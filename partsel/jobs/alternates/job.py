@@ -10,7 +10,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from partsel.derating import derating
-from partsel.engine import capacitor
+from partsel.engine.models import ModelSet
 from partsel.errors import QueryError
 from partsel.jobs.alternates.criteria import (
     _EPS,
@@ -27,13 +27,13 @@ from partsel.jobs.alternates.criteria import (
 )
 from partsel.jobs.alternates.function import (
     bias_ratio,
+    chosen_models,
     default_band,
     distances,
-    models_of,
     own_curve_ratio,
 )
 from partsel.jobs.alternates.rules import FormFitRule, form_fit_rules, pct, q
-from partsel.jobs.models import BIAS_SOURCES, Models
+from partsel.jobs.models import BIAS_SOURCES, Chosen
 from partsel.standards import safety
 from partsel.store import alternates as queries
 from partsel.store.db import Store
@@ -52,10 +52,11 @@ class _Original:
     source: int               # index into BIAS_SOURCES
     window: float             # value window, a fraction
     window_why: str
-    models: Models
+    models: ModelSet
+    chosen: Chosen
 
 
-def _original(o: dict[str, Any], criteria: Criteria, bias: float | None,
+def _original(store: Store, o: dict[str, Any], criteria: Criteria, bias: float | None,
               is_cap: bool) -> _Original:
     oc = queries.row_arrays(o)
     if bias is not None:
@@ -71,8 +72,9 @@ def _original(o: dict[str, Any], criteria: Criteria, bias: float | None,
         window = float(o["tolerance"]) if o.get("tolerance") else DEFAULT_VALUE_WINDOW
         why = "the original's tolerance" if o.get("tolerance") else \
             "default; the original states no tolerance"
-    return _Original(value_eff, int(src[0]), window, why,
-                     models_of(oc, np.array([value_eff]), is_cap))
+    oc["id"] = np.array([int(o["id"])])
+    chosen, models = chosen_models(store, oc, o["kind"], ratio, criteria.model)
+    return _Original(value_eff, int(src[0]), window, why, models, chosen)
 
 
 @dataclass
@@ -88,9 +90,10 @@ class _Scores:
     rms: NDArray[np.float64]
     worst: NDArray[np.float64]
     f_worst: NDArray[np.float64]
+    chosen: Chosen
 
 
-def _function_rules(a: dict[str, NDArray], orig: _Original, criteria: Criteria,
+def _function_rules(store: Store, a: dict[str, NDArray], orig: _Original, criteria: Criteria,
                     bias: float | None, band: tuple[float, float], is_cap: bool,
                     fails: NDArray[np.int_], effects: list[str]) -> _Scores:
     """Value, ESR window and curve of every survivor; ``fails`` counts their failures too. The
@@ -109,30 +112,32 @@ def _function_rules(a: dict[str, NDArray], orig: _Original, criteria: Criteria,
     v_eff = value * ratio
     dev = v_eff / orig.value_eff - 1.0
     ok: dict[str, NDArray[np.bool_]] = {"value": np.abs(dev) <= orig.window + _EPS}
-    mo, mc = orig.models, models_of(a, v_eff, is_cap)
+    chosen, mc = chosen_models(store, a, "capacitor" if is_cap else "inductor", ratio,
+                               criteria.model)
+    mo = orig.models
     esr_ratio = None
     f0 = float(mo.srf()[0])
     if criteria.esr_window is not None:
         if not np.isfinite(f0):
             raise QueryError("the original has no ESL, so no SRF at which to compare ESR: "
                              "drop the ESR window or import its ESL")
-        r_o = float(capacitor.series_resistance(f0, mo.value, mo.esr, mo.tan_delta)[0])
-        esr_ratio = capacitor.series_resistance(f0, mc.value, mc.esr, mc.tan_delta) / r_o
+        # the resistance of each model at the original's SRF, where ESR sets |Z|
+        r_o = float(mo.impedance_each(np.array([f0])).real[0])
+        esr_ratio = mc.impedance_each(np.full(n, f0)).real / r_o
         e_lo, e_hi = criteria.esr_window
         ok["esr"] = (esr_ratio >= e_lo * (1 - _EPS)) & (esr_ratio <= e_hi * (1 + _EPS))
     for passed in ok.values():
         fails += ~passed
     rms, worst, f_worst = np.full(n, np.inf), np.full(n, np.inf), np.full(n, np.nan)
     need = np.flatnonzero(fails <= (1 if criteria.explain else 0))
-    sub = Models(*(getattr(mc, k)[need] for k in Models.__dataclass_fields__))
-    rms[need], worst[need], f_worst[need] = distances(mo, sub, band)
+    rms[need], worst[need], f_worst[need] = distances(mo, mc.take(need), band)
     effects.append(f"curve distance: RMS of 20 log10(|Z_cand|/|Z_orig|) over the band, "
                    f"trapezoid rule in ln f on {PER_DECADE} points per decade refined around "
                    "each part's |Z| extremum")
     if criteria.within_db is not None:
         ok["curve"] = worst <= criteria.within_db + _EPS
         fails += ~ok["curve"]
-    return _Scores(src, v_eff, dev, ok, esr_ratio, f0, rms, worst, f_worst)
+    return _Scores(src, v_eff, dev, ok, esr_ratio, f0, rms, worst, f_worst, chosen)
 
 
 def _describe(c: dict[str, Any], i: int, rules: list[FormFitRule],
@@ -161,7 +166,8 @@ def _describe(c: dict[str, Any], i: int, rules: list[FormFitRule],
             f"{'<=' if s.ok['curve'][i] else '>'} {criteria.within_db:g} dB"))
     return Candidate(c, float(s.rms[i]), float(s.worst[i]), float(s.f_worst[i]),
                      float(s.value_eff[i]), BIAS_SOURCES[int(s.source[i])],
-                     None if s.esr_ratio is None else float(s.esr_ratio[i]), results)
+                     None if s.esr_ratio is None else float(s.esr_ratio[i]), results,
+                     model=s.chosen.labels()[i], model_source=str(s.chosen.source[i]))
 
 
 def _ranked(a: dict[str, NDArray], rms: NDArray, sel: NDArray[np.bool_]) -> list[int]:
@@ -182,8 +188,9 @@ def _band(orig: _Original, criteria: Criteria, is_cap: bool,
                        f"SRF x {lo_k:.3g} .. x {hi_k:.3g})")
     else:
         effects.append(f"band {q(band[0], 'Hz')}..{q(band[1], 'Hz')}")
-    effects.append("series R-L-C model, ESR(f) = esr + tan_delta/(2 pi f C)" if is_cap else
-                   "inductor model (L + DCR) || C_p || R_p, C_p from the SRF")
+    effects.append(f"original: {orig.chosen.labels()[0]} ({orig.chosen.origin[0]})")
+    effects.append("catalog models: series R-L-C, ESR(f) = esr + tan_delta/(2 pi f C)" if is_cap
+                   else "catalog models: (L + DCR) || C_p || R_p, C_p from the SRF")
     return band
 
 
@@ -208,7 +215,7 @@ def alternates_for(store: Store, original: dict[str, Any],
     if not is_cap:
         bias = None
     effects: list[str] = []
-    orig = _original(o, criteria, bias, is_cap)
+    orig = _original(store, o, criteria, bias, is_cap)
     band = _band(orig, criteria, is_cap, effects)
 
     rules, skipped = form_fit_rules(o, criteria)
@@ -222,7 +229,9 @@ def alternates_for(store: Store, original: dict[str, Any],
     for ok in sql_ok.values():
         fails += ~ok
     fit = int(np.count_nonzero(fails == 0))
-    scores = _function_rules(a, orig, criteria, bias, band, is_cap, fails, effects)
+    scores = _function_rules(store, a, orig, criteria, bias, band, is_cap, fails, effects)
+    if not np.all(scores.chosen.source == "catalog"):
+        effects.append("candidates " + scores.chosen.summary())
     if criteria.within_db is None:
         skipped.append("curve: turned off (the distance still ranks)")
 
