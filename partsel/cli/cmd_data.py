@@ -141,6 +141,13 @@ def fit_cmd(
                                      help="Store the fit even when the fitted C or L is over "
                                           "10x from the catalog value or the sweep misses the "
                                           "catalog SRF by over a decade."),
+    family: str = typer.Option(None, "--family", metavar="rlc|rlc-skin|lcp|ladder2",
+                               help="The equivalent circuit to fit (default: rlc for a "
+                                    "capacitor, lcp for an inductor)."),
+    fit_from: str = typer.Option("sweep", "--from", metavar="sweep|vendor",
+                                 help="Fit the part's latest measured sweep, or its maker's "
+                                      "model (a netlist reduced to the family, with the error "
+                                      "reported)."),
     fmt: str = typer.Option("table", "--format", "-f", metavar="table|json",
                             help="Output: a table for reading, or JSON with SI numbers."),
 ) -> None:
@@ -153,7 +160,15 @@ def fit_cmd(
     of the catalog SRF, is refused (most often a frequency unit read wrong) unless
     --keep-anyway.
 
-    Example: partsel fit PART --tan-delta
+    --family and --from fit any closed-form family (rlc, rlc-skin, lcp, ladder2) to the
+    sweep or to the part's vendor model; such a fit is stored as the part's own model, which
+    --model catalog then uses.
+
+    Examples:
+
+      partsel fit PART --tan-delta
+
+      partsel fit PART --family ladder2 --from vendor
     """
     from partsel import units
 
@@ -166,8 +181,18 @@ def fit_cmd(
                 raise QueryError("--undo takes no other fit options")
             _undo(store, part, maker, fmt)
             return
-        _fit_and_report(store, part, maker, tan_delta, not no_rp,
-                        units.parse_band(band) if band else None, not dry_run, fmt, keep_anyway)
+        rng = units.parse_band(band) if band else None
+        kind = store.find_part(part, maker)["kind"]
+        plain = {"capacitor": "rlc", "inductor": "lcp"}[kind]
+        if (family is None or family == plain) and fit_from == "sweep":
+            _fit_and_report(store, part, maker, tan_delta, not no_rp, rng, not dry_run, fmt,
+                            keep_anyway)
+            return
+        if tan_delta or no_rp:
+            raise QueryError("--tan-delta and --no-rp are for the plain rlc and lcp fits of a "
+                             "sweep; the other families fit all their parameters")
+        _fit_model_and_report(store, part, maker, family or plain, fit_from, rng,
+                              not dry_run, fmt, keep_anyway)
 
 
 def _undo(store, part: str, maker: str | None, fmt: str) -> None:
@@ -241,6 +266,36 @@ def _fit_and_report(store, part: str, maker: str | None, tan_delta: bool, rp: bo
         note(f"Warning: {w}")
 
 
+def _fit_model_and_report(store, part: str, maker: str | None, family: str, source: str,
+                          band: tuple[float, float] | None, save: bool, fmt: str,
+                          keep_anyway: bool) -> None:
+    from partsel.jobs.fit_model import fit_model
+    from partsel.units import format_quantity as fq
+
+    res = fit_model(store, part, family, source=source, maker=maker, band=band, save=save,
+                    keep_anyway=keep_anyway)
+    fit = res.fit
+    if fmt == "json":
+        echo(to_json(res.to_dict()))
+    else:
+        lines = [f"{res.part['part_number']}: {family} fitted to the {source} ({res.origin}; "
+                 f"{fit.n_points} points, {fq(res.band[0], 'Hz')} to {fq(res.band[1], 'Hz')})",
+                 ""]
+        for k, v in fit.params.items():
+            lines.append(f"  {k:<10} {v:.6g}")
+        lines += ["", f"Error of the fit: {fit.residual_db:.3g} dB RMS, phase "
+                      f"{fit.phase_rms_deg:.3g} deg RMS; largest {fit.max_residual_db:+.3g} dB at "
+                      f"{fq(fit.f_max_residual, 'Hz')}"]
+        lines += [f"  departs {fq(a, 'Hz')} to {fq(b, 'Hz')} (mean {d:.2g} dB)"
+                  for a, b, d in fit.departures]
+        lines.append("Stored as the part's own model (used with --model catalog and best "
+                     "where it has no vendor or measured one)." if res.saved else
+                     "Not stored (--dry-run).")
+        echo("\n".join(lines))
+    for w in res.warnings:
+        note(f"Warning: {w}")
+
+
 def _write(text: str | bytes, out: str | None, what: str) -> None:
     if out is None:
         echo(text if isinstance(text, str) else text.decode())
@@ -260,6 +315,7 @@ def export_spice_cmd(
                                    "resistor is exact (default: the SRF)."),
     out: str = typer.Option(None, "--out", metavar="FILE", help="Write to FILE instead of "
                                                                 "standard output."),
+    model: str = opt.model_option(),
 ) -> None:
     """Write a SPICE subcircuit (.SUBCKT, pins 1 and 2) per part, with where each value came from.
 
@@ -272,7 +328,7 @@ def export_spice_cmd(
 
     with open_store_for(ctx) as store:
         text = spice_library(store, list(parts), maker=maker,
-                             f_ref=opt.quantity(f_ref, "Hz", "--f-ref"))
+                             f_ref=opt.quantity(f_ref, "Hz", "--f-ref"), model=model)
         cautions = spice_cautions(store, list(parts), maker=maker)
     _write(text, out, "SPICE models")
     for c in cautions:
@@ -298,6 +354,7 @@ def export_touchstone_cmd(
     maker: str = _maker_option(),
     out: str = typer.Option(None, "--out", metavar="FILE", help="Write to FILE (.s1p or .s2p) "
                                                                 "instead of standard output."),
+    model: str = opt.model_option(),
 ) -> None:
     """Write a part's modeled impedance as a Touchstone 1.1 file (S-parameters).
 
@@ -311,7 +368,7 @@ def export_touchstone_cmd(
                                fixture=fixture.lower(), z0=units.parse_quantity(z0, "ohm", "--z0",
                                                                                 positive=True),
                                fmt=data_format, maker=maker,
-                               out_name=Path(out).name if out else None)
+                               out_name=Path(out).name if out else None, model=model)
     _write(text, out, "Touchstone file")
 
 

@@ -24,10 +24,10 @@ from partsel.catalog import COLUMNS, MODEL_PARAMETERS, NAMES, PROVENANCES
 from partsel.engine import inductor
 from partsel.engine.fixture import FIXTURES, s_parameters
 from partsel.errors import ModelError, QueryError, StoreError
-from partsel.io.spice import capacitor_subckt, inductor_subckt, spice_name
+from partsel.io.spice import capacitor_subckt, circuit_subckt, inductor_subckt, spice_name
 from partsel.io.touchstone import write_touchstone
 from partsel.jobs.measured import FIT_REASON
-from partsel.jobs.models import Models
+from partsel.jobs.models import choose_for_rows
 from partsel.jobs.show import log_grid
 from partsel.standards import safety
 from partsel.store import history
@@ -68,14 +68,53 @@ def _provenance(part: dict[str, Any]) -> dict[str, str]:
             if part.get(p) is not None and part.get(f"{p}_source") in PROVENANCES}
 
 
-def spice_subckt(store: Store, part: dict[str, Any], f_ref: float | None = None) -> str:
-    """The SPICE subcircuit of one stored part, with a header of where each value came from."""
+def _chosen_subckt(part: dict[str, Any], chosen: Any, head: list[str],
+                   f_ref: float | None) -> str:
+    """The subcircuit of a part whose chosen model is not its catalog R-L-C or L-C-R: the exact
+    network of a lumped model (a maker's netlist, a ladder), or, for an R-L-C with a skin-effect
+    term, the resistance evaluated at f_ref (exact there only, as for tan delta)."""
+    pn = part["part_number"]
+    m = chosen.models
+    label, origin = chosen.labels()[0], chosen.origin[0]
+    head = [f"* model: {label} ({origin})", *head]
+    circuit = m.circuit(0)
+    if circuit is not None:
+        return circuit_subckt(pn, circuit, [f"partsel {label} model", f"part number: {pn}",
+                                            *(h.lstrip("* ") for h in head)])
+    g = m.groups[0]
+    if g.family.name == "rlc-skin":
+        b = g.batch
+        c, lser = float(b["value"][0]), float(b["esl"][0])
+        fr = f_ref if f_ref is not None else (1 / (2 * np.pi * np.sqrt(lser * c))
+                                              if lser > 0 else 1e3)
+        esr = float(b["esr"][0]) + float(b["k_skin"][0]) * np.sqrt(fr)
+        text = capacitor_subckt(pn, c, esr, lser, float(b["tan_delta"][0]), f_ref=fr)
+        head.append(f"* ESR includes the skin-effect term k_skin sqrt(f) at f_ref = {fr:.6g} "
+                    "Hz: exact there only")
+        first, second, rest = text.split("\n", 2)
+        return "\n".join([first, second, *head, rest])
+    raise ModelError(f"{pn} uses a {label} ({origin}), which has no SPICE form: export it as "
+                     "Touchstone, fit a closed-form family to it, or export the catalog model")
+
+
+def spice_subckt(store: Store, part: dict[str, Any], f_ref: float | None = None,
+                 model: str = "best") -> str:
+    """The SPICE subcircuit of one stored part, with a header of where each value came from;
+    ``model`` chooses which of its models (see :func:`partsel.jobs.models.choose_models`)."""
     pn = part["part_number"]
     if part.get("value") is None:
         raise ModelError(f"{pn} has no value in the store; a SPICE model needs it")
     head = [f"* maker: {' '.join(str(part['maker']).split())}"]
     if safety.needs_caution(part.get("safety_class"), part.get("rated_voltage")):
         head.append(f"* {safety.caution_text()}")
+    chosen = choose_for_rows(store, [part], model)
+    if chosen.source[0] == "measured" and model == "best":
+        # a curve has no SPICE form: the best model that has one (vendor, else catalog)
+        head.append(f"* its measured curve ({chosen.origin[0]}) has no SPICE form: the next "
+                    "best model is written")
+        chosen = choose_for_rows(store, [part], "vendor")
+    if chosen.source[0] != "catalog":
+        return _chosen_subckt(part, chosen, head, f_ref)
     fit = _fit_note(store, part)
     if fit and any(v == "measured fit" for v in _provenance(part).values()):
         head.append(f"* {fit}")
@@ -110,7 +149,7 @@ def spice_cautions(store: Store, part_numbers: Sequence[str], *,
 
 
 def spice_library(store: Store, part_numbers: Sequence[str], *, maker: str | None = None,
-                  f_ref: float | None = None) -> str:
+                  f_ref: float | None = None, model: str = "best") -> str:
     """SPICE subcircuits of several parts in one text, each named after its part number."""
     rows: list[dict[str, Any]] = []
     for pn in part_numbers:
@@ -130,7 +169,7 @@ def spice_library(store: Store, part_numbers: Sequence[str], *, maker: str | Non
             "* Each .SUBCKT connects pins 1 and 2; values in SI units (F, H, ohm). The value",
             "* lines say where each number came from: datasheet, measured fit or estimated",
             "* by rule.", ""]
-    return "\n".join(head) + "\n".join(spice_subckt(store, r, f_ref) for r in rows)
+    return "\n".join(head) + "\n".join(spice_subckt(store, r, f_ref, model) for r in rows)
 
 
 # -- Touchstone --------------------------------------------------------------------------------
@@ -138,7 +177,7 @@ def spice_library(store: Store, part_numbers: Sequence[str], *, maker: str | Non
 def touchstone_text(store: Store, part_number: str, band: tuple[float, float], *,
                     per_decade: int = 50, fixture: str = "reflection", z0: float = 50.0,
                     fmt: str = "RI", maker: str | None = None,
-                    out_name: str | None = None) -> str:
+                    out_name: str | None = None, model: str = "best") -> str:
     """A Touchstone 1.1 file of the part's modeled impedance over ``band`` (log grid).
 
     ``reflection`` gives a 1-port (.s1p); ``shunt-thru`` and ``series-thru`` a 2-port (.s2p) of
@@ -157,7 +196,13 @@ def touchstone_text(store: Store, part_number: str, band: tuple[float, float], *
     if part.get("value") is None:
         raise ModelError(f"{part['part_number']} has no value in the store; it has no model")
     f = log_grid(band[0], band[1], per_decade)
-    z = Models.from_rows([part]).impedance(f)[0]
+    chosen = choose_for_rows(store, [part], model)
+    z = chosen.models.impedance(f)[0]
+    if not np.all(np.isfinite(z)):
+        lo, hi = chosen.models.span()
+        raise QueryError(f"{part['part_number']}'s {chosen.labels()[0]} covers "
+                         f"{format_quantity(lo[0], 'Hz')} to {format_quantity(hi[0], 'Hz')} "
+                         "only: give a band inside it")
     unit = {"capacitor": "F", "inductor": "H"}[part["kind"]]
     model = []
     for p in MODEL_PARAMETERS:
@@ -171,6 +216,8 @@ def touchstone_text(store: Store, part_number: str, band: tuple[float, float], *
              "shunt-thru": "2-port shunt-thru: the part from the line to ground between the "
                            "ports",
              "series-thru": "2-port series-thru: the part in series between the ports"}[fixture]
+    if chosen.source[0] != "catalog":
+        model = [f"{chosen.labels()[0]} ({chosen.origin[0]})"]
     comments = [f"partsel {__version__}: modeled impedance of {part['part_number']} "
                 f"({part['maker']}, {part['kind']})",
                 f"written {datetime.now():%Y-%m-%d %H:%M}; a model, not a measurement",

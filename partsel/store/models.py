@@ -55,6 +55,12 @@ def _arrow(relation: Any) -> Any:
     return get()
 
 
+def _settle(con: Any) -> None:
+    """Finish any result the connection still holds (an earlier fetchone): DuckDB 2 refuses
+    to register a table or build a relation while one is pending."""
+    con.execute("SELECT 1").fetchall()
+
+
 def has_models(store: Store) -> bool:
     """Whether the store holds any row in ``models`` (a cheap test before a join)."""
     return bool(store.con.execute("SELECT EXISTS (SELECT 1 FROM models)").fetchall()[0][0])
@@ -75,6 +81,7 @@ def stored_models(store: Store, *, kind: str | None = None,
     if ids is not None:
         conds.append("list_contains(?, p.id)")
         params.append([int(i) for i in ids])
+    _settle(store.con)
     table = store.con.sql(
         "SELECT p.id AS part_id, m.source, m.family, m.ints, m.reals, m.source_file, "
         "m.subckt, m.imported_at, m.note FROM models m JOIN parts p "
@@ -142,6 +149,7 @@ def replace_models(store: Store, rows: Sequence[ModelRow], *, reason: str) -> in
                           type=pa.list_(pa.float64())),
         "note": [r.note for r in rows]})
     con = store.con
+    _settle(con)
     con.register("partsel_new_models", new)
     con.execute("BEGIN TRANSACTION")
     try:
