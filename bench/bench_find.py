@@ -48,7 +48,8 @@ def build(n: int) -> tuple[Path, float | None]:
 def engine_time(store: Path) -> tuple[float, float, int]:
     """Best of 5 for the band maximum of every capacitor (the search's fast path) and for the
     full extrema (max, min and where) of every capacitor."""
-    from partsel.engine.band import capacitor_band, capacitor_band_max
+    from partsel.engine.models.rlc import band as capacitor_band
+    from partsel.engine.models.rlc import band_max as capacitor_band_max
     from partsel.store import open_store
     with open_store(store) as s:
         a = s.arrays("SELECT value, esr, esl, coalesce(tan_delta, 0) AS td FROM parts "

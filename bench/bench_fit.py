@@ -13,8 +13,8 @@ import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))  # run from a checkout
 
-from partsel.engine import capacitor, inductor  # noqa: E402
 from partsel.engine.fit import fit_capacitor, fit_inductor  # noqa: E402
+from partsel.engine.models import lcp, rlc  # noqa: E402
 
 
 def _noisy(z: np.ndarray, rng: np.random.Generator, level: float = 0.02) -> np.ndarray:
@@ -33,10 +33,10 @@ def _time(label: str, fit, repeat: int = 20) -> None:
 def main() -> None:
     rng = np.random.default_rng(0)
     f = np.logspace(3, 9, 1000)
-    zc = _noisy(capacitor.impedance(f, 100e-9, 10e-3, 0.8e-9), rng)
-    zd = _noisy(capacitor.impedance(f, 10e-6, 3e-3, 1e-9, 0.05), rng)
+    zc = _noisy(rlc.impedance(f, 100e-9, 10e-3, 0.8e-9), rng)
+    zd = _noisy(rlc.impedance(f, 10e-6, 3e-3, 1e-9, 0.05), rng)
     fi = np.logspace(2, np.log10(3e8), 1000)
-    zi = _noisy(inductor.impedance(fi, 10e-6, 50e-3, inductor.winding_capacitance(10e-6, 30e6),
+    zi = _noisy(lcp.impedance(fi, 10e-6, 50e-3, lcp.winding_capacitance(10e-6, 30e6),
                                    20e3), rng)
     _time("capacitor C, ESR, ESL (1000 points)", lambda: fit_capacitor(f, zc))
     _time("capacitor C, ESR, ESL, tan_delta", lambda: fit_capacitor(f, zd, tan_delta=True))

@@ -24,8 +24,8 @@ import numpy as np
 import pandas as pd
 
 from partsel.demo import generate
-from partsel.engine import capacitor, inductor
 from partsel.engine.fixture import s_parameters
+from partsel.engine.models import lcp, rlc
 from partsel.io.touchstone import write_touchstone
 
 HERE = Path(__file__).parent
@@ -59,7 +59,7 @@ def capacitor_sweep(catalog: pd.DataFrame, rng: np.random.Generator) -> dict:
     model = {"value": 0.96e-6, "esr": round(float(part["esr"]) * 0.9, 5),
              "esl": round(float(part["esl"]) + 0.3e-9, 13)}
     f = np.geomspace(100e3, 1e9, 801)
-    z = capacitor.impedance(f, model["value"], model["esr"], model["esl"])
+    z = rlc.impedance(f, model["value"], model["esr"], model["esl"])
     # a weak fixture resonance near 700 MHz that the part's model does not have
     z = z * (1 + 0.25j * (f / 700e6) / (1 + 1j * (f / 700e6 - 700e6 / f) * 8))
     z = _noise(z, rng, 0.01)
@@ -85,8 +85,8 @@ def inductor_sweep(catalog: pd.DataFrame, rng: np.random.Generator) -> dict:
              "srf": round(float(part["srf"]) * 1.15, -4),
              "rp": round(float(part["rp"]) * 0.8, -2)}
     f = np.geomspace(1e3, 200e6, 601)
-    cp = float(inductor.winding_capacitance(model["value"], model["srf"]))
-    z = _noise(inductor.impedance(f, model["value"], model["dcr"], cp, model["rp"]), rng, 0.01)
+    cp = float(lcp.winding_capacitance(model["value"], model["srf"]))
+    z = _noise(lcp.impedance(f, model["value"], model["dcr"], cp, model["rp"]), rng, 0.01)
     rows = [f"# {BANNER}", f"# part {part['part_number']} ({part['maker']}), 4-terminal "
             "fixture, open/short compensated (invented)",
             "Frequency (MHz),|Z| (ohm),Phase (deg)"]

@@ -13,8 +13,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from partsel.engine import capacitor, inductor
 from partsel.engine.fixture import s_parameters
+from partsel.engine.models import lcp, rlc
 from partsel.io.touchstone import write_touchstone
 from partsel.jobs.measured import latest_sweep
 from partsel.store import open_store
@@ -112,7 +112,7 @@ def _sweep_csv(path: Path, f, z, header="Frequency (Hz),|Z| (ohm),Phase (deg)") 
 ])
 def test_malformed_sweep_csv(store, cli, tmp_path, change, needles):
     f = np.logspace(3, 7, 20)
-    path = _sweep_csv(tmp_path / "s.csv", f, capacitor.impedance(f, 10e-6, 5e-3, 0.5e-9))
+    path = _sweep_csv(tmp_path / "s.csv", f, rlc.impedance(f, 10e-6, 5e-3, 0.5e-9))
     lines = _lines(path)
     change(lines)
     path.write_text("\n".join(lines) + "\n")
@@ -124,7 +124,7 @@ def test_malformed_sweep_csv(store, cli, tmp_path, change, needles):
 
 def test_sweep_csv_unknown_unit_option(store, cli, tmp_path):
     f = np.logspace(3, 7, 20)
-    path = _sweep_csv(tmp_path / "s.csv", f, capacitor.impedance(f, 10e-6, 5e-3, 0.5e-9),
+    path = _sweep_csv(tmp_path / "s.csv", f, rlc.impedance(f, 10e-6, 5e-3, 0.5e-9),
                       header="f,|Z|,phase")
     before = _dump(store)
     _one_error(cli("--store", store, "sweep", "import", path, "--part", "C10U",
@@ -232,7 +232,7 @@ def test_check_lists_every_problem_and_writes_nothing(tmp_path, cli, store):
 def test_sweep_import_and_fit_recover_a_capacitor(store, cli, tmp_path):
     # generating parameters: 10 uF, 3 mOhm, 1 nH, tan delta 5 %; 2 % noise (as test_fit.py)
     f = np.logspace(3, 8, 1000)
-    z = _noisy(capacitor.impedance(f, 10e-6, 3e-3, 1e-9, 0.05), seed=21)
+    z = _noisy(rlc.impedance(f, 10e-6, 3e-3, 1e-9, 0.05), seed=21)
     # frequencies written in kHz, columns with names only the options tell
     path = _sweep_csv(tmp_path / "bench.csv", f / 1e3, z, header="Freq,Z,Angle")
     res = cli("--store", store, "sweep", "import", path, "--part", "C10U", "--freq-col", "Freq",
@@ -260,8 +260,8 @@ def test_sweep_import_and_fit_recover_a_capacitor(store, cli, tmp_path):
 def test_sweep_import_with_fit_recovers_an_inductor(store, cli, tmp_path):
     # generating parameters: 10 uH, 50 mOhm, SRF 30 MHz, Rp 20 kOhm (as test_fit.py)
     f = np.logspace(2, np.log10(3e8), 1000)
-    cp = float(inductor.winding_capacitance(10e-6, 30e6))
-    z = _noisy(inductor.impedance(f, 10e-6, 50e-3, cp, 20e3), seed=22)
+    cp = float(lcp.winding_capacitance(10e-6, 30e6))
+    z = _noisy(lcp.impedance(f, 10e-6, 50e-3, cp, 20e3), seed=22)
     path = tmp_path / "l.s1p"
     path.write_text(write_touchstone(f, s_parameters(z, "reflection"), fmt="MA", unit="MHz"))
     res = cli("--store", store, "sweep", "import", path, "--part", "L10U", "--fit")
@@ -280,7 +280,7 @@ def test_shunt_thru_two_port_through_the_cli(store, cli, tmp_path):
     # a 100 nF / 10 mOhm / 0.8 nH part in a shunt-thru fixture, written in DB with repr digits
     f = np.logspace(5, 9, 200)
     path = tmp_path / "c.s2p"
-    z = capacitor.impedance(f, 100e-9, 10e-3, 0.8e-9)
+    z = rlc.impedance(f, 100e-9, 10e-3, 0.8e-9)
     path.write_text(write_touchstone(f, s_parameters(z, "shunt-thru"), fmt="DB"))
     _one_error(cli("--store", store, "sweep", "import", path, "--part", "C100N"), "--fixture")
     res = cli("--store", store, "sweep", "import", path, "--part", "C100N", "--fixture",
@@ -297,7 +297,7 @@ def test_shunt_thru_two_port_through_the_cli(store, cli, tmp_path):
 
 def test_fit_undo_through_the_cli(store, cli, tmp_path):
     f = np.logspace(4, 9, 100)
-    path = _sweep_csv(tmp_path / "s.csv", f, capacitor.impedance(f, 100e-9, 10e-3, 0.8e-9))
+    path = _sweep_csv(tmp_path / "s.csv", f, rlc.impedance(f, 100e-9, 10e-3, 0.8e-9))
     assert cli("--store", store, "sweep", "import", path, "--part", "C100N", "--fit"
                ).exit_code == 0
     res = cli("--store", store, "fit", "C100N", "--undo")
@@ -310,7 +310,7 @@ def test_fit_undo_through_the_cli(store, cli, tmp_path):
 
 def test_sweep_column_errors_name_the_options(store, cli, tmp_path):
     f = np.logspace(4, 9, 20)
-    path = _sweep_csv(tmp_path / "odd.csv", f, capacitor.impedance(f, 100e-9, 10e-3, 0.8e-9),
+    path = _sweep_csv(tmp_path / "odd.csv", f, rlc.impedance(f, 100e-9, 10e-3, 0.8e-9),
                       header="Frequency (Hz),level,angle2")
     line = _one_error(cli("--store", store, "sweep", "import", path, "--part", "C100N"),
                       "--mag-col and --phase-col or --r-col and --x-col")
@@ -321,7 +321,7 @@ def test_sweep_in_mhz_without_a_unit_is_stored_but_its_fit_refused(store, cli, t
     # a 100 nF part measured 10 kHz..1 GHz, written in MHz under a header without a unit:
     # read as Hz the fit would give 1e6 x 100 nF = 0.1 F (derived: |Z| = 1/(2 pi f C))
     f = np.logspace(4, 9, 100)
-    path = _sweep_csv(tmp_path / "mhz.csv", f / 1e6, capacitor.impedance(f, 100e-9, 10e-3,
+    path = _sweep_csv(tmp_path / "mhz.csv", f / 1e6, rlc.impedance(f, 100e-9, 10e-3,
                                                                          0.8e-9),
                       header="frequency,|Z|,phase")
     before = _dump(store)["parts"]
@@ -353,7 +353,7 @@ def test_fit_without_sweep_and_bad_options(store, cli):
 
 def test_find_and_curve_say_when_measured_curves_are_used(store, cli, tmp_path):
     f = np.logspace(5, 8, 100)
-    path = _sweep_csv(tmp_path / "s.csv", f, capacitor.impedance(f, 100e-9, 20e-3, 3e-9))
+    path = _sweep_csv(tmp_path / "s.csv", f, rlc.impedance(f, 100e-9, 20e-3, 3e-9))
     assert cli("--store", store, "sweep", "import", path, "--part", "C100N").exit_code == 0
     res = cli("--store", store, "find", "capacitor", "--below", "10ohm", "--band",
               "1MHz..30MHz", "--measured", "--format", "json")
@@ -420,7 +420,7 @@ def test_touchstone_versions_and_normalisation_through_the_cli(store, cli, tmp_p
     # version 1 Z-parameters are normalised to R (Touchstone 1.1): a 1-port of 10 uH written
     # as Z/R with R = 25 ohm must come back in ohm
     f = np.logspace(3, 6, 31)
-    z = inductor.impedance(f, 10e-6, 0.05, 0.0)
+    z = lcp.impedance(f, 10e-6, 0.05, 0.0)
     rows = [f"{float(fi) / 1e3!r} {float(zi.real) / 25!r} {float(zi.imag) / 25!r}"
             for fi, zi in zip(f, z, strict=True)]
     text = "# kHz Z RI R 25\n" + "\n".join(rows)
@@ -430,7 +430,7 @@ def test_touchstone_versions_and_normalisation_through_the_cli(store, cli, tmp_p
     with open_store(store) as s:
         cap = latest_sweep(s, s.find_part("C100N"))
         ind = latest_sweep(s, s.find_part("L10U"))
-    np.testing.assert_allclose(cap.z, capacitor.impedance(cap.f, 100e-9, 10e-3, 0.8e-9),
+    np.testing.assert_allclose(cap.z, rlc.impedance(cap.f, 100e-9, 10e-3, 0.8e-9),
                                rtol=1e-6)
     np.testing.assert_allclose(ind.f, f, rtol=1e-15)
     np.testing.assert_allclose(ind.z, z, rtol=1e-14)

@@ -15,7 +15,8 @@ from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 from scipy.interpolate import interp1d
 
-from partsel.engine import capacitor, pdn
+from partsel.engine import pdn
+from partsel.engine.models import rlc
 from partsel.errors import QueryError
 from partsel.jobs import decouple as dec
 from partsel.jobs.measured import store_sweep
@@ -149,9 +150,9 @@ PARTIAL = F_SWEEP[F_SWEEP >= 3e6]               # starts inside the band 1-10 MH
 def test_total_with_measured_branches_equals_an_independent_evaluation(make_store):
     rows = [_cap("A", 10e-6, 0.005, 0.5e-9), _cap("B", 1e-6, 0.010, 0.4e-9),
             _cap("C", 100e-9, 0.020, 0.4e-9, tan_delta="0.001")]
-    sweeps = {"A": (F_SWEEP, capacitor.impedance(F_SWEEP, 10e-6, 0.007, 0.55e-9)
+    sweeps = {"A": (F_SWEEP, rlc.impedance(F_SWEEP, 10e-6, 0.007, 0.55e-9)
                     + tank(F_SWEEP, 0.004, 4e6, 20)),
-              "B": (PARTIAL, capacitor.impedance(PARTIAL, 1.1e-6, 0.015, 0.42e-9))}
+              "B": (PARTIAL, rlc.impedance(PARTIAL, 1.1e-6, 0.015, 0.42e-9))}
     store = with_sweeps(make_store, rows, sweeps)
     board = dec.Board(mount_l=0.25e-9, plane_c=10e-9, plane_l=50e-12, vrm_r=1e-3, vrm_l=20e-9)
     rail = dec.Rail(1.0, 0.01, (1e6, 1e7), board)
@@ -183,7 +184,7 @@ def test_total_with_measured_branches_equals_an_independent_evaluation(make_stor
 def test_model_sampled_as_data_reproduces_the_model_check(make_store):
     rows = [_cap("A", 10e-6, 0.005, 0.5e-9), _cap("B", 100e-9, 0.020, 0.4e-9)]
     f = np.geomspace(1e4, 1e9, 5001)                 # 1,000 points per decade
-    sweeps = {pn: (f, capacitor.impedance(f, c, r, lser))
+    sweeps = {pn: (f, rlc.impedance(f, c, r, lser))
               for pn, c, r, lser in (("A", 10e-6, 0.005, 0.5e-9), ("B", 100e-9, 0.020, 0.4e-9))}
     store = with_sweeps(make_store, rows, sweeps)
     rail = dec.Rail(1.0, 0.02, (1e5, 1e8), dec.Board(mount_l=0.3e-9))
@@ -211,7 +212,7 @@ def esr_store(make_store, cli, tmp_path) -> tuple[Path, dict]:
     """P measured with three times its catalog ESR, imported with `partsel sweep import`."""
     store = make_store(ESR_ROWS)
     f = np.geomspace(1e5, 1e9, 1601)
-    z = capacitor.impedance(f, 1e-6, 0.030, 0.5e-9)
+    z = rlc.impedance(f, 1e-6, 0.030, 0.5e-9)
     res = cli("--store", store, "sweep", "import", sweep_csv(tmp_path / "p.csv", f, z),
               "--part", "P")
     assert res.exit_code == 0, res.output
@@ -268,7 +269,7 @@ def test_better_data_let_the_planner_remove_parts(cli, make_store):
     # P measured with a third of its catalog ESR: the model's bank holds on the data with
     # parts to spare, and pruning on the data removes them
     f = np.geomspace(1e5, 1e9, 1601)
-    sweeps = {"P": (f, capacitor.impedance(f, 1e-6, 0.010 / 3, 0.5e-9))}
+    sweeps = {"P": (f, rlc.impedance(f, 1e-6, 0.010 / 3, 0.5e-9))}
     store = with_sweeps(make_store, ESR_ROWS, sweeps)
     code, planned, _ = run_json(cli, store, *ESR_ARGS, "--measured")
     one = {**planned, "bank": [{**planned["bank"][0], "count": 1}], "board": []}
@@ -291,7 +292,7 @@ def test_a_resonance_between_grid_points_is_found_at_the_measured_points(make_st
     grid = pdn.log_grid(f1, f2)
     fx = float(np.sqrt(grid[60] * grid[61]))
     fm = np.geomspace(1e5, 1e8, 6001)
-    sweeps = {"A": (fm, capacitor.impedance(fm, 10e-6, 0.005, 0.5e-9) + tank(fm, 0.03, fx, 100))}
+    sweeps = {"A": (fm, rlc.impedance(fm, 10e-6, 0.005, 0.5e-9) + tank(fm, 0.03, fx, 100))}
     rows = [_cap("A", 10e-6, 0.005, 0.5e-9), _cap("B", 1e-6, 0.010, 0.4e-9)]
     store = with_sweeps(make_store, rows, sweeps)
     args = ("--rail", "1V", "--target", "10mohm", "--band", "1MHz..10MHz", "--mount-l", "0.2nH")
@@ -324,7 +325,7 @@ def test_a_feature_at_one_data_point_is_seen_by_the_check(make_store):
     grid = pdn.log_grid(f1, f2)
     fm = np.geomspace(1e5, 1e8, 6001)                 # 2,000 points per decade
     k = int(np.argmin(np.abs(np.log(fm / np.sqrt(grid[-5] * grid[-4])))))
-    zm = capacitor.impedance(fm, 10e-6, 0.005, 0.5e-9)
+    zm = rlc.impedance(fm, 10e-6, 0.005, 0.5e-9)
     zm[k] *= 1.2
     sweeps = {"A": (fm, zm)}
     store = with_sweeps(make_store, [_cap("A", 10e-6, 0.005, 0.5e-9)], sweeps)
@@ -343,7 +344,7 @@ def test_noisy_data_list_only_prominent_peaks(make_store):
     rng = np.random.default_rng(5)
     f = np.geomspace(1e5, 1e8, 1201)
     noise = 1 + 0.01 * (rng.standard_normal(f.size) + 1j * rng.standard_normal(f.size))
-    sweeps = {"A": (f, capacitor.impedance(f, 10e-6, 0.005, 0.5e-9) * noise)}
+    sweeps = {"A": (f, rlc.impedance(f, 10e-6, 0.005, 0.5e-9) * noise)}
     store = with_sweeps(make_store, [_cap("A", 10e-6, 0.005, 0.5e-9)], sweeps)
     rail = dec.Rail(1.0, 0.05, (1e6, 1e7), dec.Board(mount_l=0.2e-9))
     with open_store(store) as s:
@@ -361,7 +362,7 @@ def test_bias_loss_is_applied_to_the_measured_curve(make_store):
     rows = [_cap("X", 10e-6, 0.005, 0.5e-9, dielectric="X7R", case="0805", rated_voltage="16V",
                  tan_delta="0.02", bias_curve="0V:1, 3.3V:0.5, 16V:0.2")]
     f = np.geomspace(1e4, 1e9, 2001)
-    sweeps = {"X": (f, capacitor.impedance(f, 10e-6, 0.005, 0.5e-9, 0.02))}
+    sweeps = {"X": (f, rlc.impedance(f, 10e-6, 0.005, 0.5e-9, 0.02))}
     store = with_sweeps(make_store, rows, sweeps)
     rail = dec.Rail(3.3, 0.02, (1e5, 1e8), dec.Board(mount_l=0.3e-9))
     with open_store(store) as s:
@@ -372,7 +373,7 @@ def test_bias_loss_is_applied_to_the_measured_curve(make_store):
     # the data points
     inside = f[(f >= 1e5) & (f <= 1e8)]
     assert_allclose(dict(res.curves(inside))["total"],
-                    capacitor.impedance(inside, 5e-6, 0.005, 0.8e-9, 0.02), rtol=1e-9)
+                    rlc.impedance(inside, 5e-6, 0.005, 0.8e-9, 0.02), rtol=1e-9)
     assert any("taking each sweep as measured at 0 V" in e and "X 10 uF -> 5 uF" in e
                for e in res.effects)
 
@@ -384,8 +385,8 @@ MO_ROWS = [_cap("A", 10e-6, 0.005, 0.5e-9), _cap("B", 10e-6, 0.005, 0.5e-9),
 
 @pytest.fixture
 def mo_store(make_store) -> tuple[Path, dict]:
-    sweeps = {"A": (F_SWEEP, capacitor.impedance(F_SWEEP, 10e-6, 0.005, 0.5e-9)),
-              "B": (PARTIAL, capacitor.impedance(PARTIAL, 10e-6, 0.005, 0.5e-9))}
+    sweeps = {"A": (F_SWEEP, rlc.impedance(F_SWEEP, 10e-6, 0.005, 0.5e-9)),
+              "B": (PARTIAL, rlc.impedance(PARTIAL, 10e-6, 0.005, 0.5e-9))}
     return with_sweeps(make_store, MO_ROWS, sweeps), sweeps
 
 
@@ -425,7 +426,7 @@ def test_measured_only_check_refuses_parts_the_data_do_not_cover(cli, mo_store, 
 
 
 def test_measured_only_with_no_covering_sweep_is_refused(make_store):
-    store = with_sweeps(make_store, MO_ROWS, {"B": (PARTIAL, capacitor.impedance(
+    store = with_sweeps(make_store, MO_ROWS, {"B": (PARTIAL, rlc.impedance(
         PARTIAL, 10e-6, 0.005, 0.5e-9))})
     with open_store(store) as s, pytest.raises(QueryError, match="covering 1 MHz..10 MHz"):
         dec.plan(s, dec.Rail(1.0, 0.005, (1e6, 1e7)), measured_only=True)
@@ -433,7 +434,7 @@ def test_measured_only_with_no_covering_sweep_is_refused(make_store):
 
 def test_a_sweep_outside_the_band_leaves_the_model(make_store):
     low = np.geomspace(1e3, 1e5, 201)
-    store = with_sweeps(make_store, MO_ROWS[:1], {"A": (low, capacitor.impedance(
+    store = with_sweeps(make_store, MO_ROWS[:1], {"A": (low, rlc.impedance(
         low, 10e-6, 0.05, 0.5e-9))})
     rail = dec.Rail(1.0, 0.01, (1e6, 1e7), dec.Board(mount_l=0.2e-9))
     with open_store(store) as s:

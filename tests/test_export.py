@@ -15,8 +15,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from partsel.engine import capacitor, inductor
 from partsel.engine.fixture import impedance_from
+from partsel.engine.models import lcp, rlc
 from partsel.errors import QueryError, StoreError
 from partsel.io.touchstone import read_touchstone
 from partsel.jobs.export import catalog_frame, spice_library, touchstone_text, write_atomic
@@ -56,12 +56,12 @@ def test_exported_library_simulates_like_the_stored_models(tmp_path, make_store,
         parts = {pn: s.find_part(pn) for pn in ("C-100N/16", "L-10U", "L-NOSRF")}
     f, z = _ac(tmp_path, lib, "C_100N_16")
     p = parts["C-100N/16"]
-    assert_same_z(z, with_rdc(capacitor.impedance(f, p["value"], p["esr"], p["esl"])))
+    assert_same_z(z, with_rdc(rlc.impedance(f, p["value"], p["esr"], p["esl"])))
     for pn, name in (("L-10U", "L_10U"), ("L-NOSRF", "L_NOSRF")):
         f, z = _ac(tmp_path, lib, name)
         p = parts[pn]
-        cp = inductor.winding_capacitance(p["value"], p["srf"] if p["srf"] else np.nan)
-        assert_same_z(z, with_rdc(inductor.impedance(f, p["value"], p["dcr"], cp,
+        cp = lcp.winding_capacitance(p["value"], p["srf"] if p["srf"] else np.nan)
+        assert_same_z(z, with_rdc(lcp.impedance(f, p["value"], p["dcr"], cp,
                                                 p["rp"] if p["rp"] else np.inf)))
 
 
@@ -73,7 +73,7 @@ def test_fitted_model_exported_through_the_cli_simulates_like_the_fit(tmp_path, 
     f = np.logspace(4, 9, 400)
     # the "measured" part: 100 nF, 8 mOhm, 0.9 nH (generating parameters)
     with open_store(store, write=True) as s:
-        store_sweep(s, "C-100N/16", f, capacitor.impedance(f, 100e-9, 8e-3, 0.9e-9),
+        store_sweep(s, "C-100N/16", f, rlc.impedance(f, 100e-9, 8e-3, 0.9e-9),
                     source_file="bench.s2p")
     assert cli("--store", store, "fit", "C-100N/16").exit_code == 0
     lib = tmp_path / "fit.lib"
@@ -83,7 +83,7 @@ def test_fitted_model_exported_through_the_cli_simulates_like_the_fit(tmp_path, 
     fs, z = _ac(tmp_path, lib, "C_100N_16")
     with open_store(store) as s:
         p = s.find_part("C-100N/16")
-    assert_same_z(z, with_rdc(capacitor.impedance(fs, p["value"], p["esr"], p["esl"])))
+    assert_same_z(z, with_rdc(rlc.impedance(fs, p["value"], p["esr"], p["esl"])))
     # and the fit found the generating part (noise-free sweep)
     assert p["esl"] == pytest.approx(0.9e-9, rel=1e-6)
 
@@ -151,7 +151,7 @@ def test_touchstone_reads_back_to_the_model(make_store, tmp_path, fixture, fmt):
     data = read_touchstone(path)
     assert data.f.size == 5 * 20 + 1                       # 5 decades, both ends
     assert data.f[0] == pytest.approx(1e4) and data.f[-1] == pytest.approx(1e9)
-    want = capacitor.impedance(data.f, p["value"], p["esr"], p["esl"])
+    want = rlc.impedance(data.f, p["value"], p["esr"], p["esl"])
     # repr numbers: RI round-trips to rounding; MA/DB through log/angle lose a few ulps, and
     # series-thru at low |Z| loses digits in 1 - S21
     tol = {"RI": 1e-12, "MA": 1e-9, "DB": 1e-6}[fmt]
@@ -169,8 +169,8 @@ def test_touchstone_matches_scikit_rf(make_store, tmp_path):
     (tmp_path / "l.s2p").write_text(two)
     n1 = skrf.Network(str(tmp_path / "l.s1p"))
     n2 = skrf.Network(str(tmp_path / "l.s2p"))
-    cp = inductor.winding_capacitance(p["value"], p["srf"])
-    want = inductor.impedance(n1.f, p["value"], p["dcr"], cp, p["rp"])
+    cp = lcp.winding_capacitance(p["value"], p["srf"])
+    want = lcp.impedance(n1.f, p["value"], p["dcr"], cp, p["rp"])
     np.testing.assert_allclose(n1.z[:, 0, 0], want, rtol=1e-9)       # scikit-rf's Z of S11
     s21 = n2.s[:, 1, 0]
     np.testing.assert_allclose(25.0 * s21 / (1 - s21), want, rtol=1e-9)  # Z = (Z0/2) S21/(1-S21)

@@ -9,7 +9,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from partsel.engine import capacitor, inductor
+from partsel.engine.models import lcp, rlc
 from partsel.jobs.find import Search, find
 from partsel.phrase import parse_phrase
 from partsel.store import open_store
@@ -54,7 +54,7 @@ def test_find_equals_brute_force(make_store, parts, f1, span, limit):
         c, esr, esl = float(r["value"]), float(r["esr"]), float(r["esl"])
         td = float(r.get("tan_delta") or 0.0)
         zmax = _grid_max(f1, f2, lambda f, c=c, esr=esr, esl=esl, td=td:
-                         capacitor.impedance(f, c, esr, esl, td))
+                         rlc.impedance(f, c, esr, esl, td))
         if zmax <= limit * (1 + 1e-12):
             expected.append((zmax, r["part_number"]))
     expected.sort()
@@ -85,7 +85,7 @@ def test_inductive_to_equals_phase_sign_on_grid(make_store):
     for r in rows[:-1]:
         lval, srf, dcr = float(r["value"]), float(r["srf"]), float(r["dcr"])
         cp = 1 / ((TWO_PI * srf) ** 2 * lval)  # derived: Cp from SRF
-        if np.all(inductor.impedance(f, lval, dcr, cp).imag > 0):
+        if np.all(lcp.impedance(f, lval, dcr, cp).imag > 0):
             expected.add(r["part_number"])
     assert {r["part_number"] for r in got.rows} == expected
     assert any("without an SRF" in n for n in got.notes)

@@ -12,8 +12,8 @@ import math
 import numpy as np
 import pytest
 
-from partsel.engine import capacitor, inductor
 from partsel.engine.fit import FitResult, fit_capacitor, fit_inductor
+from partsel.engine.models import lcp, rlc
 from partsel.errors import ModelError
 
 F_CAP = np.logspace(4, 9, 1000)           # 10 kHz .. 1 GHz spans the SRF of 100 nF / 0.8 nH
@@ -33,7 +33,7 @@ def _rel(a, b):
 
 def test_capacitor_noise_free_recovers_exactly():
     # generating parameters: 100 nF, 10 mOhm, 0.8 nH
-    z = capacitor.impedance(F_CAP, 100e-9, 10e-3, 0.8e-9)
+    z = rlc.impedance(F_CAP, 100e-9, 10e-3, 0.8e-9)
     r = fit_capacitor(F_CAP, z)
     assert isinstance(r, FitResult) and r.kind == "capacitor" and r.success
     assert r.params["value"] == pytest.approx(100e-9, rel=1e-6)
@@ -45,7 +45,7 @@ def test_capacitor_noise_free_recovers_exactly():
 
 @pytest.mark.parametrize("seed", [1, 2, 3])
 def test_capacitor_with_noise(seed):
-    z = _noisy(capacitor.impedance(F_CAP, 100e-9, 10e-3, 0.8e-9), seed)
+    z = _noisy(rlc.impedance(F_CAP, 100e-9, 10e-3, 0.8e-9), seed)
     r = fit_capacitor(F_CAP, z)
     assert r.success
     assert _rel(r.params["value"], 100e-9) < 0.02   # C within 2 %
@@ -61,7 +61,7 @@ def test_capacitor_with_noise(seed):
 def test_capacitor_with_dielectric_loss():
     # 10 uF X7R-like part, DF 5 % (within the <= 10 V X7R range, rule of thumb), 3 mOhm, 1 nH
     f = np.logspace(3, 8, 1000)
-    z = _noisy(capacitor.impedance(f, 10e-6, 3e-3, 1e-9, 0.05), seed=4)
+    z = _noisy(rlc.impedance(f, 10e-6, 3e-3, 1e-9, 0.05), seed=4)
     r = fit_capacitor(f, z, tan_delta=True)
     assert r.success
     assert _rel(r.params["value"], 10e-6) < 0.02        # C within 2 %
@@ -77,8 +77,8 @@ def test_capacitor_with_dielectric_loss():
 @pytest.mark.parametrize("seed", [5, 6])
 def test_inductor_with_noise(seed):
     # 10 uH, 50 mOhm, SRF 30 MHz, R_p 20 kOhm (generating parameters)
-    cp = float(inductor.winding_capacitance(10e-6, 30e6))
-    z = _noisy(inductor.impedance(F_IND, 10e-6, 50e-3, cp, 20e3), seed)
+    cp = float(lcp.winding_capacitance(10e-6, 30e6))
+    z = _noisy(lcp.impedance(F_IND, 10e-6, 50e-3, cp, 20e3), seed)
     r = fit_inductor(F_IND, z)
     assert r.success and r.kind == "inductor"
     assert _rel(r.params["value"], 10e-6) < 0.02    # L within 2 %
@@ -89,8 +89,8 @@ def test_inductor_with_noise(seed):
 
 
 def test_inductor_without_rp():
-    cp = float(inductor.winding_capacitance(4.7e-6, 50e6))
-    z = _noisy(inductor.impedance(F_IND, 4.7e-6, 20e-3, cp), seed=7)
+    cp = float(lcp.winding_capacitance(4.7e-6, 50e6))
+    z = _noisy(lcp.impedance(F_IND, 4.7e-6, 20e-3, cp), seed=7)
     r = fit_inductor(F_IND, z, rp=False)
     assert r.success and r.params["rp"] == math.inf
     assert _rel(r.params["value"], 4.7e-6) < 0.02
@@ -105,7 +105,7 @@ def test_unmodelled_resonance_is_reported_where_it_is():
     ct = 1 / ((2 * np.pi * f0) ** 2 * lt)  # derived: f0 = 1/(2 pi sqrt(L C))
     w = 2 * np.pi * F_CAP
     tank = 1 / (1 / rt + 1j * w * ct + 1 / (1j * w * lt))
-    z = _noisy(capacitor.impedance(F_CAP, 100e-9, 10e-3, 0.8e-9) + tank, seed=8)
+    z = _noisy(rlc.impedance(F_CAP, 100e-9, 10e-3, 0.8e-9) + tank, seed=8)
     r = fit_capacitor(F_CAP, z)
     assert len(r.departures) == 1
     lo, hi, mean_db = r.departures[0]
@@ -121,12 +121,12 @@ def test_unmodelled_resonance_is_reported_where_it_is():
 
 
 def test_initial_guess_far_off_still_converges():
-    z = capacitor.impedance(F_CAP, 100e-9, 10e-3, 0.8e-9)
+    z = rlc.impedance(F_CAP, 100e-9, 10e-3, 0.8e-9)
     r = fit_capacitor(F_CAP, z, initial={"value": 1e-6, "esl": 80e-9, "esr": 1.0})
     assert r.params["value"] == pytest.approx(100e-9, rel=1e-6)
     assert r.params["esl"] == pytest.approx(0.8e-9, rel=1e-6)
-    cp = float(inductor.winding_capacitance(10e-6, 30e6))
-    zi = inductor.impedance(F_IND, 10e-6, 50e-3, cp, 20e3)
+    cp = float(lcp.winding_capacitance(10e-6, 30e6))
+    zi = lcp.impedance(F_IND, 10e-6, 50e-3, cp, 20e3)
     ri = fit_inductor(F_IND, zi, initial={"srf": 100e6, "value": 3e-6})
     assert ri.params["srf"] == pytest.approx(30e6, rel=1e-6)
     assert ri.params["dcr"] == pytest.approx(50e-3, rel=1e-6)
@@ -134,14 +134,14 @@ def test_initial_guess_far_off_still_converges():
 
 def test_sweep_ending_below_srf_says_so():
     f = np.logspace(3, 6, 300)  # SRF of 100 nF / 0.8 nH is 17.8 MHz (derived)
-    r = fit_capacitor(f, _noisy(capacitor.impedance(f, 100e-9, 10e-3, 0.8e-9), seed=9))
+    r = fit_capacitor(f, _noisy(rlc.impedance(f, 100e-9, 10e-3, 0.8e-9), seed=9))
     assert _rel(r.params["value"], 100e-9) < 0.02
     assert "above the sweep" in r.message
 
 
 def test_bad_input():
     f = np.logspace(3, 6, 10)
-    z = capacitor.impedance(f, 1e-6, 1e-2, 1e-9)
+    z = rlc.impedance(f, 1e-6, 1e-2, 1e-9)
     with pytest.raises(ModelError):
         fit_capacitor(f[:4], z[:4])
     with pytest.raises(ModelError):
@@ -176,7 +176,7 @@ def test_fit_family_refuses_what_it_cannot_fit():
     from partsel.engine.fit import fit_family
     from partsel.errors import ModelError
     f = np.geomspace(1e3, 1e9, 50)
-    z = capacitor.impedance(f, 1e-6, 0.01, 1e-9)
+    z = rlc.impedance(f, 1e-6, 0.01, 1e-9)
     with pytest.raises(ModelError, match="cannot be fitted"):
         fit_family("measured", f, z)
     with pytest.raises(ModelError, match="no parameter"):

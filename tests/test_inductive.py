@@ -19,7 +19,7 @@ from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 
-from partsel.engine import inductor
+from partsel.engine.models import lcp
 from partsel.errors import PartNotFound, QueryError
 from partsel.jobs.inductive import GRADES, Spec, check, check_rows, evaluate, plot
 from partsel.store import open_store
@@ -216,7 +216,7 @@ def test_fail_grade_is_the_phase_sign_on_a_grid(lval, srf, r_frac, log_ratio):
     assume(abs(f0 / target - 1) > 1e-9)
     f = np.geomspace(target * 1e-6, target, 4001)
     with np.errstate(divide="ignore", invalid="ignore"):   # a lossless part at its SRF: Z = inf
-        inductive = bool(np.all(inductor.impedance(f, lval, r, cp).imag > 0))
+        inductive = bool(np.all(lcp.impedance(f, lval, r, cp).imag > 0))
     assert (GRADES[m.grade[0]] != "capacitive") == inductive
     assert (m.verdict[0] == 2) == (not inductive)
 

@@ -16,15 +16,14 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from partsel.engine import capacitor, inductor
+from partsel.engine.models import family, lcp, rlc
+from partsel.engine.models.measured import interpolate
 from partsel.errors import FileFormatError, ModelError, QueryError
 from partsel.jobs.find import Search, find
 from partsel.jobs.measured import (
     ImplausibleFit,
-    curve_band,
     fit_part,
     import_sweep,
-    interpolate,
     latest_sweep,
     model_history,
     store_sweep,
@@ -68,7 +67,7 @@ def store(make_store):
 
 def test_sweep_round_trip_is_exact_and_not_duplicated(store):
     f = np.logspace(4, 9, 201)
-    z = capacitor.impedance(f, 100e-9, 10e-3, 0.8e-9)
+    z = rlc.impedance(f, 100e-9, 10e-3, 0.8e-9)
     with open_store(store, write=True) as s:
         first = store_sweep(s, "C100N", f, z, source_file="a.s2p", fixture="shunt-thru")
         again = store_sweep(s, "c100n", f, z, source_file="a.s2p", fixture="shunt-thru")
@@ -82,8 +81,8 @@ def test_sweep_round_trip_is_exact_and_not_duplicated(store):
 def test_latest_sweep_is_the_newest(store):
     f = np.logspace(4, 9, 50)
     with open_store(store, write=True) as s:
-        store_sweep(s, "C100N", f, capacitor.impedance(f, 100e-9, 10e-3, 0.8e-9), source_file="1")
-        store_sweep(s, "C100N", f, capacitor.impedance(f, 90e-9, 10e-3, 0.8e-9), source_file="2")
+        store_sweep(s, "C100N", f, rlc.impedance(f, 100e-9, 10e-3, 0.8e-9), source_file="1")
+        store_sweep(s, "C100N", f, rlc.impedance(f, 90e-9, 10e-3, 0.8e-9), source_file="2")
         assert latest_sweep(s, s.find_part("C100N")).source_file == "2"
         assert [w.source_file for w in sweeps_of(s, "C100N")] == ["2", "1"]
 
@@ -109,7 +108,7 @@ def test_touchstone_import_needs_the_fixture_of_a_two_port(store):
                            fixture="shunt-thru")
     # the file holds C = 100 nF, ESR = 10 mOhm, ESL = 0.8 nH (tests/data/README.md); DB with
     # scikit-rf's default digits: 1e-6 relative
-    want = capacitor.impedance(res.sweep.f, 100e-9, 10e-3, 0.8e-9)
+    want = rlc.impedance(res.sweep.f, 100e-9, 10e-3, 0.8e-9)
     np.testing.assert_allclose(res.sweep.z, want, rtol=1e-6)
     assert res.sweep.fixture == "shunt-thru" and "file dated" in res.sweep.note
 
@@ -122,7 +121,7 @@ def test_csv_import_rejects_a_fixture(store):
 def test_fit_recovers_capacitor_and_keeps_history(store):
     # generating parameters: 10 uF, 3 mOhm, 1 nH, tan delta 5 % (as tests/test_fit.py)
     f = np.logspace(3, 8, 1000)
-    z = _noisy(capacitor.impedance(f, 10e-6, 3e-3, 1e-9, 0.05), seed=11)
+    z = _noisy(rlc.impedance(f, 10e-6, 3e-3, 1e-9, 0.05), seed=11)
     with open_store(store, write=True) as s:
         store_sweep(s, "C10U", f, z, source_file="bench.csv")
         res = fit_part(s, "C10U", tan_delta=True)
@@ -145,8 +144,8 @@ def test_fit_recovers_capacitor_and_keeps_history(store):
 def test_fit_recovers_inductor(store):
     # generating parameters: 10 uH, 50 mOhm, SRF 30 MHz, Rp 20 kOhm (as tests/test_fit.py)
     f = np.logspace(2, np.log10(3e8), 1000)
-    cp = float(inductor.winding_capacitance(10e-6, 30e6))
-    z = _noisy(inductor.impedance(f, 10e-6, 50e-3, cp, 20e3), seed=12)
+    cp = float(lcp.winding_capacitance(10e-6, 30e6))
+    z = _noisy(lcp.impedance(f, 10e-6, 50e-3, cp, 20e3), seed=12)
     with open_store(store, write=True) as s:
         store_sweep(s, "L10U", f, z)
         fit_part(s, "L10U")
@@ -162,10 +161,10 @@ def test_undo_steps_back_through_the_fits(store):
     f = np.logspace(4, 9, 200)
     with open_store(store, write=True) as s:
         before = s.find_part("C100N")
-        store_sweep(s, "C100N", f, capacitor.impedance(f, 100e-9, 10e-3, 0.8e-9))
+        store_sweep(s, "C100N", f, rlc.impedance(f, 100e-9, 10e-3, 0.8e-9))
         fit_part(s, "C100N")
         first = s.find_part("C100N")
-        store_sweep(s, "C100N", f, capacitor.impedance(f, 100e-9, 12e-3, 0.9e-9))
+        store_sweep(s, "C100N", f, rlc.impedance(f, 100e-9, 12e-3, 0.9e-9))
         fit_part(s, "C100N")
         undo_fit(s, "C100N")
         back_one = s.find_part("C100N")
@@ -191,7 +190,7 @@ def test_fit_errors_change_nothing(store):
     assert _dump(store) == before
     f = np.logspace(4, 9, 50)
     with open_store(store, write=True) as s:
-        store_sweep(s, "C100N", f, capacitor.impedance(f, 100e-9, 10e-3, 0.8e-9))
+        store_sweep(s, "C100N", f, rlc.impedance(f, 100e-9, 10e-3, 0.8e-9))
     before = _dump(store)
     with open_store(store, write=True) as s:
         with pytest.raises(QueryError, match="widen the band"):
@@ -206,7 +205,7 @@ def test_fit_that_does_not_converge_is_refused(store, monkeypatch):
     import partsel.jobs.measured as measured
     f = np.logspace(4, 9, 50)
     with open_store(store, write=True) as s:
-        store_sweep(s, "C100N", f, capacitor.impedance(f, 100e-9, 10e-3, 0.8e-9))
+        store_sweep(s, "C100N", f, rlc.impedance(f, 100e-9, 10e-3, 0.8e-9))
     before = _dump(store)
 
     real = measured.fit_capacitor
@@ -226,7 +225,7 @@ def test_fit_of_a_sweep_read_in_the_wrong_unit_is_refused(store):
     # 1e6 too low, so the fitted C comes out 1e6 too high (derived: |Z| = 1/(2 pi f C))
     f = np.logspace(4, 9, 100)
     with open_store(store, write=True) as s:
-        store_sweep(s, "C100N", f / 1e6, capacitor.impedance(f, 100e-9, 10e-3, 0.8e-9))
+        store_sweep(s, "C100N", f / 1e6, rlc.impedance(f, 100e-9, 10e-3, 0.8e-9))
     before = _dump(store)
     with open_store(store, write=True) as s, pytest.raises(ImplausibleFit) as exc:
         fit_part(s, "C100N")
@@ -248,23 +247,23 @@ def test_fit_of_an_inductor_swept_far_below_its_srf_is_refused(store):
     # 10 uH with a catalog SRF of 25 MHz, swept 100 Hz..100 kHz: the sweep ends 250x below
     # the SRF, more than the one decade the rule allows (rule of thumb, fit_doubts)
     f = np.logspace(2, 5, 60)
-    cp = float(inductor.winding_capacitance(10e-6, 25e6))
+    cp = float(lcp.winding_capacitance(10e-6, 25e6))
     with open_store(store, write=True) as s:
-        store_sweep(s, "L10U", f, inductor.impedance(f, 10e-6, 40e-3, cp))
+        store_sweep(s, "L10U", f, lcp.impedance(f, 10e-6, 40e-3, cp))
         with pytest.raises(ImplausibleFit, match="within a decade of the catalog SRF 25 MHz"):
             fit_part(s, "L10U")
         assert s.find_part("L10U")["srf_source"] != "measured fit"
     # the same part swept up to 3 MHz (within a decade of 25 MHz) is stored
     f = np.logspace(2, np.log10(3e6), 60)
     with open_store(store, write=True) as s:
-        store_sweep(s, "L10U", f, inductor.impedance(f, 10e-6, 40e-3, cp))
+        store_sweep(s, "L10U", f, lcp.impedance(f, 10e-6, 40e-3, cp))
         assert fit_part(s, "L10U").saved
 
 
 def test_reimport_keeps_a_measured_fit_and_updates_the_rest(store, tmp_path):
     f = np.logspace(4, 9, 200)
     with open_store(store, write=True) as s:
-        store_sweep(s, "C100N", f, capacitor.impedance(f, 100e-9, 10e-3, 0.8e-9))
+        store_sweep(s, "C100N", f, rlc.impedance(f, 100e-9, 10e-3, 0.8e-9))
         fit_part(s, "C100N")
         fitted = s.find_part("C100N")
         newer = write_catalog(tmp_path / "newer.csv", [dict(CAP, stock="99"), CAP10U, IND])
@@ -292,12 +291,14 @@ _sweep = st.lists(st.floats(-3, 3), min_size=5, max_size=40)
 
 @settings(max_examples=60, deadline=None)
 @given(logmag=_sweep, a=st.floats(0, 1), b=st.floats(0, 1))
-def test_curve_band_equals_brute_force(logmag, a, b):
+def test_measured_band_equals_brute_force(logmag, a, b):
     f = np.logspace(3, 8, len(logmag))
     z = 10.0 ** np.array(logmag) * np.exp(1j * np.linspace(-1.5, 1.5, len(logmag)))
     lo, hi = sorted((a, b))
     f1, f2 = 10 ** (3 + 5 * lo), 10 ** (3 + 5 * hi)
-    mx, fmx, mn, fmn = curve_band(f, z, f1, f2)
+    meas = family("measured")
+    ext = meas.band(meas.from_curves([f], [z]), f1, f2)
+    mx, fmx, mn, fmn = ext.max_z[0], ext.f_max[0], ext.min_z[0], ext.f_min[0]
     # brute force: a dense grid over the band, plus the measured points inside it
     inner = f[(f >= f1) & (f <= f2)]
     dense = np.concatenate([[f1, f2], np.geomspace(f1, f2, 4001), inner])
@@ -313,7 +314,7 @@ def _measured_store(make_store):
     path = make_store(rows)
     f = np.logspace(5, 8, 301)      # 100 kHz .. 100 MHz
     with open_store(path, write=True) as s:
-        store_sweep(s, "C100N-B", f, capacitor.impedance(f, 100e-9, 20e-3, 3e-9))
+        store_sweep(s, "C100N-B", f, rlc.impedance(f, 100e-9, 20e-3, 3e-9))
     return path, f
 
 
@@ -333,7 +334,7 @@ def test_find_measured_judges_the_measured_curve(make_store):
     assert meas.rows[0]["model_source"] == "catalog" and "curve" not in meas.rows[0]
     assert [r["part_number"] for r in only.rows] == ["C100N-B"]
     assert only.rows[0]["curve"] == "measured"
-    want = abs(capacitor.impedance(30e6, 100e-9, 20e-3, 3e-9))   # band max at the top edge
+    want = abs(rlc.impedance(30e6, 100e-9, 20e-3, 3e-9))   # band max at the top edge
     assert only.rows[0]["max_z_ohm"] == pytest.approx(want, rel=1e-3)
     assert any("measured curve for 1 part" in e for e in meas.effects)
 
@@ -345,7 +346,7 @@ def test_find_measured_fills_outside_the_sweep_with_the_model(make_store):
         got = find(s, Search("capacitor", band=band, below=1e3, measured=True, limit=0))
     row = next(r for r in got.rows if r["part_number"] == "C100N-B")
     assert row["curve"] == "measured + model"
-    model_low = abs(capacitor.impedance(10e3, 100e-9, 20e-3, 1e-9))   # catalog model at 10 kHz
+    model_low = abs(rlc.impedance(10e3, 100e-9, 20e-3, 1e-9))   # catalog model at 10 kHz
     assert row["max_z_ohm"] == pytest.approx(model_low, rel=1e-12)
     assert row["f_max_hz"] == pytest.approx(10e3)
 
@@ -358,7 +359,7 @@ def test_find_measured_takes_a_bias_as_the_models_own_change(make_store):
     path = make_store([dict(CAP, dielectric="X7R", rated_voltage="6.3V"), x7r])
     f = np.logspace(5, 8, 301)
     with open_store(path, write=True) as s:
-        store_sweep(s, "C100N-B", f, capacitor.impedance(f, 100e-9, 20e-3, 3e-9))
+        store_sweep(s, "C100N-B", f, rlc.impedance(f, 100e-9, 20e-3, 3e-9))
     band = (1e6, 3e6)
     with open_store(path) as s:
         got = find(s, Search("capacitor", band=band, below=10, bias=3.3, measured=True,
@@ -369,7 +370,7 @@ def test_find_measured_takes_a_bias_as_the_models_own_change(make_store):
     ratio = row["c_eff_f"] / 100e-9
     assert ratio < 1
     w = 2 * np.pi * 1e6        # the band maximum of a capacitive curve is at the low edge
-    z0 = capacitor.impedance(1e6, 100e-9, 20e-3, 3e-9)
+    z0 = rlc.impedance(1e6, 100e-9, 20e-3, 3e-9)
     want = abs(z0 - 1j * (1 / (w * 100e-9 * ratio) - 1 / (w * 100e-9)))
     assert row["max_z_ohm"] == pytest.approx(want, rel=1e-3) and row["max_z_ohm"] > \
         base["max_z_ohm"]
@@ -385,9 +386,9 @@ def test_curves_use_the_measured_curve_inside_its_range(make_store):
         auto = curves(s, ["C100N-B"], None, 20, measured_only=True)
     inside = (res.f >= f[0]) & (res.f <= f[-1])
     np.testing.assert_allclose(res.z[0, inside],
-                               capacitor.impedance(res.f[inside], 100e-9, 20e-3, 3e-9), rtol=1e-3)
+                               rlc.impedance(res.f[inside], 100e-9, 20e-3, 3e-9), rtol=1e-3)
     np.testing.assert_allclose(res.z[0, ~inside],
-                               capacitor.impedance(res.f[~inside], 100e-9, 20e-3, 1e-9),
+                               rlc.impedance(res.f[~inside], 100e-9, 20e-3, 1e-9),
                                rtol=1e-12)
     assert auto.f[0] == pytest.approx(f[0]) and auto.f[-1] == pytest.approx(f[-1])
     assert "model outside" in res.effects[-1]
@@ -396,7 +397,7 @@ def test_curves_use_the_measured_curve_inside_its_range(make_store):
 def test_history_json_is_plain(store):
     f = np.logspace(4, 9, 60)
     with open_store(store, write=True) as s:
-        store_sweep(s, "C100N", f, capacitor.impedance(f, 100e-9, 10e-3, 0.8e-9))
+        store_sweep(s, "C100N", f, rlc.impedance(f, 100e-9, 10e-3, 0.8e-9))
         fit_part(s, "C100N")
         text = s.con.execute("SELECT model FROM model_history").fetchone()[0]
     model = json.loads(text)
@@ -405,7 +406,7 @@ def test_history_json_is_plain(store):
 
 def test_noisy_shunt_data_below_100khz_is_flagged(store):
     f = np.logspace(3, 8, 300)
-    z = _noisy(capacitor.impedance(f, 10e-6, 3e-3, 1e-9), seed=3)
+    z = _noisy(rlc.impedance(f, 10e-6, 3e-3, 1e-9), seed=3)
     with open_store(store, write=True) as s:
         store_sweep(s, "C10U", f, z, fixture="shunt-thru")
         res = fit_part(s, "C10U", save=False)

@@ -7,7 +7,7 @@ import math
 import numpy as np
 import pytest
 
-from partsel.engine import capacitor, inductor
+from partsel.engine.models import lcp, rlc
 from partsel.errors import ModelError
 from partsel.io.spice import capacitor_subckt, inductor_subckt, spice_name
 from tests.ngspice_bench import ac_impedance as _ac
@@ -21,7 +21,7 @@ from tests.ngspice_bench import assert_same_z, needs_ngspice, with_rdc
 def test_capacitor_subckt_matches_engine(tmp_path, c, esr, esl):
     text = capacitor_subckt("C-TEST/1", c, esr, esl)
     f, z = _ac(tmp_path, text, spice_name("C-TEST/1"))
-    assert_same_z(z, with_rdc(capacitor.impedance(f, c, esr, esl)))  # engine series R-L-C
+    assert_same_z(z, with_rdc(rlc.impedance(f, c, esr, esl)))  # engine series R-L-C
 
 
 @pytest.mark.ngspice
@@ -31,12 +31,12 @@ def test_capacitor_with_tan_delta_exact_at_f_ref(tmp_path):
     text = capacitor_subckt("CX", c, esr, esl, tan_delta=td, f_ref=f_ref)
     f, z = _ac(tmp_path, text, "CX")
     r_const = esr + td / (2 * math.pi * f_ref * c)  # derived: R_d = tan_delta / (omega C)
-    assert_same_z(z, with_rdc(capacitor.impedance(f, c, r_const, esl)))
+    assert_same_z(z, with_rdc(rlc.impedance(f, c, r_const, esl)))
     k = int(np.argmin(np.abs(f / f_ref - 1)))
     assert f[k] == pytest.approx(f_ref, rel=1e-12)
-    assert_same_z(z[k:k + 1], with_rdc(capacitor.impedance(f[k:k + 1], c, esr, esl, td)))
+    assert_same_z(z[k:k + 1], with_rdc(rlc.impedance(f[k:k + 1], c, esr, esl, td)))
     # away from f_ref the constant resistor and the dielectric loss differ
-    far = capacitor.impedance(f[0], c, esr, esl, td)
+    far = rlc.impedance(f[0], c, esr, esl, td)
     assert abs(abs(z[0]) / abs(far) - 1) > 1e-3
 
 
@@ -46,10 +46,10 @@ def test_capacitor_with_tan_delta_exact_at_f_ref(tmp_path):
                                                 (100e-9, 5e-3, 800e6, None),
                                                 (1e-3, 2.0, 1e6, 1e6)])
 def test_inductor_subckt_matches_engine(tmp_path, lval, dcr, srf, rp):
-    cp = float(inductor.winding_capacitance(lval, srf))
+    cp = float(lcp.winding_capacitance(lval, srf))
     text = inductor_subckt("L 10u", lval, dcr, cp, rp)
     f, z = _ac(tmp_path, text, spice_name("L 10u"))
-    expected = inductor.impedance(f, lval, dcr, cp, np.inf if rp is None else rp)
+    expected = lcp.impedance(f, lval, dcr, cp, np.inf if rp is None else rp)
     assert_same_z(z, with_rdc(expected))  # engine (L + R_s) || C_p || R_p
 
 

@@ -9,12 +9,12 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from partsel.engine import capacitor
+from partsel.engine.models import rlc
 from partsel.errors import FileFormatError, UnitError
 from partsel.io.sweep import Sweep, read_sweep_csv
 
 F = np.logspace(4, 8, 9)
-Z = capacitor.impedance(F, 100e-9, 10e-3, 0.8e-9)  # engine model: any known complex Z will do
+Z = rlc.impedance(F, 100e-9, 10e-3, 0.8e-9)  # engine model: any known complex Z will do
 
 
 def _r(x) -> str:

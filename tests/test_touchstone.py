@@ -10,8 +10,8 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from partsel.engine import capacitor, inductor
 from partsel.engine.fixture import impedance_from, s_parameters
+from partsel.engine.models import lcp, rlc
 from partsel.errors import FileFormatError, UnitError
 from partsel.io.touchstone import read_touchstone, write_touchstone
 
@@ -243,7 +243,7 @@ def test_fixture_impedance_from_skrf_networks(tmp_path, fixture, kind):
     path.write_text(net.write_touchstone(return_string=True, parameter=kind))
     z = impedance_from(read_touchstone(path), fixture)
     # engine series R-L-C model; scikit-rf builds the network from the same R, L, C
-    expected = capacitor.impedance(freq.f, C, ESR, ESL)
+    expected = rlc.impedance(freq.f, C, ESR, ESL)
     np.testing.assert_allclose(z, expected, rtol=1e-9)
 
 
@@ -252,7 +252,7 @@ def test_fixture_s_parameters_match_skrf_networks(fixture):
     """The S-parameters of a modeled part in each fixture equal those scikit-rf builds from the
     same R, L, C (its media elements and cascades are the reference)."""
     freq, net = _skrf_fixture(fixture)
-    s = s_parameters(capacitor.impedance(freq.f, C, ESR, ESL), fixture)
+    s = s_parameters(rlc.impedance(freq.f, C, ESR, ESL), fixture)
     np.testing.assert_allclose(s, net.s, rtol=1e-9, atol=1e-12)
 
 
@@ -307,7 +307,7 @@ def test_limited_precision_files_stay_within_rounding_bound(fixture, fmt):
     # dZ/Z = dS21 / (S21 (1 - S21)) for both thru formulas (derived by differentiating them),
     # so |dZ/Z| <= |dS21/S21| / |1 - S21|: shunt-thru is worst at high |Z|, series-thru at low |Z|.
     f = np.logspace(4, 9, 201)
-    z = capacitor.impedance(f, C, ESR, ESL)
+    z = rlc.impedance(f, C, ESR, ESL)
     rounded, exact = _rounded_file(f, z, fixture, fmt, digits=4)
     s21 = exact.params[:, 1, 0]
     bound = _s21_rel_bound(s21, fmt, 4) / np.abs(1 - s21)
@@ -322,8 +322,8 @@ def test_series_thru_loses_the_part_at_low_impedance():
     # four significant digits round to 1.000, so Z reads as 0 (100 % error). The same part in
     # shunt-thru is read to about 0.05 % (bound 5e-4 |1 + 2Z/Z0|, test above).
     f = np.logspace(7, 8, 41)
-    z = capacitor.impedance(f, C, 3e-3, ESL)
-    srf = capacitor.srf(C, ESL)
+    z = rlc.impedance(f, C, 3e-3, ESL)
+    srf = rlc.srf(C, ESL)
     near = np.abs(f / srf - 1) < 0.02
     assert near.any()
     series, _ = _rounded_file(f, z, "series-thru", "RI", digits=4)
@@ -341,7 +341,7 @@ def test_series_thru_loses_the_part_at_low_impedance():
 @pytest.mark.parametrize("unit", ["Hz", "MHz"])
 def test_write_read_round_trip_and_skrf(tmp_path, fmt, fixture, unit):
     f = np.logspace(3, 9, 61)
-    z = capacitor.impedance(f, C, ESR, ESL)
+    z = rlc.impedance(f, C, ESR, ESL)
     text = write_touchstone(f, s_parameters(z, fixture), fmt=fmt, unit=unit,
                             comments=["made by test"])
     n = 1 if fixture == "reflection" else 2
@@ -489,9 +489,9 @@ def test_committed_files_give_the_generating_parts():
     # generating parameters, README: 100 nF / 10 mOhm / 0.8 nH; 10 uH / 50 mOhm / 30 MHz / 20 k
     # DB and MA files pass through log10/degrees twice: allow 1e-9 relative
     np.testing.assert_allclose(impedance_from(shunt, "shunt-thru"),
-                               capacitor.impedance(shunt.f, C, ESR, 0.8e-9), rtol=1e-9)
+                               rlc.impedance(shunt.f, C, ESR, 0.8e-9), rtol=1e-9)
     np.testing.assert_allclose(impedance_from(series, "series-thru"),
-                               capacitor.impedance(series.f, C, ESR, 0.8e-9), rtol=1e-9)
-    cp = float(inductor.winding_capacitance(10e-6, 30e6))
+                               rlc.impedance(series.f, C, ESR, 0.8e-9), rtol=1e-9)
+    cp = float(lcp.winding_capacitance(10e-6, 30e6))
     np.testing.assert_allclose(impedance_from(refl, "reflection"),
-                               inductor.impedance(refl.f, 10e-6, 50e-3, cp, 20e3), rtol=1e-9)
+                               lcp.impedance(refl.f, 10e-6, 50e-3, cp, 20e3), rtol=1e-9)

@@ -34,8 +34,8 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 from scipy.optimize import least_squares
 
-from partsel.engine import capacitor, inductor
 from partsel.engine.models import family as model_family
+from partsel.engine.models import lcp, rlc
 from partsel.engine.models.base import ClosedForm
 from partsel.errors import ModelError
 
@@ -202,12 +202,12 @@ def fit_capacitor(f: ArrayLike, z: ArrayLike, *, tan_delta: bool = False,
     x0 = np.log([start[n] for n in names])
 
     def model(p: NDArray) -> NDArray:
-        return capacitor.impedance(fa, p[0], p[1], p[2], p[3] if tan_delta else 0.0)
+        return rlc.impedance(fa, p[0], p[1], p[2], p[3] if tan_delta else 0.0)
 
     p, ok, msg = _solve(model, x0, fa, za)
     params = dict(zip(names, (float(v) for v in p), strict=True))
     params.setdefault("tan_delta", 0.0)
-    srf = float(capacitor.srf(params["value"], params["esl"]))
+    srf = float(rlc.srf(params["value"], params["esl"]))
     if srf > fa[-1]:
         msg = _note(msg, f"the SRF ({srf:.4g} Hz) lies above the sweep, so ESL and ESR rest on "
                     "its top end")
@@ -262,7 +262,7 @@ def fit_inductor(f: ArrayLike, z: ArrayLike, *, rp: bool = True,
     given = {k: float(v) for k, v in (initial or {}).items()}
     if "srf" in given and "cp" not in given:
         lval = given.get("value", _inductor_start(fa, za, rp)["value"])
-        given["cp"] = float(inductor.winding_capacitance(lval, given.pop("srf")))
+        given["cp"] = float(lcp.winding_capacitance(lval, given.pop("srf")))
     given.pop("srf", None)
     start = _inductor_start(fa, za, rp) | given
     names = ["value", "dcr", "cp"] + (["rp"] if rp else [])
@@ -270,10 +270,10 @@ def fit_inductor(f: ArrayLike, z: ArrayLike, *, rp: bool = True,
     x0 = np.log([start[n] for n in names])
 
     def model(p: NDArray) -> NDArray:
-        return inductor.impedance(fa, p[0], p[1], p[2], p[3] if rp else np.inf)
+        return lcp.impedance(fa, p[0], p[1], p[2], p[3] if rp else np.inf)
 
     p, ok, msg = _solve(model, x0, fa, za)
-    srf = float(inductor.srf(p[0], p[2]))
+    srf = float(lcp.srf(p[0], p[2]))
     params = {"value": float(p[0]), "dcr": float(p[1]), "srf": srf,
               "rp": float(p[3]) if rp else math.inf}
     if srf > fa[-1]:
@@ -367,7 +367,7 @@ def fit_family(name: str, f: ArrayLike, z: ArrayLike, *, free: tuple[str, ...] |
               **dict(zip(names, (float(v) for v in p), strict=True))}
     kind = fam.kinds[0]
     if name == "lcp":
-        params["srf"] = float(inductor.srf(params["value"], params.pop("cp")))
+        params["srf"] = float(lcp.srf(params["value"], params.pop("cp")))
     out = _report(kind, params, fa, za, model(p), departure_db, ok, msg)
     out.family = name
     return out

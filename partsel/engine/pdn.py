@@ -35,6 +35,8 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
+from partsel.engine.models import rlc
+
 TWO_PI = 2.0 * np.pi
 EPS0 = 8.8541878128e-12   # vacuum permittivity [F/m] (CODATA 2018)
 MU0 = 1.25663706212e-6    # vacuum permeability [H/m] (CODATA 2018)
@@ -145,15 +147,9 @@ class Branches:
 
 def branch_impedance(f: ArrayLike, c: ArrayLike, esr: ArrayLike, esl: ArrayLike,
                      tan_delta: ArrayLike = 0.0) -> NDArray[np.complex128]:
-    """Z = esr + tan_delta/(omega C) + j(omega L - 1/(omega C)) [ohm]; c = inf gives R + j omega L.
-
-    Broadcasts like a ufunc (series R-L-C, any circuit-theory text; the loss term follows the
-    IEC 60384-1 definition tan_delta = R omega C).
-    """
-    w = TWO_PI * np.asarray(f, dtype=float)
-    wc = w * np.asarray(c, dtype=float)
-    return (np.asarray(esr, dtype=float) + np.asarray(tan_delta, dtype=float) / wc) + \
-        1j * (w * np.asarray(esl, dtype=float) - 1.0 / wc)
+    """Z of a series R-L-C branch [ohm]: the ``rlc`` family's formula
+    (:func:`partsel.engine.models.rlc.impedance`); c = inf gives R + j omega L."""
+    return rlc.impedance(f, c, esr, esl, tan_delta)
 
 
 def _admittance(f: NDArray[np.float64], b: Branches) -> NDArray[np.complex128]:

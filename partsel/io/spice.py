@@ -1,8 +1,8 @@
 r"""SPICE subcircuits of the capacitor and inductor models.
 
 Capacitor, pins 1 and 2: R - L - C in series (series R-L-C model,
-:mod:`partsel.engine.capacitor`). Inductor: (L + R_s) in parallel with C_p and R_p
-(:mod:`partsel.engine.inductor`). Elements of value 0 (no ESR, no ESL, no C_p) and an absent
+:mod:`partsel.engine.models.rlc`). Inductor: (L + R_s) in parallel with C_p and R_p
+(:mod:`partsel.engine.models.lcp`). Elements of value 0 (no ESR, no ESL, no C_p) and an absent
 R_p are left out, so that every element written has a finite, non-zero value.
 
 A SPICE resistor is constant over frequency. The capacitor's dielectric loss
@@ -133,7 +133,7 @@ def inductor_subckt(name: str, value: float, dcr: float, cp: float, rp: float | 
     ----------
     name : part number; the subcircuit is named :func:`spice_name` of it
     value, dcr, cp : L [H], R_s [ohm], C_p [F] (0 leaves C_p out; see
-        :func:`partsel.engine.inductor.winding_capacitance` to get it from the SRF)
+        :func:`partsel.engine.models.lcp.winding_capacitance` to get it from the SRF)
     rp : R_p [ohm]; None or inf leaves it out
     provenance : parameter name -> "datasheet" | "measured fit" | "estimated by rule"; the SRF
         is listed as well, computed from L and C_p

@@ -21,8 +21,8 @@ import pandas as pd
 
 from partsel import __version__
 from partsel.catalog import COLUMNS, MODEL_PARAMETERS, NAMES, PROVENANCES
-from partsel.engine import inductor
 from partsel.engine.fixture import FIXTURES, s_parameters
+from partsel.engine.models import lcp
 from partsel.errors import ModelError, QueryError, StoreError
 from partsel.io.spice import capacitor_subckt, circuit_subckt, inductor_subckt, spice_name
 from partsel.io.touchstone import write_touchstone
@@ -128,7 +128,7 @@ def spice_subckt(store: Store, part: dict[str, Any], f_ref: float | None = None,
     else:
         if part.get("srf") is None:
             head.append("* SRF is not in the store: no winding capacitance (Cp left out)")
-        cp = float(inductor.winding_capacitance(part["value"], part.get("srf") or np.nan))
+        cp = float(lcp.winding_capacitance(part["value"], part.get("srf") or np.nan))
         text = inductor_subckt(pn, part["value"], part.get("dcr") or 0.0, cp, part.get("rp"),
                                provenance=_provenance(part))
     first, second, rest = text.split("\n", 2)

@@ -6,8 +6,9 @@ from, the fixture and the import date. :func:`fit_part` fits the equivalent circ
 (:mod:`partsel.engine.fit`) to the latest sweep and stores the fitted values as the part's model
 with provenance "measured fit"; the model it replaces goes to ``model_history``.
 
-Measured curves used in place of the model (interpolation, band extrema, curves) are in
-:mod:`partsel.jobs.measured_curves`; their functions are importable from here too.
+A measured curve used in place of the model is the ``measured`` family of the model layer
+(:mod:`partsel.engine.models.measured`), chosen per part by
+:func:`partsel.jobs.models.choose_models`.
 """
 
 from __future__ import annotations
@@ -24,16 +25,9 @@ from numpy.typing import ArrayLike, NDArray
 
 from partsel.catalog import MODEL_PARAMETERS
 from partsel.engine.fit import FitResult, fit_capacitor, fit_inductor
+from partsel.engine.models.measured import interpolate
 from partsel.errors import FileFormatError, ModelError, QueryError
 from partsel.io.sweep import MIN_POINTS
-from partsel.jobs.measured_curves import (
-    curve_band,
-    interpolate,
-    measured_span,
-    overlay_band,
-    overlay_curves,
-    span_text,
-)
 from partsel.store import history, sweeps
 from partsel.store.db import Store
 from partsel.store.sweeps import StoredSweep
@@ -177,6 +171,11 @@ def import_sweep(store: Store, path: str | Path, part_number: str, *, maker: str
         pass
     return store_sweep(store, part_number, f, z, maker=maker, source_file=p.name,
                        fixture=fixture, note=note)
+
+
+def span_text(lo: float, hi: float) -> str:
+    """'1 MHz to 1 GHz'."""
+    return f"{format_quantity(lo, 'Hz')} to {format_quantity(hi, 'Hz')}"
 
 
 # -- fitting ---------------------------------------------------------------------------------
@@ -406,6 +405,5 @@ def undo_fit(store: Store, part_number: str, maker: str | None = None) -> dict[s
 
 
 __all__ = ["FIT_REASON", "HistoryEntry", "ImplausibleFit", "PartFit", "StoredSweep", "SweepImport",
-           "curve_band", "fit_doubts", "fit_part", "import_sweep", "interpolate",
-           "latest_sweep", "measured_span", "model_history", "overlay_band", "overlay_curves",
-           "read_sweep_file", "store_sweep", "sweeps_of", "undo_fit"]
+           "fit_doubts", "fit_part", "import_sweep", "interpolate", "latest_sweep",
+           "model_history", "read_sweep_file", "store_sweep", "sweeps_of", "undo_fit"]

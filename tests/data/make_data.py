@@ -13,7 +13,7 @@ from pathlib import Path
 import numpy as np
 import skrf
 
-from partsel.engine import capacitor, inductor
+from partsel.engine.models import lcp, rlc
 
 HERE = Path(__file__).parent
 
@@ -35,15 +35,15 @@ def main() -> None:
     cap.name = "cap_100n_series"
     _write(cap, HERE / "touchstone" / "cap_100n_series_v2.ts", form="ri", version="2.0")
 
-    cp = float(inductor.winding_capacitance(10e-6, 30e6))
+    cp = float(lcp.winding_capacitance(10e-6, 30e6))
     fi = skrf.Frequency(1e3, 300e6, 101, unit="Hz", sweep_type="log")
-    zi = inductor.impedance(fi.f, 10e-6, 50e-3, cp, 20e3)
+    zi = lcp.impedance(fi.f, 10e-6, 50e-3, cp, 20e3)
     ind = skrf.Network(frequency=fi, z=zi[:, None, None], z0=50, name="ind_10u_reflection")
     _write(ind, HERE / "touchstone" / "ind_10u_reflection.s1p", form="ma")
 
     rng = np.random.default_rng(2024)
     f = np.logspace(3, 8, 401)
-    z = capacitor.impedance(f, 10e-6, 3e-3, 1e-9, 0.05)
+    z = rlc.impedance(f, 10e-6, 3e-3, 1e-9, 0.05)
     z = z * (1 + 0.02 * (rng.standard_normal(f.size) + 1j * rng.standard_normal(f.size))
              / np.sqrt(2))
     rows = ["# synthetic sweep: 10 uF, ESR 3 mOhm, ESL 1 nH, tan_delta 0.05, 2 % noise, seed 2024",
