@@ -33,7 +33,6 @@ from partsel.engine.models import rlc
 from partsel.engine.models.base import (
     TWO_PI,
     BandExtrema,
-    ClosedForm,
     Param,
     check_band,
     pick_extrema,
@@ -109,7 +108,9 @@ def band(f1: float, f2: float, value: ArrayLike, esr: ArrayLike, esl: ArrayLike,
     return pick_extrema(cand, z)
 
 
-class RLCSkin(ClosedForm):
+class RLCSkin(rlc.RLC):
+    """The rlc family with the skin term; resonance, value and layers as rlc's."""
+
     name = "rlc-skin"
     kinds = ("capacitor",)
     equation = ("series R-L-C with skin-effect resistance, Z = esr + tan_delta/(2 pi f C) + "
@@ -142,22 +143,9 @@ class RLCSkin(ClosedForm):
         z2 = np.abs(impedance(f2, *self._args(b)))
         return np.maximum(z1, z2), np.where(z2 > z1, f2, f1)
 
-    def zero_phase(self, b: dict[str, NDArray]) -> NDArray[np.float64]:
-        return rlc.srf(b["value"], b["esl"])
-
-    def value(self, b: dict[str, NDArray]) -> NDArray[np.float64]:
-        return b["value"]
-
-    def landmarks(self, b: dict[str, NDArray]) -> list[NDArray[np.float64]]:
-        f0 = rlc.srf(b["value"], b["esl"])
-        return [np.array([x]) if np.isfinite(x) else np.empty(0) for x in f0]
-
-    def with_series_inductance(self, b: dict[str, NDArray],
-                               inductance: ArrayLike) -> dict[str, NDArray]:
-        return {**b, "esl": b["esl"] + np.asarray(inductance, dtype=float)}
-
-    def with_capacitance_scale(self, b: dict[str, NDArray], ratio: ArrayLike) -> dict[str, NDArray]:
-        return {**b, "value": b["value"] * np.asarray(ratio, dtype=float)}
+    def circuit(self, b: dict[str, NDArray], i: int) -> None:
+        """A sqrt(f) resistance is no lumped element: no exact network."""
+        return None
 
 
 FAMILY = RLCSkin()
