@@ -280,6 +280,7 @@ def choose_models(store: Any, ids: NDArray, base: ModelSet, choice: str = "best"
     pref = PREFERENCE[choice]
     where = {int(i): k for k, i in enumerate(ids)}
     stored = stored_models(store, ids=ids) if n else []
+    lo, hi = np.full(n, np.nan), np.full(n, np.nan)
     for rank in ("fit", "vendor"):
         if rank == "vendor" and "vendor" not in pref:
             continue
@@ -289,11 +290,16 @@ def choose_models(store: Any, ids: NDArray, base: ModelSet, choice: str = "best"
             pos = np.array([where[int(i)] for i in grp.part_id], dtype=np.intp)
             fam = family(grp.family)
             batch = fam.unpack(grp.ints, grp.int_offsets, grp.reals, grp.real_offsets)
+            if grp.family == "measured":
+                # a maker's measured curve answers within its range, like a stored sweep; the
+                # catalog model outside it (unless only)
+                batch = replace(batch, fallback=tuple(
+                    None if only else base.take(np.array([k])) for k in pos))
+                lo[pos], hi[pos] = fam.measured_span(batch)
             models = _replace(models, pos, grp.family, batch)
             source[pos] = rank
             for k, p in enumerate(pos):
                 origin[p] = _origin(grp.source_file[k], grp.subckt[k], grp.imported_at[k])
-    lo, hi = np.full(n, np.nan), np.full(n, np.nan)
     if "measured" in pref:
         models = _with_curves(store, ids, models, source, origin, (lo, hi), only, value,
                               tan_delta)

@@ -7,6 +7,7 @@ as flat arrays with offsets (no Python object per model); writing is one transac
 
 from __future__ import annotations
 
+import re
 from collections.abc import Sequence
 from dataclasses import dataclass
 from datetime import datetime
@@ -55,6 +56,15 @@ def _arrow(relation: Any) -> Any:
     return get()
 
 
+def _register(store: Store, name: str, table: Any) -> None:
+    """Register an Arrow table as a view; a result left open by an earlier ``fetchone`` is
+    finished first (DuckDB 2 refuses to register while one is open)."""
+    complete = getattr(store.con, "complete", None)
+    if complete is not None:
+        complete()
+    store.con.register(name, table)
+
+
 def has_models(store: Store) -> bool:
     """Whether the store holds any row in ``models`` (a cheap test before a join)."""
     return bool(store.con.execute("SELECT EXISTS (SELECT 1 FROM models)").fetchall()[0][0])
@@ -65,6 +75,8 @@ def stored_models(store: Store, *, kind: str | None = None,
                   sources: Sequence[str] = SOURCES) -> list[StoredModels]:
     """The stored models of the parts of ``kind`` (or the given part ids), grouped by source
     and family, newest first within a part (one row per part and source is kept)."""
+    import pyarrow as pa
+
     if not has_models(store):
         return []
     conds = ["list_contains(?, m.source)"]
@@ -73,17 +85,23 @@ def stored_models(store: Store, *, kind: str | None = None,
         conds.append("p.kind = ?")
         params.append(kind)
     if ids is not None:
-        conds.append("list_contains(?, p.id)")
-        params.append([int(i) for i in ids])
-    table = store.con.sql(
-        "SELECT p.id AS part_id, m.source, m.family, m.ints, m.reals, m.source_file, "
-        "m.subckt, m.imported_at, m.note FROM models m JOIN parts p "
-        "ON p.maker = m.maker AND p.part_number = m.part_number "
-        f"WHERE {' AND '.join(conds)} "
-        "QUALIFY row_number() OVER (PARTITION BY p.id, m.source "
-        "ORDER BY m.imported_at DESC, m.rowid DESC) = 1 "
-        "ORDER BY m.source, m.family, p.id", params=params)
-    table = _arrow(table)
+        # a semi join on a registered column: a million candidate ids cost one hash join,
+        # where a bound list would be searched once per stored model
+        conds.append("p.id IN (SELECT id FROM partsel_model_ids)")
+        _register(store, "partsel_model_ids", pa.table(
+            {"id": pa.array(np.asarray(ids, dtype=np.int64))}))
+    try:
+        table = _arrow(store.con.sql(
+            "SELECT p.id AS part_id, m.source, m.family, m.ints, m.reals, m.source_file, "
+            "m.subckt, m.imported_at, m.note FROM models m JOIN parts p "
+            "ON p.maker = m.maker AND p.part_number = m.part_number "
+            f"WHERE {' AND '.join(conds)} "
+            "QUALIFY row_number() OVER (PARTITION BY p.id, m.source "
+            "ORDER BY m.imported_at DESC, m.rowid DESC) = 1 "
+            "ORDER BY m.source, m.family, p.id", params=params))
+    finally:
+        if ids is not None:
+            store.con.unregister("partsel_model_ids")
     if table.num_rows == 0:
         return []
     source = table.column("source").to_pylist()
@@ -142,7 +160,7 @@ def replace_models(store: Store, rows: Sequence[ModelRow], *, reason: str) -> in
                           type=pa.list_(pa.float64())),
         "note": [r.note for r in rows]})
     con = store.con
-    con.register("partsel_new_models", new)
+    _register(store, "partsel_new_models", new)
     con.execute("BEGIN TRANSACTION")
     try:
         con.execute(
@@ -171,3 +189,181 @@ def model_text(store: Store, maker: str, part_number: str, source: str) -> str |
                             [maker, part_number, source]).fetchone()
     return row[0] if row else None
 
+
+
+# -- the parts that makers' files name ---------------------------------------------------------
+
+CANDIDATE_COLUMNS = ("id", "maker", "part_number", "kind", "value", "value_source", "esr", "esl",
+                     "tan_delta", "dcr", "srf", "rp")
+
+
+def alnum_key(text: str) -> str:
+    """The ASCII letters and digits of a name, in lower case: what a part number keeps in its
+    SPICE-safe form (which turns every other character into ``_`` and may put a ``P`` first)."""
+    return _NOT_ALNUM.sub("", text).lower()
+
+
+_NOT_ALNUM = re.compile(r"[^A-Za-z0-9]")
+
+
+def part_candidates(store: Store, names: Sequence[str], *,
+                    maker: str | None = None) -> list[dict[str, Any]]:
+    """The parts each of ``names`` may stand for, by tier: 0 the exact part number, 1 the part
+    number in another letter case (as :meth:`Store.find_part` compares), 2 a part number with
+    the same letters and digits (:func:`alnum_key`, with or without a leading ``p``): the
+    candidates for a SPICE-safe form, which the caller confirms. ``maker`` keeps the parts of
+    that maker (any letter case). Each row: ``idx`` (the position in ``names``), ``tier`` and
+    :data:`CANDIDATE_COLUMNS`; a part may appear at several tiers."""
+    import pyarrow as pa
+
+    if not names:
+        return []
+    keys = [alnum_key(n) for n in names]
+    _register(store, "partsel_names", pa.table({
+        "idx": pa.array(range(len(names)), type=pa.int64()),
+        "name": pa.array(list(names), type=pa.string()),
+        "akey": pa.array(keys, type=pa.string()),
+        "akey2": pa.array([k[1:] if k.startswith("p") else "" for k in keys],
+                          type=pa.string())}))
+    cols = ", ".join(f'p."{c}"' for c in CANDIDATE_COLUMNS)
+    where, params = ("WHERE lower(maker) = lower(?)", [maker]) if maker else ("", [])
+    try:
+        cur = store.con.execute(
+            f"WITH p AS (SELECT *, lower(regexp_replace(part_number, '[^A-Za-z0-9]', '', 'g')) "
+            f"AS akey FROM parts {where}) "
+            f"SELECT n.idx, 0 AS tier, {cols} FROM partsel_names n JOIN p "
+            "ON p.part_number = n.name "
+            f"UNION ALL SELECT n.idx, 1, {cols} FROM partsel_names n JOIN p "
+            "ON lower(p.part_number) = lower(n.name) "
+            f"UNION ALL SELECT n.idx, 2, {cols} FROM partsel_names n JOIN p "
+            "ON p.akey = n.akey WHERE n.akey <> '' "
+            f"UNION ALL SELECT n.idx, 2, {cols} FROM partsel_names n JOIN p "
+            "ON p.akey = n.akey2 WHERE n.akey2 <> '' "
+            "ORDER BY 1, 2, 3", params)
+        names_out = [d[0] for d in cur.description]
+        rows = cur.fetchall()
+    finally:
+        store.con.unregister("partsel_names")
+    out = []
+    for r in rows:
+        d = dict(zip(names_out, r, strict=True))
+        out.append({k: (None if isinstance(v, float) and v != v else v) for k, v in d.items()})
+    return out
+
+
+def makers_like(store: Store, maker: str) -> list[str]:
+    """The stored makers whose name equals ``maker`` in any letter case."""
+    return [r[0] for r in store.con.execute(
+        "SELECT DISTINCT maker FROM parts WHERE lower(maker) = lower(?) ORDER BY 1",
+        [maker]).fetchall()]
+
+
+def all_makers(store: Store) -> list[str]:
+    return [r[0] for r in store.con.execute(
+        "SELECT DISTINCT maker FROM parts ORDER BY 1").fetchall()]
+
+
+# -- listing, showing and removing stored models -----------------------------------------------
+
+_LIST_COLS = ("maker", "part_number", "source", "family", "source_file", "subckt",
+              "imported_at", "note")
+
+
+def existing_models(store: Store, keys: Sequence[tuple[str, str]],
+                    source: str) -> dict[tuple[str, str], dict[str, Any]]:
+    """(maker, part_number) -> the newest stored model of ``source`` of those parts that have
+    one (family, source_file, subckt, imported_at)."""
+    import pyarrow as pa
+
+    if not keys or not has_models(store):
+        return {}
+    _register(store, "partsel_keys", pa.table({
+        "maker": pa.array([k[0] for k in keys], type=pa.string()),
+        "part_number": pa.array([k[1] for k in keys], type=pa.string())}))
+    try:
+        rows = store.con.execute(
+            "SELECT m.maker, m.part_number, m.family, m.source_file, m.subckt, m.imported_at "
+            "FROM models m SEMI JOIN partsel_keys k USING (maker, part_number) "
+            "WHERE m.source = ? QUALIFY row_number() OVER (PARTITION BY m.maker, "
+            "m.part_number ORDER BY m.imported_at DESC, m.rowid DESC) = 1",
+            [source]).fetchall()
+    finally:
+        store.con.unregister("partsel_keys")
+    return {(r[0], r[1]): {"family": r[2], "source_file": r[3], "subckt": r[4],
+                           "imported_at": r[5]} for r in rows}
+
+
+def _model_filter(maker: str | None, part_number: str | None,
+                  sources: Sequence[str] | None) -> tuple[str, list[Any]]:
+    conds, params = ["TRUE"], []
+    if maker is not None:
+        conds.append("m.maker = ?")
+        params.append(maker)
+    if part_number is not None:
+        conds.append("m.part_number = ?")
+        params.append(part_number)
+    if sources is not None:
+        conds.append("list_contains(?, m.source)")
+        params.append(list(sources))
+    return " AND ".join(conds), params
+
+
+def list_models(store: Store, *, maker: str | None = None, part_number: str | None = None,
+                sources: Sequence[str] | None = None,
+                limit: int = 0) -> tuple[list[dict[str, Any]], int]:
+    """Stored models (provenance only, with the part's kind), by maker, part number and source,
+    newest first within a part; at most ``limit`` of them (0: all). Returns (rows, total)."""
+    where, params = _model_filter(maker, part_number, sources)
+    total = int(store.con.execute(f"SELECT count(*) FROM models m WHERE {where}",
+                                  params).fetchone()[0])
+    tail = f" LIMIT {int(limit)}" if limit else ""
+    cur = store.con.execute(
+        f"SELECT {', '.join('m.' + c for c in _LIST_COLS)}, p.kind FROM models m LEFT JOIN "
+        "(SELECT DISTINCT maker, part_number, kind FROM parts) p "
+        f"USING (maker, part_number) WHERE {where} "
+        "ORDER BY m.maker, m.part_number, m.source, m.imported_at DESC, m.rowid DESC" + tail,
+        params)
+    names = [d[0] for d in cur.description]
+    return [dict(zip(names, r, strict=True)) for r in cur.fetchall()], total
+
+
+def model_entries(store: Store, maker: str, part_number: str,
+                  sources: Sequence[str] | None = None) -> list[dict[str, Any]]:
+    """Every stored model of one part, newest first: provenance, the text as read and the
+    packed form (``ints``, ``reals`` as numpy arrays)."""
+    where, params = _model_filter(maker, part_number, sources)
+    cur = store.con.execute(
+        f"SELECT {', '.join('m.' + c for c in _LIST_COLS)}, m.text, m.ints, m.reals "
+        f"FROM models m WHERE {where} ORDER BY m.source, m.imported_at DESC, m.rowid DESC",
+        params)
+    names = [d[0] for d in cur.description]
+    out = []
+    for r in cur.fetchall():
+        d = dict(zip(names, r, strict=True))
+        d["ints"] = np.asarray(d["ints"] or [], dtype=np.int64)
+        d["reals"] = np.asarray(d["reals"] or [], dtype=float)
+        out.append(d)
+    return out
+
+
+def remove_models(store: Store, maker: str, part_number: str, sources: Sequence[str], *,
+                  reason: str) -> int:
+    """Delete a part's stored models of ``sources``, each kept in ``model_history`` with
+    ``reason`` (as :func:`replace_models` keeps a replaced one), in one transaction. Returns
+    the count removed."""
+    store.require_write("remove models")
+    where, params = _model_filter(maker, part_number, sources)
+    con = store.con
+    con.execute("BEGIN TRANSACTION")
+    try:
+        con.execute(
+            "INSERT INTO model_history SELECT m.maker, m.part_number, now(), ?, "
+            "json_object('source', m.source, 'family', m.family, 'source_file', m.source_file, "
+            "'subckt', m.subckt, 'imported_at', CAST(m.imported_at AS VARCHAR)) "
+            f"FROM models m WHERE {where}", [reason, *params])
+        n = con.execute(f"DELETE FROM models m WHERE {where}", params).fetchone()[0]
+        con.execute("COMMIT")
+    except BaseException:
+        con.execute("ROLLBACK")
+        raise
+    return int(n)
