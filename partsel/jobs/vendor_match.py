@@ -144,8 +144,10 @@ def netlist_doubt(part: dict[str, Any], value: float, value_kind: str) -> str | 
                 "(resistive, or open, at DC)")
     sym, unit = ("C", "F") if value_kind == "capacitance" else ("L", "H")
     if value_kind != want:
-        return (f"a {'capacitive' if value_kind == 'capacitance' else 'inductive'} model "
-                f"({sym} = {_qty(value, unit)} at low frequency) for {kind} part")
+        what = "a capacitive" if value_kind == "capacitance" else "an inductive"
+        article = "an" if kind == "inductor" else "a"
+        return (f"{what} model ({sym} = {_qty(value, unit)} at low frequency) for "
+                f"{article} {kind} part")
     catalog = part.get("value")
     if catalog and math.isfinite(value) and value > 0:
         ratio = value / float(catalog)

@@ -223,7 +223,7 @@ def part_candidates(store: Store, names: Sequence[str], *,
         "idx": pa.array(range(len(names)), type=pa.int64()),
         "name": pa.array(list(names), type=pa.string()),
         "akey": pa.array(keys, type=pa.string()),
-        "akey2": pa.array([k[1:] if k.startswith("p") else "" for k in keys],
+        "akey2": pa.array([k[1:] if k.startswith("p") else None for k in keys],
                           type=pa.string())}))
     cols = ", ".join(f'p."{c}"' for c in CANDIDATE_COLUMNS)
     where, params = ("WHERE lower(maker) = lower(?)", [maker]) if maker else ("", [])
@@ -236,9 +236,9 @@ def part_candidates(store: Store, names: Sequence[str], *,
             f"UNION ALL SELECT n.idx, 1, {cols} FROM partsel_names n JOIN p "
             "ON lower(p.part_number) = lower(n.name) "
             f"UNION ALL SELECT n.idx, 2, {cols} FROM partsel_names n JOIN p "
-            "ON p.akey = n.akey WHERE n.akey <> '' "
+            "ON p.akey = n.akey "
             f"UNION ALL SELECT n.idx, 2, {cols} FROM partsel_names n JOIN p "
-            "ON p.akey = n.akey2 WHERE n.akey2 <> '' "
+            "ON p.akey = n.akey2 "
             "ORDER BY 1, 2, 3", params)
         names_out = [d[0] for d in cur.description]
         rows = cur.fetchall()
