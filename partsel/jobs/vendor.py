@@ -32,7 +32,7 @@ from partsel.engine.models import family
 from partsel.errors import FileFormatError, ModelError, QueryError, StoreError
 from partsel.io.spice_lib import Library, SubcktResult, parse_library
 from partsel.jobs.vendor_match import Match, compile_pattern, match_names, netlist_doubt
-from partsel.jobs.vendor_sources import Source, Sources, gather
+from partsel.jobs.vendor_sources import ArchiveDamaged, Source, Sources, gather
 from partsel.store import models as stored
 from partsel.store.db import Store
 
@@ -295,7 +295,7 @@ def _read_all(store: Store, sources: Sources, out: ModelImport, tell: ProgressFn
         else:
             try:
                 curve = read_curve(src, fixture, cli=cli)
-            except FixtureNeeded:
+            except (FixtureNeeded, ArchiveDamaged):
                 raise
             except FileFormatError as exc:
                 out.errors.append(FileError(src.label, _without_label(str(exc), src.label)))

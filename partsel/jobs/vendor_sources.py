@@ -21,6 +21,12 @@ from partsel.errors import FileFormatError
 
 SPICE_SUFFIXES = (".lib", ".mod", ".cir", ".sub")
 TOUCHSTONE = re.compile(r"\.(s\d+p|ts)\Z", re.IGNORECASE)
+
+
+class ArchiveDamaged(FileFormatError):
+    """A zip member that cannot be read: the archive is damaged, which stops the import."""
+
+
 KNOWN = "SPICE libraries (.lib, .mod, .cir, .sub) or Touchstone files (.s1p, .s2p, .ts)"
 
 
@@ -108,7 +114,7 @@ def _from_zip(p: Path) -> Sources:
             try:
                 return zf.read(info)
             except (zipfile.BadZipFile, zlib.error, EOFError, OSError) as exc:
-                raise FileFormatError(f"{p.name}!{info.filename} cannot be read from the "
+                raise ArchiveDamaged(f"{p.name}!{info.filename} cannot be read from the "
                                       f"archive ({exc}): the zip is damaged or cut short; "
                                       "nothing was imported") from None
         dated = datetime(*info.date_time) if info.date_time[0] >= 1980 else None
