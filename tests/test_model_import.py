@@ -376,3 +376,49 @@ def test_find_ranks_by_the_vendor_netlists_exact_band_maximum_and_show_says_so(t
         assert back[p["part_number"]]["model"] == "catalog rlc"
     r = cli("--store", path, "show", "QME-1", "--model", "catalog")
     assert "Figures below from: catalog rlc (catalog columns)" in r.stdout
+
+
+# -- the invented example files of data_demo/vendor -------------------------------------------
+
+def _make_vendor():
+    import importlib.util
+    from pathlib import Path
+    path = Path(__file__).resolve().parents[1] / "data_demo" / "vendor" / "make_vendor.py"
+    spec = importlib.util.spec_from_file_location("make_vendor", path)
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module, path.parent
+
+
+def test_the_demo_vendor_files_are_what_their_generator_makes():
+    import pandas as pd
+    mv, folder = _make_vendor()
+    catalog = pd.read_csv(folder.parent / "catalog.csv", dtype=str, keep_default_na=False)
+    assert (folder / "quillmere_mlcc.lib").read_text(encoding="utf-8") == mv.library(catalog)
+    files = mv.touchstone_files(catalog, np.random.default_rng(2026))
+    assert sorted(files) == sorted(p.name for p in (folder / "touchstone").iterdir())
+    for name, text in files.items():
+        assert (folder / "touchstone" / name).read_text(encoding="utf-8") == text
+
+
+def test_the_demo_vendor_files_import_into_the_demo_catalog(cli):
+    _, folder = _make_vendor()
+    r = cli("model", "import", folder / "quillmere_mlcc.lib", "--format", "json")
+    assert r.exit_code == 0, r.output
+    got = json.loads(r.stdout)
+    assert len(got["stored"]) == 7 and len(got["refused"]) == 1 and len(got["unmatched"]) == 1
+    assert got["refused"][0]["element"] == "D1"
+    assert got["unmatched"][0]["name"] == "QMC0201_105X5R6R3M_0ZZZZZ"
+    with open_store(None) as store:
+        catalog = {row[0]: row[1] for row in store.con.execute(
+            "SELECT part_number, value FROM parts WHERE list_contains(?, part_number)",
+            [[s["part_number"] for s in got["stored"]]]).fetchall()}
+    for s in got["stored"]:
+        # the ladders' C (or L) elements add up to the catalog value (derived), within the
+        # 4 significant digits the file writes and the small terminal capacitance
+        assert s["value"] == pytest.approx(catalog[s["part_number"]], rel=2e-3)
+    r = cli("model", "import", folder / "touchstone", "--fixture", "shunt-thru",
+            "--format", "json")
+    got = json.loads(r.stdout)
+    assert r.exit_code == 0 and len(got["stored"]) == 4 and not got["unreadable"]
+    assert [s["family"] for s in got["stored"]] == ["measured"] * 4

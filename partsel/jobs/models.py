@@ -279,11 +279,10 @@ def choose_models(store: Any, ids: NDArray, base: ModelSet, choice: str = "best"
     models = base
     pref = PREFERENCE[choice]
     where = {int(i): k for k, i in enumerate(ids)}
-    stored = stored_models(store, ids=ids) if n else []
+    ranks = ("fit", "vendor") if "vendor" in pref else ("fit",)
+    stored = stored_models(store, ids=ids, sources=ranks) if n else []
     lo, hi = np.full(n, np.nan), np.full(n, np.nan)
-    for rank in ("fit", "vendor"):
-        if rank == "vendor" and "vendor" not in pref:
-            continue
+    for rank in ranks:
         for grp in stored:
             if grp.source != rank:
                 continue
