@@ -37,7 +37,9 @@ FIND = ["find", "capacitor", "--below", "0.5ohm", "--band", "1MHz..30MHz", "--fo
 
 
 def run(store: Path, *args: str) -> float:
-    env = dict(os.environ, PYTHONPATH=str(ROOT))
+    # as an installed partsel runs: with its modules compiled once (not on every start)
+    env = {k: v for k, v in os.environ.items() if k != "PYTHONDONTWRITEBYTECODE"}
+    env["PYTHONPATH"] = str(ROOT)
     t = time.perf_counter()
     subprocess.run([sys.executable, "-m", "partsel", "--store", str(store), *args], check=True,
                    stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, env=env)

@@ -79,7 +79,9 @@ def library(cat: pd.DataFrame) -> str:
 
 
 def command(store: Path, *args: str) -> float:
-    env = dict(os.environ, PYTHONPATH=str(ROOT))
+    # as an installed partsel runs: with its modules compiled once (not on every start)
+    env = {k: v for k, v in os.environ.items() if k != "PYTHONDONTWRITEBYTECODE"}
+    env["PYTHONPATH"] = str(ROOT)
     t = time.perf_counter()
     subprocess.run([sys.executable, "-m", "partsel", "--store", str(store), "model", "import",
                     *args], check=True, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL,

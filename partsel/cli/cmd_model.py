@@ -92,7 +92,7 @@ def _report(res: Any, fmt: str) -> None:
                       "stored": [asdict(s) for s in res.stored],
                       "refused": [asdict(r) for r in res.refused],
                       "unmatched": [asdict(u) for u in res.unmatched],
-                      "unreadable": [asdict(e) for e in res.errors]}))
+                      "unreadable": [asdict(e) for e in res.errors], "notes": res.notes}))
         return
     if fmt == "csv":
         echo(opt.emit(_csv_rows(res), [], "csv"))
@@ -113,6 +113,7 @@ def _report(res: Any, fmt: str) -> None:
     _listed("Refused", [r.text() for r in res.refused])
     _listed("Matching no part", [f"{u.file}: {u.name} ({u.reason})" for u in res.unmatched])
     _listed("Unreadable files", [f"{e.file}: {e.reason}" for e in res.errors])
+    _listed("Notes on reading", res.notes)
 
 
 @model_app.command("import")

@@ -229,8 +229,10 @@ def import_models(store: Store, path: str | Path, *, part: str | None = None,
         pending = _read_all(store, sources, out, tell, forced=forced, subckt=subckt,
                             maker=maker, regex=regex, pins=pin_pair,
                             ground_is_reference=ground_is_reference, fixture=fixture, cli=cli)
+        order = {src.label: k for k, src in enumerate(sources.items)}
     _analyse(pending, out, tell)
     kept = _checked(store, pending, out)
+    out.refused.sort(key=lambda r: (order.get(r.file, 0), r.line or 0))
     _write(store, kept, out, tell)
     return out
 
@@ -254,6 +256,7 @@ def _read_all(store: Store, sources: Sources, out: ModelImport, tell: ProgressFn
         except FileFormatError as exc:
             raise FileFormatError(f"{exc}; nothing was imported") from None
         done += 1
+        out.notes += [f"{src.label}: {n}" for n in libs[-1][1].notes]
         tell(Progress("reading", done, total, sum(len(lib.subckts) for _, lib in libs)))
     named: list[tuple[Source, SubcktResult | None]] = [
         (src, r) for src, lib in libs for r in lib.results()]

@@ -19,6 +19,7 @@ from numpy.typing import NDArray
 from partsel.store.db import Store
 
 SOURCES = ("vendor", "fit")
+_JOIN_IDS = 20_000      # up to this many part ids are filtered in the query, more after it
 
 
 @dataclass(frozen=True)
@@ -46,7 +47,8 @@ def _flat(column: Any) -> tuple[NDArray, NDArray]:
     arr = column.combine_chunks() if isinstance(column, pa.ChunkedArray) else column
     arr = pc.fill_null(arr, pa.scalar([], type=arr.type))
     offsets = np.asarray(arr.offsets, dtype=np.int64)
-    values = np.asarray(arr.values.to_numpy(zero_copy_only=False))
+    # flatten() holds the values of this (possibly sliced) array only, as the offsets below
+    values = np.asarray(arr.flatten().to_numpy(zero_copy_only=False))
     return values, offsets - offsets[0] if len(offsets) else offsets
 
 
@@ -84,43 +86,103 @@ def stored_models(store: Store, *, kind: str | None = None,
     if kind is not None:
         conds.append("p.kind = ?")
         params.append(kind)
-    if ids is not None:
-        # a semi join on a registered column: a million candidate ids cost one hash join,
-        # where a bound list would be searched once per stored model
+    wanted = None if ids is None else np.asarray(ids, dtype=np.int64)
+    joined = wanted is not None and len(wanted) <= _JOIN_IDS
+    if joined:
+        # a semi join on a registered column (a bound list would be searched once per model)
         conds.append("p.id IN (SELECT id FROM partsel_model_ids)")
-        _register(store, "partsel_model_ids", pa.table(
-            {"id": pa.array(np.asarray(ids, dtype=np.int64))}))
+        _register(store, "partsel_model_ids", pa.table({"id": pa.array(wanted)}))
     try:
-        table = _arrow(store.con.sql(
-            "SELECT p.id AS part_id, m.source, m.family, m.ints, m.reals, m.source_file, "
-            "m.subckt, m.imported_at, m.note FROM models m JOIN parts p "
+        # two reads: which part each model row belongs to (a join of two small columns), and
+        # the rows themselves; joining the packed lists inside the query costs twice as much
+        keys = store.con.execute(
+            "SELECT m.rowid AS row, p.id AS part_id FROM models m JOIN parts p "
             "ON p.maker = m.maker AND p.part_number = m.part_number "
-            f"WHERE {' AND '.join(conds)} "
-            "QUALIFY row_number() OVER (PARTITION BY p.id, m.source "
-            "ORDER BY m.imported_at DESC, m.rowid DESC) = 1 "
-            "ORDER BY m.source, m.family, p.id", params=params))
+            f"WHERE {' AND '.join(conds)}", params).fetchnumpy()
+        table = _arrow(store.con.sql(
+            "SELECT rowid AS row, source, family, ints, reals, source_file, subckt, "
+            "imported_at, note FROM models WHERE list_contains(?, source)",
+            params=[list(sources)]))
     finally:
-        if ids is not None:
+        if joined:
             store.con.unregister("partsel_model_ids")
-    if table.num_rows == 0:
+    row, part_id = (np.asarray(keys[k], dtype=np.int64) for k in ("row", "part_id"))
+    if wanted is not None and not joined:
+        # many candidates (a band search over a catalog): cheaper to keep theirs here
+        keep = np.isin(part_id, wanted)
+        row, part_id = row[keep], part_id[keep]
+    if not len(row) or table.num_rows == 0:
         return []
-    source = table.column("source").to_pylist()
-    family = table.column("family").to_pylist()
-    keys = list(zip(source, family, strict=True))
+    rowids = np.asarray(table.column("row").to_numpy(), dtype=np.int64)
+    by_row = np.argsort(rowids)
+    at = by_row[np.searchsorted(rowids[by_row], row)]
+    meta = table.select(["row", "source", "family", "imported_at"]).take(at)
+    meta = meta.append_column("part_id", pa.array(part_id))
+    order = _newest_in_order(meta)
+    sel = at[order]
+    info = table.select(["source", "family", "source_file", "subckt", "imported_at",
+                         "note"]).take(sel)
+    ints, int_off = _flat(table.column("ints"))
+    reals, real_off = _flat(table.column("reals"))
+    part_id = part_id[order]
+    source = _codes(info.column("source"))
+    family = _codes(info.column("family"))
+    cuts = np.flatnonzero((source[1:] != source[:-1]) | (family[1:] != family[:-1])) + 1
     out = []
-    start = 0
-    for end in [i for i in range(1, len(keys)) if keys[i] != keys[i - 1]] + [len(keys)]:
-        part = table.slice(start, end - start)
-        ints, io = _flat(part.column("ints"))
-        reals, ro = _flat(part.column("reals"))
+    for start, end in zip(np.r_[0, cuts], np.r_[cuts, len(sel)], strict=True):
+        rows, part = sel[start:end], info.slice(int(start), int(end - start))
+        gi, gio = _gather(ints, int_off, rows)
+        gr, gro = _gather(reals, real_off, rows)
         out.append(StoredModels(
-            keys[start][0], keys[start][1],
-            np.asarray(part.column("part_id").to_numpy(), dtype=np.int64),
-            ints.astype(np.int64), io, reals.astype(float), ro,
+            part.column("source")[0].as_py(), part.column("family")[0].as_py(),
+            part_id[start:end].copy(), np.asarray(gi, dtype=np.int64), gio,
+            np.asarray(gr, dtype=float), gro,
             part.column("source_file").to_pylist(), part.column("subckt").to_pylist(),
-            part.column("imported_at").to_pylist(), part.column("note").to_pylist()))
-        start = end
+            _datetimes(part.column("imported_at")), part.column("note").to_pylist()))
     return out
+
+
+def _gather(values: NDArray, offsets: NDArray[np.int64],
+            rows: NDArray[np.int64]) -> tuple[NDArray, NDArray[np.int64]]:
+    """The lists of ``rows`` (flat values with offsets) one after another, and their offsets."""
+    lens = offsets[rows + 1] - offsets[rows]
+    new = np.zeros(len(rows) + 1, dtype=np.int64)
+    np.cumsum(lens, out=new[1:])
+    pos = np.repeat(offsets[rows] - new[:-1], lens) + np.arange(new[-1])
+    return values[pos], new
+
+
+def _datetimes(column: Any) -> list[datetime | None]:
+    """A timestamp column as datetimes (None for NULL), converted in numpy, not per value."""
+    values = column.combine_chunks().to_numpy(zero_copy_only=False)
+    return values.astype("datetime64[us]").astype(object).tolist()
+
+
+def _codes(column: Any) -> NDArray[np.int64]:
+    """Integer codes of a string column (equal strings, equal codes)."""
+    import pyarrow.compute as pc
+    return np.asarray(pc.dictionary_encode(column).combine_chunks().indices, dtype=np.int64)
+
+
+def _newest_in_order(meta: Any) -> NDArray[np.int64]:
+    """Positions in ``meta`` (part_id, row, source, family, imported_at) of the newest model
+    of each (part, source), ordered by source, family and part: the sorting is done on the
+    small columns, so that the packed lists move once (sorting them inside the query cost more
+    than the rest of the read)."""
+    import pyarrow.compute as pc
+
+    newest = np.asarray(pc.sort_indices(meta, sort_keys=[
+        ("source", "ascending"), ("part_id", "ascending"), ("imported_at", "descending"),
+        ("row", "descending")]), dtype=np.int64)
+    ordered = meta.take(newest)
+    pid = np.asarray(ordered.column("part_id").to_numpy(), dtype=np.int64)
+    src = _codes(ordered.column("source"))
+    first = np.r_[True, (pid[1:] != pid[:-1]) | (src[1:] != src[:-1])]
+    kept = newest[first]
+    order = np.asarray(pc.sort_indices(meta.take(kept), sort_keys=[
+        ("source", "ascending"), ("family", "ascending"), ("part_id", "ascending")]),
+        dtype=np.int64)
+    return kept[order]
 
 
 @dataclass(frozen=True)
