@@ -47,7 +47,7 @@ _NOARGS = _classes("NoArgsIsHelpError")
 
 
 ORDER = ("find", "show", "curve", "alternates", "bom", "inductive", "decouple", "import",
-         "demo", "sweep", "fit", "export")
+         "demo", "sweep", "fit", "model", "export")
 
 
 class _Group(TyperGroup):

@@ -30,6 +30,7 @@ from partsel.engine.netlist_shape import (
     Topology,
     compile_topology,
     mna_code,
+    run_program,
     run_programs,
     shape,
     shape_id,
@@ -39,6 +40,7 @@ from partsel.errors import ModelError
 
 TWO_PI = 2.0 * np.pi
 _I64 = np.int64
+_ROWS_PER_SHAPE = 64   # points per series-parallel shape from which shapes are run one by one
 
 
 def _offsets(lengths: NDArray) -> NDArray[np.int64]:
@@ -218,9 +220,15 @@ class NetlistSet:
         for k, (_, idx, _) in enumerate(self.groups()):
             gid[idx] = k
         mine_g = gid[owner]
-        prog = self._programs()
-        sp_row = prog["is_sp"][owner]
-        if sp_row.any():
+        order = np.argsort(mine_g, kind="stable")
+        cuts = np.searchsorted(mine_g[order], np.arange(len(self.groups()) + 1))
+        is_sp = np.array([isinstance(sh, SPShape) for sh, _, _ in self.groups()])
+        sp_row = is_sp[mine_g]
+        shapes_used = int(np.count_nonzero(is_sp & (np.diff(cuts) > 0)))
+        by_shape = not derivative and shapes_used * _ROWS_PER_SHAPE <= int(sp_row.sum())
+        if sp_row.any() and not by_shape:
+            # many shapes, few points each: one padded pass over all of them
+            prog = self._programs()
             sel = np.flatnonzero(sp_row)
             p = owner[sel]
             zz, dd = run_programs(prog["kinds"][p], prog["vals"][p], prog["op"][p],
@@ -228,11 +236,14 @@ class NetlistSet:
             z[sel] = zz
             if dz is not None:
                 dz[sel] = dd
-        order = np.argsort(mine_g, kind="stable")
-        cuts = np.searchsorted(mine_g[order], np.arange(len(self.groups()) + 1))
         for k, (sh, _, vals) in enumerate(self.groups()):
             sel = order[cuts[k]:cuts[k + 1]]
-            if not len(sel) or isinstance(sh, SPShape):
+            if not len(sel):
+                continue
+            if isinstance(sh, SPShape):
+                if by_shape:   # few shapes, many points each: column by column per shape
+                    z[sel] = run_program(sh.kinds, *sh.program(), vals[pos[owner[sel]]],
+                                         s[sel])
                 continue
             v = vals[pos[owner[sel]]]
             if derivative:

@@ -260,6 +260,31 @@ def run_programs(kinds: NDArray, vals: NDArray, op: NDArray, left: NDArray, righ
     return z[:, -1], (dz[:, -1] if dz is not None else None)
 
 
+def run_program(kinds: NDArray, op: NDArray, left: NDArray, right: NDArray,
+                vals: NDArray[np.float64], s: NDArray[np.complex128]) -> NDArray[np.complex128]:
+    """Evaluate K networks of one series-parallel shape, one complex frequency each: its leaf
+    ``kinds`` and binary steps (:meth:`SPShape.program`), ``vals`` (K, m), ``s`` (K,). Each
+    leaf and step is one operation on a contiguous column of the K parts; the arithmetic of
+    :func:`run_programs`, so the same numbers, and much faster when many parts share a shape
+    (a maker's library)."""
+    m, n_steps = len(kinds), len(op)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        vt = np.ascontiguousarray(np.asarray(vals, dtype=float).T)
+        zz = np.zeros((m + n_steps, len(s)), dtype=complex)
+        for j, kind in enumerate(kinds):
+            if kind == R:
+                zz[j] = vt[j]
+            elif kind == L:
+                zz[j] = vt[j] * s
+            elif kind == C:
+                zz[j] = 1.0 / (vt[j] * s)
+        for t in range(n_steps):
+            a, b = zz[left[t]], zz[right[t]]
+            tot = a + b
+            zz[m + t] = a * b / tot if op[t] == PARALLEL else tot
+    return zz[-1]
+
+
 def _solve_or_nan(m: NDArray, rhs: NDArray) -> NDArray:
     """Batched solve; a matrix that is singular (a frequency exactly at a natural frequency)
     gives NaN instead of stopping the batch."""

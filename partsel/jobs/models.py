@@ -16,7 +16,8 @@ The DC-bias policy (:func:`bias_ratio_columns`) is the one every job applies to 
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
+from functools import cached_property
 from typing import Any
 
 import numpy as np
@@ -175,21 +176,44 @@ class Chosen:
         """Per part: its measured curve covers the band (False for other models)."""
         return (self.measured_lo <= band[0]) & (band[1] <= self.measured_hi)
 
-    @property
+    @cached_property
     def family(self) -> NDArray[np.object_]:
         return self.models.family_names()
 
+    @cached_property
+    def _label_masks(self) -> list[tuple[str, NDArray[np.intp]]]:
+        """(label, positions) of each kind of model in use: a comparison per source and
+        family, not one string per part (a catalog has a million parts)."""
+        out = []
+        for g in self.models.groups:
+            word = "curve" if g.family.name == "measured" else g.family.name
+            rest, src = g.index, self.source[g.index]
+            for s in sorted(SOURCE_WORDS, key=lambda x: x != "catalog"):
+                if not len(rest):
+                    break
+                hit = src == s
+                if hit.any():
+                    out.append((f"{SOURCE_WORDS[s]} {word}", rest[hit]))
+                    rest, src = rest[~hit], src[~hit]
+        return out
+
     def labels(self) -> list[str]:
         """Per part, e.g. "vendor netlist", "catalog rlc" or "measured curve"."""
-        return [f"{SOURCE_WORDS[s]} {'curve' if f == 'measured' else f}"
-                for s, f in zip(self.source, self.family, strict=True)]
+        out = np.empty(self.n, dtype=object)
+        for label, pos in self._label_masks:
+            out[pos] = label
+        return out.tolist()
+
+    @property
+    def n(self) -> int:
+        return len(self.source)
 
     def summary(self) -> str:
         """One line for the effects of a result: how many parts use which model."""
         counts: dict[str, int] = {}
-        for lab, ok in zip(self.labels(), self.available, strict=True):
-            if ok:
-                counts[lab] = counts.get(lab, 0) + 1
+        for lab, pos in self._label_masks:
+            counts[lab] = counts.get(lab, 0) + int(np.count_nonzero(self.available[pos]))
+        counts = {k: v for k, v in counts.items() if v}
         return "models: " + ", ".join(f"{lab} for {n} part{'s' if n != 1 else ''}"
                                       for lab, n in sorted(counts.items(), key=lambda x: -x[1]))
 
@@ -219,7 +243,9 @@ def _replace(models: ModelSet, positions: NDArray[np.intp], fam_name: str,
     """``models`` with the parts at ``positions`` replaced by the parts of ``batch``."""
     if not len(positions):
         return models
-    keep = np.setdiff1d(np.arange(len(models)), positions)
+    mask = np.ones(len(models), dtype=bool)
+    mask[positions] = False
+    keep = np.flatnonzero(mask)
     kept = models.take(keep)
     groups = [Group(g.family, keep[g.index], g.batch) for g in kept.groups]
     groups.append(Group(family(fam_name), positions, batch))
@@ -237,26 +263,28 @@ def choose_models(store: Any, ids: NDArray, base: ModelSet, choice: str = "best"
     check_choice(choice)
     ids = np.asarray(ids, dtype=np.int64)
     n = len(ids)
-    source = np.full(n, "catalog", dtype=object)
-    origin = np.full(n, "catalog columns", dtype=object)
+    source, origin = _filled(n, "catalog"), _filled(n, "catalog columns")
     models = base
     pref = PREFERENCE[choice]
-    where = {int(i): k for k, i in enumerate(ids)}
-    stored = stored_models(store, ids=ids) if n else []
-    for rank in ("fit", "vendor"):
-        if rank == "vendor" and "vendor" not in pref:
-            continue
+    ranks = ("fit", "vendor") if "vendor" in pref else ("fit",)
+    stored = stored_models(store, ids=ids, sources=ranks) if n else []
+    lo, hi = np.full(n, np.nan), np.full(n, np.nan)
+    for rank in ranks:
         for grp in stored:
             if grp.source != rank:
                 continue
-            pos = np.array([where[int(i)] for i in grp.part_id], dtype=np.intp)
+            pos = _positions(ids, grp.part_id)
             fam = family(grp.family)
             batch = fam.unpack(grp.ints, grp.int_offsets, grp.reals, grp.real_offsets)
+            if grp.family == "measured":
+                # a maker's measured curve answers within its range, like a stored sweep; the
+                # catalog model outside it (unless only)
+                batch = replace(batch, fallback=tuple(
+                    None if only else base.take(np.array([k])) for k in pos))
+                lo[pos], hi[pos] = fam.measured_span(batch)
             models = _replace(models, pos, grp.family, batch)
             source[pos] = rank
-            for k, p in enumerate(pos):
-                origin[p] = _origin(grp.source_file[k], grp.subckt[k], grp.imported_at[k])
-    lo, hi = np.full(n, np.nan), np.full(n, np.nan)
+            origin[pos] = _origins(grp.source_file, grp.subckt, grp.imported_at)
     if "measured" in pref:
         models = _with_curves(store, ids, models, source, origin, (lo, hi), only, value,
                               tan_delta)
@@ -266,9 +294,50 @@ def choose_models(store: Any, ids: NDArray, base: ModelSet, choice: str = "best"
     return Chosen(models, source, origin, available, lo, hi)
 
 
+def _filled(n: int, text: str) -> NDArray[np.object_]:
+    """An object array of ``n`` times ``text`` (np.full is 30x slower for objects)."""
+    out = np.empty(n, dtype=object)
+    out.fill(text)
+    return out
+
+
+def _origins(files: Sequence[str | None], subckts: Sequence[str | None],
+             ats: Sequence[Any]) -> NDArray[np.object_]:
+    """:func:`_origin` of many models: joined as whole columns when every file and date is
+    there and the subcircuits are all there or all absent (a maker's import), else one by
+    one."""
+    days: dict[Any, str | None] = {}
+    for at in ats:
+        if at not in days:
+            days[at] = f"{at:%Y-%m-%d}" if hasattr(at, "strftime") else None
+    when = np.array([days[at] for at in ats], dtype=object)
+    f = np.array(files, dtype=object)
+    sub = np.array(subckts, dtype=object)
+    has_sub = np.array([x is not None and x != "" for x in subckts], dtype=bool)
+    plain = all(x for x in files) and all(w is not None for w in when)
+    if plain and has_sub.all():
+        return f + ", subcircuit " + sub + ", imported " + when
+    if plain and not has_sub.any():
+        return f + ", imported " + when
+    return np.array([_origin_text(a, b, c) for a, b, c in zip(files, subckts, when,
+                                                              strict=True)], dtype=object)
+
+
+def _positions(ids: NDArray[np.int64], wanted: NDArray[np.int64]) -> NDArray[np.intp]:
+    """Where each of ``wanted`` stands in ``ids`` (every one is there; of repeated ids, the
+    last)."""
+    order = np.argsort(ids, kind="stable")
+    at = np.searchsorted(ids[order], np.asarray(wanted, dtype=np.int64), side="right") - 1
+    return order[at].astype(np.intp)
+
+
 def _origin(source_file: str | None, subckt: str | None, at: Any) -> str:
-    parts = [x for x in (source_file, f"subcircuit {subckt}" if subckt else None) if x]
     when = f"{at:%Y-%m-%d}" if hasattr(at, "strftime") else None
+    return _origin_text(source_file, subckt, when)
+
+
+def _origin_text(source_file: str | None, subckt: str | None, when: str | None) -> str:
+    parts = [x for x in (source_file, f"subcircuit {subckt}" if subckt else None) if x]
     return ", ".join(parts + ([f"imported {when}"] if when else [])) or "stored model"
 
 
@@ -279,7 +348,9 @@ def _with_curves(store: Any, ids: NDArray, models: ModelSet, source: NDArray, or
     from partsel.store.sweeps import latest_sweeps_by_id
 
     sweeps = latest_sweeps_by_id(store)
-    pos = np.array([k for k, i in enumerate(ids) if int(i) in sweeps], dtype=np.intp)
+    if not sweeps:
+        return models
+    pos = np.flatnonzero(np.isin(ids, np.fromiter(sweeps, dtype=np.int64, count=len(sweeps))))
     if not len(pos):
         return models
     fam = family("measured")

@@ -7,6 +7,7 @@ as flat arrays with offsets (no Python object per model); writing is one transac
 
 from __future__ import annotations
 
+import re
 from collections.abc import Sequence
 from dataclasses import dataclass
 from datetime import datetime
@@ -18,6 +19,7 @@ from numpy.typing import NDArray
 from partsel.store.db import Store
 
 SOURCES = ("vendor", "fit")
+_JOIN_IDS = 20_000      # up to this many part ids are filtered in the query, more after it
 
 
 @dataclass(frozen=True)
@@ -45,7 +47,8 @@ def _flat(column: Any) -> tuple[NDArray, NDArray]:
     arr = column.combine_chunks() if isinstance(column, pa.ChunkedArray) else column
     arr = pc.fill_null(arr, pa.scalar([], type=arr.type))
     offsets = np.asarray(arr.offsets, dtype=np.int64)
-    values = np.asarray(arr.values.to_numpy(zero_copy_only=False))
+    # flatten() holds the values of this (possibly sliced) array only, as the offsets below
+    values = np.asarray(arr.flatten().to_numpy(zero_copy_only=False))
     return values, offsets - offsets[0] if len(offsets) else offsets
 
 
@@ -55,10 +58,13 @@ def _arrow(relation: Any) -> Any:
     return get()
 
 
-def _settle(con: Any) -> None:
-    """Finish any result the connection still holds (an earlier fetchone): DuckDB 2 refuses
-    to register a table or build a relation while one is pending."""
-    con.execute("SELECT 1").fetchall()
+def _register(store: Store, name: str, table: Any) -> None:
+    """Register an Arrow table as a view; a result left open by an earlier ``fetchone`` is
+    finished first (DuckDB 2 refuses to register while one is open)."""
+    complete = getattr(store.con, "complete", None)
+    if complete is not None:
+        complete()
+    store.con.register(name, table)
 
 
 def has_models(store: Store) -> bool:
@@ -71,6 +77,8 @@ def stored_models(store: Store, *, kind: str | None = None,
                   sources: Sequence[str] = SOURCES) -> list[StoredModels]:
     """The stored models of the parts of ``kind`` (or the given part ids), grouped by source
     and family, newest first within a part (one row per part and source is kept)."""
+    import pyarrow as pa
+
     if not has_models(store):
         return []
     conds = ["list_contains(?, m.source)"]
@@ -78,38 +86,103 @@ def stored_models(store: Store, *, kind: str | None = None,
     if kind is not None:
         conds.append("p.kind = ?")
         params.append(kind)
-    if ids is not None:
-        conds.append("list_contains(?, p.id)")
-        params.append([int(i) for i in ids])
-    _settle(store.con)
-    table = store.con.sql(
-        "SELECT p.id AS part_id, m.source, m.family, m.ints, m.reals, m.source_file, "
-        "m.subckt, m.imported_at, m.note FROM models m JOIN parts p "
-        "ON p.maker = m.maker AND p.part_number = m.part_number "
-        f"WHERE {' AND '.join(conds)} "
-        "QUALIFY row_number() OVER (PARTITION BY p.id, m.source "
-        "ORDER BY m.imported_at DESC, m.rowid DESC) = 1 "
-        "ORDER BY m.source, m.family, p.id", params=params)
-    table = _arrow(table)
-    if table.num_rows == 0:
+    wanted = None if ids is None else np.asarray(ids, dtype=np.int64)
+    joined = wanted is not None and len(wanted) <= _JOIN_IDS
+    if joined:
+        # a semi join on a registered column (a bound list would be searched once per model)
+        conds.append("p.id IN (SELECT id FROM partsel_model_ids)")
+        _register(store, "partsel_model_ids", pa.table({"id": pa.array(wanted)}))
+    try:
+        # two reads: which part each model row belongs to (a join of two small columns), and
+        # the rows themselves; joining the packed lists inside the query costs twice as much
+        keys = store.con.execute(
+            "SELECT m.rowid AS row, p.id AS part_id FROM models m JOIN parts p "
+            "ON p.maker = m.maker AND p.part_number = m.part_number "
+            f"WHERE {' AND '.join(conds)}", params).fetchnumpy()
+        table = _arrow(store.con.sql(
+            "SELECT rowid AS row, source, family, ints, reals, source_file, subckt, "
+            "imported_at, note FROM models WHERE list_contains(?, source)",
+            params=[list(sources)]))
+    finally:
+        if joined:
+            store.con.unregister("partsel_model_ids")
+    row, part_id = (np.asarray(keys[k], dtype=np.int64) for k in ("row", "part_id"))
+    if wanted is not None and not joined:
+        # many candidates (a band search over a catalog): cheaper to keep theirs here
+        keep = np.isin(part_id, wanted)
+        row, part_id = row[keep], part_id[keep]
+    if not len(row) or table.num_rows == 0:
         return []
-    source = table.column("source").to_pylist()
-    family = table.column("family").to_pylist()
-    keys = list(zip(source, family, strict=True))
+    rowids = np.asarray(table.column("row").to_numpy(), dtype=np.int64)
+    by_row = np.argsort(rowids)
+    at = by_row[np.searchsorted(rowids[by_row], row)]
+    meta = table.select(["row", "source", "family", "imported_at"]).take(at)
+    meta = meta.append_column("part_id", pa.array(part_id))
+    order = _newest_in_order(meta)
+    sel = at[order]
+    info = table.select(["source", "family", "source_file", "subckt", "imported_at",
+                         "note"]).take(sel)
+    ints, int_off = _flat(table.column("ints"))
+    reals, real_off = _flat(table.column("reals"))
+    part_id = part_id[order]
+    source = _codes(info.column("source"))
+    family = _codes(info.column("family"))
+    cuts = np.flatnonzero((source[1:] != source[:-1]) | (family[1:] != family[:-1])) + 1
     out = []
-    start = 0
-    for end in [i for i in range(1, len(keys)) if keys[i] != keys[i - 1]] + [len(keys)]:
-        part = table.slice(start, end - start)
-        ints, io = _flat(part.column("ints"))
-        reals, ro = _flat(part.column("reals"))
+    for start, end in zip(np.r_[0, cuts], np.r_[cuts, len(sel)], strict=True):
+        rows, part = sel[start:end], info.slice(int(start), int(end - start))
+        gi, gio = _gather(ints, int_off, rows)
+        gr, gro = _gather(reals, real_off, rows)
         out.append(StoredModels(
-            keys[start][0], keys[start][1],
-            np.asarray(part.column("part_id").to_numpy(), dtype=np.int64),
-            ints.astype(np.int64), io, reals.astype(float), ro,
+            part.column("source")[0].as_py(), part.column("family")[0].as_py(),
+            part_id[start:end].copy(), np.asarray(gi, dtype=np.int64), gio,
+            np.asarray(gr, dtype=float), gro,
             part.column("source_file").to_pylist(), part.column("subckt").to_pylist(),
-            part.column("imported_at").to_pylist(), part.column("note").to_pylist()))
-        start = end
+            _datetimes(part.column("imported_at")), part.column("note").to_pylist()))
     return out
+
+
+def _gather(values: NDArray, offsets: NDArray[np.int64],
+            rows: NDArray[np.int64]) -> tuple[NDArray, NDArray[np.int64]]:
+    """The lists of ``rows`` (flat values with offsets) one after another, and their offsets."""
+    lens = offsets[rows + 1] - offsets[rows]
+    new = np.zeros(len(rows) + 1, dtype=np.int64)
+    np.cumsum(lens, out=new[1:])
+    pos = np.repeat(offsets[rows] - new[:-1], lens) + np.arange(new[-1])
+    return values[pos], new
+
+
+def _datetimes(column: Any) -> list[datetime | None]:
+    """A timestamp column as datetimes (None for NULL), converted in numpy, not per value."""
+    values = column.combine_chunks().to_numpy(zero_copy_only=False)
+    return values.astype("datetime64[us]").astype(object).tolist()
+
+
+def _codes(column: Any) -> NDArray[np.int64]:
+    """Integer codes of a string column (equal strings, equal codes)."""
+    import pyarrow.compute as pc
+    return np.asarray(pc.dictionary_encode(column).combine_chunks().indices, dtype=np.int64)
+
+
+def _newest_in_order(meta: Any) -> NDArray[np.int64]:
+    """Positions in ``meta`` (part_id, row, source, family, imported_at) of the newest model
+    of each (part, source), ordered by source, family and part: the sorting is done on the
+    small columns, so that the packed lists move once (sorting them inside the query cost more
+    than the rest of the read)."""
+    import pyarrow.compute as pc
+
+    newest = np.asarray(pc.sort_indices(meta, sort_keys=[
+        ("source", "ascending"), ("part_id", "ascending"), ("imported_at", "descending"),
+        ("row", "descending")]), dtype=np.int64)
+    ordered = meta.take(newest)
+    pid = np.asarray(ordered.column("part_id").to_numpy(), dtype=np.int64)
+    src = _codes(ordered.column("source"))
+    first = np.r_[True, (pid[1:] != pid[:-1]) | (src[1:] != src[:-1])]
+    kept = newest[first]
+    order = np.asarray(pc.sort_indices(meta.take(kept), sort_keys=[
+        ("source", "ascending"), ("family", "ascending"), ("part_id", "ascending")]),
+        dtype=np.int64)
+    return kept[order]
 
 
 @dataclass(frozen=True)
@@ -149,8 +222,7 @@ def replace_models(store: Store, rows: Sequence[ModelRow], *, reason: str) -> in
                           type=pa.list_(pa.float64())),
         "note": [r.note for r in rows]})
     con = store.con
-    _settle(con)
-    con.register("partsel_new_models", new)
+    _register(store, "partsel_new_models", new)
     con.execute("BEGIN TRANSACTION")
     try:
         con.execute(
@@ -179,3 +251,181 @@ def model_text(store: Store, maker: str, part_number: str, source: str) -> str |
                             [maker, part_number, source]).fetchone()
     return row[0] if row else None
 
+
+
+# -- the parts that makers' files name ---------------------------------------------------------
+
+CANDIDATE_COLUMNS = ("id", "maker", "part_number", "kind", "value", "value_source", "esr", "esl",
+                     "tan_delta", "dcr", "srf", "rp")
+
+
+def alnum_key(text: str) -> str:
+    """The ASCII letters and digits of a name, in lower case: what a part number keeps in its
+    SPICE-safe form (which turns every other character into ``_`` and may put a ``P`` first)."""
+    return _NOT_ALNUM.sub("", text).lower()
+
+
+_NOT_ALNUM = re.compile(r"[^A-Za-z0-9]")
+
+
+def part_candidates(store: Store, names: Sequence[str], *,
+                    maker: str | None = None) -> list[dict[str, Any]]:
+    """The parts each of ``names`` may stand for, by tier: 0 the exact part number, 1 the part
+    number in another letter case (as :meth:`Store.find_part` compares), 2 a part number with
+    the same letters and digits (:func:`alnum_key`, with or without a leading ``p``): the
+    candidates for a SPICE-safe form, which the caller confirms. ``maker`` keeps the parts of
+    that maker (any letter case). Each row: ``idx`` (the position in ``names``), ``tier`` and
+    :data:`CANDIDATE_COLUMNS`; a part may appear at several tiers."""
+    import pyarrow as pa
+
+    if not names:
+        return []
+    keys = [alnum_key(n) for n in names]
+    _register(store, "partsel_names", pa.table({
+        "idx": pa.array(range(len(names)), type=pa.int64()),
+        "name": pa.array(list(names), type=pa.string()),
+        "akey": pa.array(keys, type=pa.string()),
+        "akey2": pa.array([k[1:] if k.startswith("p") else None for k in keys],
+                          type=pa.string())}))
+    cols = ", ".join(f'p."{c}"' for c in CANDIDATE_COLUMNS)
+    where, params = ("WHERE lower(maker) = lower(?)", [maker]) if maker else ("", [])
+    try:
+        cur = store.con.execute(
+            f"WITH p AS (SELECT *, lower(regexp_replace(part_number, '[^A-Za-z0-9]', '', 'g')) "
+            f"AS akey FROM parts {where}) "
+            f"SELECT n.idx, 0 AS tier, {cols} FROM partsel_names n JOIN p "
+            "ON p.part_number = n.name "
+            f"UNION ALL SELECT n.idx, 1, {cols} FROM partsel_names n JOIN p "
+            "ON lower(p.part_number) = lower(n.name) "
+            f"UNION ALL SELECT n.idx, 2, {cols} FROM partsel_names n JOIN p "
+            "ON p.akey = n.akey "
+            f"UNION ALL SELECT n.idx, 2, {cols} FROM partsel_names n JOIN p "
+            "ON p.akey = n.akey2 "
+            "ORDER BY 1, 2, 3", params)
+        names_out = [d[0] for d in cur.description]
+        rows = cur.fetchall()
+    finally:
+        store.con.unregister("partsel_names")
+    out = []
+    for r in rows:
+        d = dict(zip(names_out, r, strict=True))
+        out.append({k: (None if isinstance(v, float) and v != v else v) for k, v in d.items()})
+    return out
+
+
+def makers_like(store: Store, maker: str) -> list[str]:
+    """The stored makers whose name equals ``maker`` in any letter case."""
+    return [r[0] for r in store.con.execute(
+        "SELECT DISTINCT maker FROM parts WHERE lower(maker) = lower(?) ORDER BY 1",
+        [maker]).fetchall()]
+
+
+def all_makers(store: Store) -> list[str]:
+    return [r[0] for r in store.con.execute(
+        "SELECT DISTINCT maker FROM parts ORDER BY 1").fetchall()]
+
+
+# -- listing, showing and removing stored models -----------------------------------------------
+
+_LIST_COLS = ("maker", "part_number", "source", "family", "source_file", "subckt",
+              "imported_at", "note")
+
+
+def existing_models(store: Store, keys: Sequence[tuple[str, str]],
+                    source: str) -> dict[tuple[str, str], dict[str, Any]]:
+    """(maker, part_number) -> the newest stored model of ``source`` of those parts that have
+    one (family, source_file, subckt, imported_at)."""
+    import pyarrow as pa
+
+    if not keys or not has_models(store):
+        return {}
+    _register(store, "partsel_keys", pa.table({
+        "maker": pa.array([k[0] for k in keys], type=pa.string()),
+        "part_number": pa.array([k[1] for k in keys], type=pa.string())}))
+    try:
+        rows = store.con.execute(
+            "SELECT m.maker, m.part_number, m.family, m.source_file, m.subckt, m.imported_at "
+            "FROM models m SEMI JOIN partsel_keys k USING (maker, part_number) "
+            "WHERE m.source = ? QUALIFY row_number() OVER (PARTITION BY m.maker, "
+            "m.part_number ORDER BY m.imported_at DESC, m.rowid DESC) = 1",
+            [source]).fetchall()
+    finally:
+        store.con.unregister("partsel_keys")
+    return {(r[0], r[1]): {"family": r[2], "source_file": r[3], "subckt": r[4],
+                           "imported_at": r[5]} for r in rows}
+
+
+def _model_filter(maker: str | None, part_number: str | None,
+                  sources: Sequence[str] | None) -> tuple[str, list[Any]]:
+    conds, params = ["TRUE"], []
+    if maker is not None:
+        conds.append("m.maker = ?")
+        params.append(maker)
+    if part_number is not None:
+        conds.append("m.part_number = ?")
+        params.append(part_number)
+    if sources is not None:
+        conds.append("list_contains(?, m.source)")
+        params.append(list(sources))
+    return " AND ".join(conds), params
+
+
+def list_models(store: Store, *, maker: str | None = None, part_number: str | None = None,
+                sources: Sequence[str] | None = None,
+                limit: int = 0) -> tuple[list[dict[str, Any]], int]:
+    """Stored models (provenance only, with the part's kind), by maker, part number and source,
+    newest first within a part; at most ``limit`` of them (0: all). Returns (rows, total)."""
+    where, params = _model_filter(maker, part_number, sources)
+    total = int(store.con.execute(f"SELECT count(*) FROM models m WHERE {where}",
+                                  params).fetchone()[0])
+    tail = f" LIMIT {int(limit)}" if limit else ""
+    cur = store.con.execute(
+        f"SELECT {', '.join('m.' + c for c in _LIST_COLS)}, p.kind FROM models m LEFT JOIN "
+        "(SELECT DISTINCT maker, part_number, kind FROM parts) p "
+        f"USING (maker, part_number) WHERE {where} "
+        "ORDER BY m.maker, m.part_number, m.source, m.imported_at DESC, m.rowid DESC" + tail,
+        params)
+    names = [d[0] for d in cur.description]
+    return [dict(zip(names, r, strict=True)) for r in cur.fetchall()], total
+
+
+def model_entries(store: Store, maker: str, part_number: str,
+                  sources: Sequence[str] | None = None) -> list[dict[str, Any]]:
+    """Every stored model of one part, newest first: provenance, the text as read and the
+    packed form (``ints``, ``reals`` as numpy arrays)."""
+    where, params = _model_filter(maker, part_number, sources)
+    cur = store.con.execute(
+        f"SELECT {', '.join('m.' + c for c in _LIST_COLS)}, m.text, m.ints, m.reals "
+        f"FROM models m WHERE {where} ORDER BY m.source, m.imported_at DESC, m.rowid DESC",
+        params)
+    names = [d[0] for d in cur.description]
+    out = []
+    for r in cur.fetchall():
+        d = dict(zip(names, r, strict=True))
+        d["ints"] = np.asarray(d["ints"] or [], dtype=np.int64)
+        d["reals"] = np.asarray(d["reals"] or [], dtype=float)
+        out.append(d)
+    return out
+
+
+def remove_models(store: Store, maker: str, part_number: str, sources: Sequence[str], *,
+                  reason: str) -> int:
+    """Delete a part's stored models of ``sources``, each kept in ``model_history`` with
+    ``reason`` (as :func:`replace_models` keeps a replaced one), in one transaction. Returns
+    the count removed."""
+    store.require_write("remove models")
+    where, params = _model_filter(maker, part_number, sources)
+    con = store.con
+    con.execute("BEGIN TRANSACTION")
+    try:
+        con.execute(
+            "INSERT INTO model_history SELECT m.maker, m.part_number, now(), ?, "
+            "json_object('source', m.source, 'family', m.family, 'source_file', m.source_file, "
+            "'subckt', m.subckt, 'imported_at', CAST(m.imported_at AS VARCHAR)) "
+            f"FROM models m WHERE {where}", [reason, *params])
+        n = con.execute(f"DELETE FROM models m WHERE {where}", params).fetchone()[0]
+        con.execute("COMMIT")
+    except BaseException:
+        con.execute("ROLLBACK")
+        raise
+    return int(n)

@@ -67,6 +67,37 @@ def _segments(flat: NDArray, starts: NDArray, lens: NDArray) -> tuple[NDArray, N
     return flat[pos], off
 
 
+def _extreme(owner: NDArray[np.intp], f: NDArray[np.float64], z: NDArray[np.float64], n: int,
+             *, largest: bool) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+    """Per part, the largest (or smallest) |Z| among its candidates and where (NaN ignored
+    unless a part has nothing else; the first candidate wins a tie)."""
+    zz = np.where(np.isnan(z), -np.inf if largest else np.inf, z)
+    pick = np.lexsort((-zz if largest else zz, owner))
+    first = np.r_[True, owner[pick][1:] != owner[pick][:-1]]
+    out_z, out_f = np.full(n, np.nan), np.full(n, np.nan)
+    out_z[owner[pick][first]], out_f[owner[pick][first]] = z[pick][first], f[pick][first]
+    return out_z, out_f
+
+
+def _unique_rows(codes: NDArray[np.int64]) -> tuple[NDArray[np.int64], NDArray[np.intp]]:
+    """The distinct rows of ``codes`` and, per row, which one it is (as ``np.unique(codes,
+    axis=0, return_inverse=True)``, whose row sort is slow on a hundred thousand rows): rows
+    are grouped by a 64-bit hash, and the grouping is kept only when every row equals its
+    group's first row (exact; a collision falls back to the sort)."""
+    if len(codes) == 0:
+        return codes[:0], np.empty(0, dtype=np.intp)
+    weights = (np.arange(1, codes.shape[1] + 1, dtype=np.uint64)
+               * np.uint64(0x9E3779B97F4A7C15)) | np.uint64(1)
+    with np.errstate(over="ignore"):
+        h = (codes.astype(np.uint64) * weights).sum(axis=1, dtype=np.uint64)
+    _, first, inv = np.unique(h, return_index=True, return_inverse=True)
+    inv = inv.ravel()
+    if not np.array_equal(codes, codes[first[inv]]):
+        uniq, inv2 = np.unique(codes, axis=0, return_inverse=True)
+        return uniq, inv2.ravel().astype(np.intp)
+    return codes[first], inv.astype(np.intp)
+
+
 class Netlist(Family):
     name = "netlist"
     kinds = ("capacitor", "inductor")
@@ -120,21 +151,14 @@ class Netlist(Family):
     def band(self, batch: NetBatch, f1: float, f2: float) -> BandExtrema:
         owner, f, z = self._candidates(batch, f1, f2)
         n = len(batch.net)
-        out = BandExtrema.empty(n)
-        zz = np.where(np.isnan(z), -np.inf, z)
-        hi = np.lexsort((-zz, owner))
-        first = np.r_[True, owner[hi][1:] != owner[hi][:-1]]
-        out.max_z[owner[hi][first]], out.f_max[owner[hi][first]] = z[hi][first], f[hi][first]
-        zz = np.where(np.isnan(z), np.inf, z)
-        lo = np.lexsort((zz, owner))
-        first = np.r_[True, owner[lo][1:] != owner[lo][:-1]]
-        out.min_z[owner[lo][first]], out.f_min[owner[lo][first]] = z[lo][first], f[lo][first]
-        return out
+        max_z, f_max = _extreme(owner, f, z, n, largest=True)
+        min_z, f_min = _extreme(owner, f, z, n, largest=False)
+        return BandExtrema(max_z, f_max, min_z, f_min)
 
     def band_max(self, batch: NetBatch, f1: float,
                  f2: float) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
-        ext = self.band(batch, f1, f2)
-        return ext.max_z, ext.f_max
+        owner, f, z = self._candidates(batch, f1, f2)
+        return _extreme(owner, f, z, len(batch.net), largest=True)
 
     def zero_phase(self, batch: NetBatch) -> NDArray[np.float64]:
         ana = batch.analysis
@@ -228,9 +252,9 @@ class Netlist(Family):
         for length in np.unique(lc):
             rows = np.flatnonzero(lc == length)
             codes = ints[cstart[rows][:, None] + np.arange(length)]
-            uniq, inv = np.unique(codes, axis=0, return_inverse=True)
+            uniq, inv = _unique_rows(codes)
             ids = np.array([shape_id(tuple(int(x) for x in u)) for u in uniq], dtype=np.int64)
-            sid[rows] = ids[inv.ravel()]
+            sid[rows] = ids[inv]
         nv = n_el + n_k
         values, _ = _segments(reals, ro[:-1], nv)
         value = reals[ro[:-1] + nv]
