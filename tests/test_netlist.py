@@ -79,7 +79,8 @@ def test_impedance_matches_ngspice(tmp_path):
 
 
 def test_series_parallel_and_nodal_paths_agree():
-    from partsel.engine.netlist_shape import MNAShape, compile_topology, mna_code, shape, topology
+    from partsel.engine.netlist_shape import MNAShape, shape
+    from partsel.engine.netlist_topology import compile_topology, mna_code, topology
     rng = np.random.default_rng(3)
     s = 1j * TWO_PI * np.logspace(3, 9, 13)[None, :]
     for _ in range(20):

@@ -1,7 +1,8 @@
 """Exact impedance of many netlists at once: :class:`NetlistSet`.
 
 A set holds P circuits as flat arrays (no Python objects per part): the process-wide *shape*
-of each (:mod:`partsel.engine.netlist_shape`: topology and element kinds) and its values.
+of each (topology and element kinds; :mod:`partsel.engine.netlist_topology` compiles it,
+:mod:`partsel.engine.netlist_shape` evaluates it) and its values.
 Parts of one shape are evaluated in one numpy pass over (parts x frequencies); series-parallel
 shapes by their reduction tree, bridges and coupled inductors by modified nodal analysis.
 Both are the complex arithmetic of nodal analysis with no approximation. Band metrics are in
@@ -27,15 +28,12 @@ from partsel.engine.netlist_shape import (
     L,
     Shape,
     SPShape,
-    Topology,
-    compile_topology,
-    mna_code,
     run_program,
     run_programs,
     shape,
     shape_id,
-    topology,
 )
+from partsel.engine.netlist_topology import Topology, compile_topology, mna_code, topology
 from partsel.errors import ModelError
 
 TWO_PI = 2.0 * np.pi
