@@ -7,7 +7,7 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import assume, example, given, settings
 from hypothesis import strategies as st
 
 from partsel.engine.circuit import Circuit, Element
@@ -65,6 +65,7 @@ def _grid_features(b):
 
 @settings(max_examples=25)
 @given(st.integers(0, 2**32 - 1), st.integers(5, 16))
+@example(2827, 13)  # a peak 4e8 times the level: |Z| keeps ~eps x that ratio there
 def test_band_metrics_match_a_dense_refined_grid(seed, n):
     rng = np.random.default_rng(seed)
     b = NL.from_circuits([random_ladder(rng, n)])  # R >= 3 mOhm: resonance Q up to ~1e4
@@ -74,7 +75,9 @@ def test_band_metrics_match_a_dense_refined_grid(seed, n):
     zp = ana.zp_f[ana.zp_off[0]:ana.zp_off[1]]
     ext, zc, gmax, gmin = _grid_features(b)
     if NL.approx(b)[0]:
-        pytest.skip("factorization did not verify: grid fallback, flagged approximate")
+        # factorization did not verify: grid fallback, flagged approximate, not the exact path
+        # hypothesis draws another example instead of skipping the whole test
+        assume(False)
     # every refined grid extremum is one of ours: same |Z| to 1e-9 (the value is second
     # order in the location), the location within 1e-4 (a flat extremum of |Z| is located
     # to about sqrt(1e-16) relative by the golden-section search, derived)
@@ -87,6 +90,13 @@ def test_band_metrics_match_a_dense_refined_grid(seed, n):
         return float(grid_z[np.abs(GRID / f - 1) < 0.01].max(initial=0.0))
 
     level = float(np.median(grid_z))
+
+    def rel(zv: float) -> float:
+        # 1e-9, widened where |Z| is far from the network's level: there it is a difference of
+        # much larger quantities and keeps ~eps x the ratio (derived; margin 10 over eps)
+        ratio = max(zv / level, level / zv)
+        return 1e-9 + 10 * np.finfo(float).eps * ratio
+
     for f, zv in ext:
         near = np.abs(st_f / f - 1) < 1e-4
         assert near.any(), (f, st_f)
@@ -95,16 +105,16 @@ def test_band_metrics_match_a_dense_refined_grid(seed, n):
         # relative error ~ 1e-16 x the ratio), so only the location is compared (a lossless
         # loop of the generated ladder, Q far above 1e4)
         if 1e-9 < zv / level < 1e9:
-            assert np.min(np.abs(st_z[near] - zv)) <= 1e-9 * (zv + scale(f))
+            assert np.min(np.abs(st_z[near] - zv)) <= rel(zv) * (zv + scale(f))
     # band extrema: ours bound the grid's and agree with its refined extremes
     e = NL.band(b, F1, F2)
     cand_max = max([gmax] + [zv for _, zv in ext])
     cand_min = min([gmin] + [zv for _, zv in ext])
     if cand_max / level < 1e9:
-        assert e.max_z[0] >= cand_max * (1 - 1e-9)
-        assert e.max_z[0] == pytest.approx(cand_max, rel=1e-9)
+        assert e.max_z[0] >= cand_max * (1 - rel(cand_max))
+        assert e.max_z[0] == pytest.approx(cand_max, rel=rel(cand_max))
     if cand_min / level > 1e-9:
-        assert abs(e.min_z[0] - cand_min) <= 1e-9 * (cand_min + scale(e.f_min[0]))
+        assert abs(e.min_z[0] - cand_min) <= rel(cand_min) * (cand_min + scale(e.f_min[0]))
     # zero phase: every grid sign change is ours (bisection to 1e-12); crossings a grid
     # misses come in pairs
     for f in zc:
