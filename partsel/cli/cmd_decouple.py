@@ -9,6 +9,7 @@ from typing import Annotated, Any
 import typer
 
 from partsel import units
+from partsel.catalog import DEFAULT_LIFECYCLES
 from partsel.cli import options as opt
 from partsel.cli.app import app, echo, note, open_store_for
 from partsel.errors import QueryError
@@ -177,7 +178,9 @@ def decouple_cmd(
         "--maker", metavar="NAME,...", help="Maker name(s).")] = None,
     lifecycle: Annotated[Texts, typer.Option(
         "--lifecycle", metavar="STATE,...",
-        help="Lifecycle states to use: active, nrnd, obsolete (default active).")] = None,
+        help="Lifecycle states to use: active, nrnd, obsolete (default "
+             f"{opt.LIFECYCLES_TEXT}; nrnd parts in the bank are named in the "
+             "notes).")] = None,
     min_voltage: Annotated[str | None, typer.Option(
         "--min-voltage", metavar="V", help="Rated voltage at least V (default: the derated "
         "rating at least the rail voltage, MnO2 tantalum 50 %, polymer 90 % up to a 10 V "
@@ -238,7 +241,7 @@ def decouple_cmd(
                             model_only=model_only, measured=measured,
                             measured_only=measured_only)
         else:
-            life = tuple(x.lower() for x in opt.split_list(lifecycle)) or ("active",)
+            life = tuple(x.lower() for x in opt.split_list(lifecycle)) or DEFAULT_LIFECYCLES
             choice = dec.Choice(
                 cases=opt.split_list(case), technologies=opt.split_list(technology),
                 dielectrics=opt.split_list(dielectric), makers=opt.split_list(maker),

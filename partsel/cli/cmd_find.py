@@ -6,6 +6,7 @@ from typing import Any
 
 import typer
 
+from partsel.catalog import DEFAULT_LIFECYCLES
 from partsel.cli import options as opt
 from partsel.cli.app import app, echo, note, open_store_for
 from partsel.errors import QueryError
@@ -106,7 +107,8 @@ def find_cmd(
     maker: list[str] = typer.Option(None, "--maker", metavar="NAME,...",
                                     help="Keep only these makers."),
     lifecycle: list[str] = typer.Option(None, "--lifecycle", metavar="STATE,...",
-                                        help="Lifecycle states to keep (default active,nrnd)."),
+                                        help="Lifecycle states to keep (default "
+                                             f"{opt.LIFECYCLES_TEXT})."),
     include_obsolete: bool = typer.Option(False, "--include-obsolete",
                                           help="Keep obsolete parts too."),
     in_stock: bool = typer.Option(False, "--in-stock", help="Only parts with stock > 0."),
@@ -181,7 +183,7 @@ def find_cmd(
     if life:
         given["lifecycles"] = tuple(x.lower() for x in life)
     if include_obsolete:
-        given["lifecycles"] = (*(given.get("lifecycles") or ("active", "nrnd")), "obsolete")
+        given["lifecycles"] = (*(given.get("lifecycles") or DEFAULT_LIFECYCLES), "obsolete")
     for k, v in given.items():
         if v not in (None, ()):
             kw[k] = v

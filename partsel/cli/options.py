@@ -8,7 +8,11 @@ from typing import Any
 import typer
 
 from partsel import render, units
+from partsel.catalog import DEFAULT_LIFECYCLES
 from partsel.errors import QueryError
+
+#: the default lifecycle states as the help texts print them
+LIFECYCLES_TEXT = ",".join(DEFAULT_LIFECYCLES)
 
 
 def format_option() -> Any:
