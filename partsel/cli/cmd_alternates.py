@@ -66,9 +66,9 @@ def _passes(cand: Any) -> str:
 def alternates_cmd(
     ctx: typer.Context,
     part: str = typer.Argument(..., metavar="PART", help="Part number of the original."),
-    maker: str = typer.Option(None, "--maker", help="Maker, when several share the number."),
+    maker: str = opt.maker_option(),
     case: Annotated[list[str] | None, typer.Option(
-        "--case", metavar="CODES",
+        "--case", metavar="CASE,...",
         help="Allowed case codes (default: the original's), e.g. 0402,0603.")] = None,
     band: str = typer.Option(None, "--band", metavar="F1..F2",
                              help="Band of the curve rules and distance (default: capacitors "
@@ -95,7 +95,7 @@ def alternates_cmd(
                                   help="Inductors: SRF at least F instead of at least the "
                                        "original's."),
     lifecycle: Annotated[list[str] | None, typer.Option(
-        "--lifecycle", metavar="STATES",
+        "--lifecycle", metavar="STATE,...",
         help="Accepted lifecycle states of a candidate (default "
              f"{opt.LIFECYCLES_TEXT}; nrnd ones are named in the notes), e.g. active.")
     ] = None,
