@@ -449,7 +449,8 @@ def test_a_sweep_outside_the_band_leaves_the_model(make_store):
 def test_text_output_and_plot(cli, mo_store, tmp_path):
     store, _ = mo_store
     png = tmp_path / "z.png"
-    r = cli("--store", store, "decouple", *MO_ARGS, "--model", "measured", "--model-only", "--plot", png)
+    r = cli("--store", store, "decouple", *MO_ARGS, "--model", "measured", "--model-only",
+            "--plot", png)
     assert r.exit_code == 0, r.output
     assert "curve" in r.stdout.splitlines()[2].split()
     assert " measured " in r.stdout.splitlines()[4]

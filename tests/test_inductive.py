@@ -421,7 +421,8 @@ def test_check_from_the_store(store_path):
 
 
 def test_cli_json_rows_and_exit_codes(cli, store_path):
-    r = cli("--store", store_path, "inductive", "L1U", "LNOSRF", "--inductive-to", "20MHz", "-f", "json")
+    r = cli("--store", store_path, "inductive", "L1U", "LNOSRF", "--inductive-to", "20MHz",
+            "-f", "json")
     assert r.exit_code == 0, r.output   # a warning alone exits 0
     rows = json.loads(r.stdout)
     assert [x["verdict"] for x in rows] == ["pass", "warn"]
@@ -462,8 +463,8 @@ def test_cli_current_table_and_csv(cli, store_path):
 
 
 def test_cli_verdicts_with_currents(cli, store_path):
-    r = cli("--store", store_path, "inductive", "L1U", "--inductive-to", "10MHz", "--current", "2.5A",
-            "-f", "json")
+    r = cli("--store", store_path, "inductive", "L1U", "--inductive-to", "10MHz",
+            "--current", "2.5A", "-f", "json")
     row = json.loads(r.stdout)[0]
     # rule of thumb: Isat 3 A >= 2.5 A (margin 1.2, not below 1.2) ; Irms 2 A < 2.5 A -> fail
     assert_allclose(row["isat_margin"], 3 / 2.5, rtol=1e-12)
