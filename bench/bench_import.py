@@ -151,7 +151,7 @@ def main() -> None:
     print(f"  import catalog.csv into a new store        {t:6.2f} s")
     t = best(lambda: run("--store", str(store), "import", str(paths["csv"])))
     print(f"  the same again (every part unchanged)      {t:6.2f} s")
-    t = best(lambda: run("--store", str(store), "import", "--check", str(paths["csv"])))
+    t = best(lambda: run("--store", str(store), "import", "--dry-run", str(paths["csv"])))
     print(f"  import --check catalog.csv                 {t:6.2f} s")
     mapped = ["import", str(paths["foreign"]), "--map", str(OUT / "foreign.toml")]
     t = best(lambda: fresh(*mapped))

@@ -68,6 +68,9 @@ KINDS = ("capacitor", "inductor")
 CAPACITOR_TECHNOLOGIES = ("mlcc", "film", "aluminum", "polymer", "tantalum")
 INDUCTOR_TECHNOLOGIES = ("multilayer", "wirewound", "thin_film", "power")
 LIFECYCLES = ("active", "nrnd", "obsolete")
+# The lifecycle states every job accepts unless told otherwise: not-recommended-for-new-design
+# parts are still sold, so they are candidates (each job marks them in its notes).
+DEFAULT_LIFECYCLES = ("active", "nrnd")
 MOUNTINGS = ("smd", "through_hole")
 
 # Model parameters whose origin the store records next to the value.

@@ -198,10 +198,29 @@ def test_tolerance_lifecycle_and_stock(make_store):
             cap("GONE", lifecycle="obsolete"), cap("EMPTY", stock="0")]
     store = make_store(rows)
     res = run(store, explain=True)
-    assert names(res.candidates) == {"K", "J", "EMPTY"}
-    assert failed(res) == {"M": ["tolerance"], "NRND": ["lifecycle"], "GONE": ["lifecycle"]}
-    assert names(run(store, lifecycles=("active", "nrnd"), in_stock=True).candidates) == {
-        "K", "J", "NRND"}
+    # default: active and nrnd (partsel.catalog.DEFAULT_LIFECYCLES); the nrnd one is named
+    assert names(res.candidates) == {"K", "J", "NRND", "EMPTY"}
+    assert failed(res) == {"M": ["tolerance"], "GONE": ["lifecycle"]}
+    assert any("nrnd" in n and "NRND" in n for n in res.notes)
+    assert names(run(store, lifecycles=("active",), in_stock=True).candidates) == {"K", "J"}
+    active = run(store, lifecycles=("active",), explain=True)
+    assert failed(active)["NRND"] == ["lifecycle"]
+    assert not any("among the candidates" in n for n in active.notes)
+
+
+def test_nrnd_ranks_after_active_only_at_equal_distance(make_store):
+    # N and B are the original's twin but for lifecycle and price: the same distance (0 dB),
+    # and N is cheaper, which alone would rank it first. NB (nrnd, ESL 0.62 nH) matches
+    # better than FAR (active, ESL 0.7 nH): the distance stays the first key.
+    rows = [cap("ORIG"), cap("N", lifecycle="nrnd", price="0.005"), cap("B", price="0.02"),
+            cap("FAR", esl="0.7nH"), cap("NB", lifecycle="nrnd", esl="0.62nH")]
+    res = run(make_store(rows))
+    order = [c.part["part_number"] for c in res.candidates]
+    assert order == ["B", "N", "NB", "FAR"]
+    dist = {c.part["part_number"]: c.distance_db for c in res.candidates}
+    assert dist["B"] == dist["N"] < dist["NB"] < dist["FAR"]
+    assert any("N, NB" in n for n in res.notes)
+    assert "active before nrnd" in res.order
 
 
 def test_rules_the_original_does_not_state_are_skipped(make_store):

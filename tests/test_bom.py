@@ -216,6 +216,18 @@ def test_alternates_are_the_best_active_in_stock(make_store):
     assert [a["part_number"] for a in lines[3].alternates] == ["ACT", "TWIN", "TWIN"]
 
 
+def test_nrnd_alternates_come_after_active_ones_and_are_named(make_store):
+    # NRND is EMPTY's identical twin (0805, the same figures, in stock): accepted by default
+    # (active and nrnd, partsel.catalog.DEFAULT_LIFECYCLES) but listed after the active twins,
+    # although it was stored before them, and named in the notes
+    report = check(make_store(ROWS), "part_number\nEMPTY\n", alternates=4)
+    offered = report.lines[0].alternates
+    assert [a["part_number"] for a in offered] == ["ACT", "TWIN", "TWIN", "NRND"]
+    assert [a["distance_db"] for a in offered] == [0.0] * 4
+    assert report.notes == ["line 2: alternate NRND is nrnd (not recommended for new designs: "
+                            "still sold, nearer the end of production)"]
+
+
 def test_working_voltage_above_the_derated_rating(make_store):
     store = make_store(ROWS)
     text = "part_number,working_voltage\nT16,6V\nT16,10V\nT35,10V\nACT,12V\nACT,20V\n"

@@ -98,7 +98,7 @@ def test_import_check_lists_all_problems_and_writes_nothing(cli, tmp_path):
     cat.write_text("part_number,maker,kind,value,esl\nA,M,capacitor,1uH,1nH\n"
                    "B,M,capacitor,1uF,2uF\nC,M,capacitor,1uF,1nH\n")
     store = tmp_path / "s.duckdb"
-    r = cli("--store", store, "import", "--check", cat)
+    r = cli("--store", store, "import", "--dry-run", cat)
     assert r.exit_code == 1
     assert "row 1 (file line 2), column value" in r.stdout
     assert "row 2 (file line 3), column esl" in r.stdout

@@ -215,7 +215,7 @@ def test_check_lists_every_problem_and_writes_nothing(tmp_path, cli, store):
     cat.write_text(FOREIGN.replace("4,7;16", "4,7;16 A").replace("EOL", "gone"))
     mapping.write_text(FOREIGN_MAP)
     before = _dump(store)
-    res = cli("--store", store, "import", cat, "--map", mapping, "--check")
+    res = cli("--store", store, "import", cat, "--map", mapping, "--dry-run")
     assert res.exit_code == 1
     out = res.stdout.strip().splitlines()
     assert len(out) == 2
@@ -356,16 +356,16 @@ def test_find_and_curve_say_when_measured_curves_are_used(store, cli, tmp_path):
     path = _sweep_csv(tmp_path / "s.csv", f, rlc.impedance(f, 100e-9, 20e-3, 3e-9))
     assert cli("--store", store, "sweep", "import", path, "--part", "C100N").exit_code == 0
     res = cli("--store", store, "find", "capacitor", "--below", "10ohm", "--band",
-              "1MHz..30MHz", "--measured", "--format", "json")
+              "1MHz..30MHz", "--model", "measured", "--format", "json")
     rows = {r["part_number"]: r for r in json.loads(res.stdout)}
     assert rows["C100N"]["curve_source"] == "measured"
     assert rows["C100N"]["model_source"] == "measured"
     assert rows["C10U"]["model_source"] == "catalog" and "curve_source" not in rows["C10U"]
     assert "measured curve for 1 part" in res.stderr and "catalog rlc for 1 part" in res.stderr
-    res = cli("--store", store, "curve", "C100N", "--band", "10kHz..1GHz", "--measured")
+    res = cli("--store", store, "curve", "C100N", "--band", "10kHz..1GHz", "--model", "measured")
     assert "C100N: measured curve of s.csv (100 kHz to 100 MHz, model outside" in res.stderr
     _one_error(cli("--store", store, "curve", "C100N", "--band", "10kHz..1GHz",
-                   "--measured-only"), "measured from 100 kHz to 100 MHz only")
+                   "--model", "measured", "--model-only"), "measured from 100 kHz to 100 MHz only")
 
 
 # -- export -------------------------------------------------------------------------------
@@ -387,7 +387,7 @@ def test_export_touchstone_to_stdout_and_file(store, cli, tmp_path):
 
 def test_demo_foreign_catalog_imports_cleanly(cli, tmp_path):
     res = cli("--store", tmp_path / "s.duckdb", "import", DEMO / "foreign_catalog.csv",
-              "--map", DEMO / "foreign_catalog.toml", "--check")
+              "--map", DEMO / "foreign_catalog.toml", "--dry-run")
     assert res.exit_code == 0, res.output
     assert "no problems" in res.stdout
 

@@ -117,7 +117,12 @@ def test_plan_holds_on_an_independent_dense_grid(cli, catalog):
     assert code == 0 and data["met"] is True
     assert_holds_independently(data)
     names = {b["part_number"] for b in data["bank"]}
-    assert not names & {"LOWV", "NRND", "OBS"}      # rating, lifecycle (default active only)
+    assert not names & {"LOWV", "OBS"}      # rating, lifecycle (default active and nrnd)
+    nrnd = [n for n in data["notes"] if n.startswith("nrnd")]
+    assert bool(nrnd) == ("NRND" in names) and all("NRND" in n for n in nrnd)
+    code, data, _ = run_json(cli, catalog, "--rail", "3.3V", "--target", "20mohm", "--band",
+                             "100kHz..50MHz", "--lifecycle", "active")
+    assert not {b["part_number"] for b in data["bank"]} & {"LOWV", "NRND", "OBS"}
     # the documented keys let anyone recompute the curve
     for b in data["bank"]:
         assert {"part_number", "count", "c_eff_f", "esr_ohm", "esl_total_h"} <= set(b)

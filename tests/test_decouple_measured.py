@@ -239,13 +239,13 @@ def test_higher_esr_in_the_data_fails_the_model_bank_and_the_planner_adds_parts(
 
     # the model's bank checked on the data fails, and the output says the two disagree
     code, checked, _ = run_json(cli, store, *ESR_ARGS, "--check", bank_file(tmp_path, on_models),
-                                "--measured")
+                                "--model", "measured")
     assert code == 1 and not checked["met"] and checked["model_check"]["met"] is True
     assert_worst_is_real_and_maximal(checked, sweeps)
     assert any("disagree" in e for e in checked["explanation"])
 
     # planning on the data: parts are added until the bank holds on the measured curve
-    code, planned, _ = run_json(cli, store, *ESR_ARGS, "--measured")
+    code, planned, _ = run_json(cli, store, *ESR_ARGS, "--model", "measured")
     assert code == 0 and planned["met"] and planned["parts"] == n_data
     assert planned["bank"][0]["curve_source"] == "measured"
     assert_worst_is_real_and_maximal(planned, sweeps)
@@ -257,7 +257,7 @@ def test_higher_esr_in_the_data_fails_the_model_bank_and_the_planner_adds_parts(
     assert planned["model_check"]["met"] is True
 
     # within a part limit that the data need more than, it reports the failure and why
-    code, limited, _ = run_json(cli, store, *ESR_ARGS, "--measured", "--max-parts",
+    code, limited, _ = run_json(cli, store, *ESR_ARGS, "--model", "measured", "--max-parts",
                                 str(n_data - 1))
     assert code == 1 and not limited["met"] and limited["failures"]
     text = " ".join(limited["explanation"])
@@ -271,7 +271,7 @@ def test_better_data_let_the_planner_remove_parts(cli, make_store):
     f = np.geomspace(1e5, 1e9, 1601)
     sweeps = {"P": (f, rlc.impedance(f, 1e-6, 0.010 / 3, 0.5e-9))}
     store = with_sweeps(make_store, ESR_ROWS, sweeps)
-    code, planned, _ = run_json(cli, store, *ESR_ARGS, "--measured")
+    code, planned, _ = run_json(cli, store, *ESR_ARGS, "--model", "measured")
     one = {**planned, "bank": [{**planned["bank"][0], "count": 1}], "board": []}
     # derived: n identical parts in parallel divide Z by n
     n_model = math.ceil(dense_max({**one, "bank": [{**one["bank"][0],
@@ -299,7 +299,7 @@ def test_a_resonance_between_grid_points_is_found_at_the_measured_points(make_st
     code, on_models, _ = run_json(cli, store, *args, "--model", "catalog")
     assert code == 0
     code, checked, _ = run_json(cli, store, *args, "--check", bank_file(tmp_path, on_models),
-                                "--measured")
+                                "--model", "measured")
     assert code == 1 and checked["model_check"]["met"] is True
     assert_worst_is_real_and_maximal(checked, sweeps)
     assert abs(checked["f_max_z_hz"] / fx - 1) < 0.01
@@ -312,7 +312,7 @@ def test_a_resonance_between_grid_points_is_found_at_the_measured_points(make_st
         assert z[1] >= z[0] and z[1] >= z[2]
         assert_allclose(z[1], p["z_ohm"], rtol=1e-9)
 
-    code, planned, _ = run_json(cli, store, *args, "--measured")
+    code, planned, _ = run_json(cli, store, *args, "--model", "measured")
     assert code == 0 and planned["met"] and planned["parts"] > on_models["parts"]
     assert_worst_is_real_and_maximal(planned, sweeps)
 
@@ -397,7 +397,7 @@ def test_measured_only_plans_with_the_parts_measured_over_the_band(cli, mo_store
     store, sweeps = mo_store
     code, models, _ = run_json(cli, store, *MO_ARGS, "--model", "catalog")
     assert code == 0 and {b["part_number"] for b in models["bank"]} == {"C"}
-    code, data, err = run_json(cli, store, *MO_ARGS, "--measured-only")
+    code, data, err = run_json(cli, store, *MO_ARGS, "--model", "measured", "--model-only")
     assert code == 0 and data["met"]
     assert {b["part_number"] for b in data["bank"]} == {"A"}
     assert all(b["curve_source"] == "measured" for b in data["bank"])
@@ -405,7 +405,7 @@ def test_measured_only_plans_with_the_parts_measured_over_the_band(cli, mo_store
            "band (1 cover part of it)" in err
     assert_worst_is_real_and_maximal(data, sweeps)
     # with --measured the unmeasured part keeps its model
-    code, data, _ = run_json(cli, store, *MO_ARGS, "--measured")
+    code, data, _ = run_json(cli, store, *MO_ARGS, "--model", "measured")
     assert code == 0
     assert {b["part_number"]: b["curve_source"] for b in data["bank"]}.get("C") == "model"
 
@@ -417,11 +417,11 @@ def test_measured_only_check_refuses_parts_the_data_do_not_cover(cli, mo_store, 
                          ("A,2\nC,1\n", "C has no stored measured sweep")):
         (tmp_path / "b.csv").write_text("part_number,count\n" + bank)
         r = cli("--store", store, "decouple", *MO_ARGS, "--check", tmp_path / "b.csv",
-                "--measured-only")
+                "--model", "measured", "--model-only")
         assert r.exit_code != 0 and f"Error: {needle}" in r.output
     (tmp_path / "b.csv").write_text("part_number,count\nA,3\n")
     r = cli("--store", store, "decouple", *MO_ARGS, "--check", tmp_path / "b.csv",
-            "--measured-only")
+            "--model", "measured", "--model-only")
     assert r.exit_code in (0, 1) and "Error" not in r.output
 
 
@@ -449,7 +449,8 @@ def test_a_sweep_outside_the_band_leaves_the_model(make_store):
 def test_text_output_and_plot(cli, mo_store, tmp_path):
     store, _ = mo_store
     png = tmp_path / "z.png"
-    r = cli("--store", store, "decouple", *MO_ARGS, "--measured-only", "--plot", png)
+    r = cli("--store", store, "decouple", *MO_ARGS, "--model", "measured", "--model-only",
+            "--plot", png)
     assert r.exit_code == 0, r.output
     assert "curve" in r.stdout.splitlines()[2].split()
     assert " measured " in r.stdout.splitlines()[4]

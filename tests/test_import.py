@@ -176,7 +176,7 @@ def test_spreadsheet_habits_windows_1252_and_lost_leading_zeros(tmp_path, make_s
 def test_look_alike_columns_are_pointed_out(cli, tmp_path):
     cat = tmp_path / "typo.csv"
     cat.write_text("part_number,maker,kind,value,rated_votlage,shelf\nA,M,capacitor,1uF,16V,B2\n")
-    r = cli("--store", tmp_path / "s.duckdb", "import", "--check", cat)
+    r = cli("--store", tmp_path / "s.duckdb", "import", "--dry-run", cat)
     assert r.exit_code == 0
     assert "column 'rated_votlage' is not a catalog column" in r.stdout
     assert "did you mean 'rated_voltage'?" in r.stdout and "'shelf'" not in r.stdout

@@ -421,7 +421,8 @@ def test_check_from_the_store(store_path):
 
 
 def test_cli_json_rows_and_exit_codes(cli, store_path):
-    r = cli("--store", store_path, "inductive", "L1U", "LNOSRF", "--to", "20MHz", "-f", "json")
+    r = cli("--store", store_path, "inductive", "L1U", "LNOSRF", "--inductive-to", "20MHz",
+            "-f", "json")
     assert r.exit_code == 0, r.output   # a warning alone exits 0
     rows = json.loads(r.stdout)
     assert [x["verdict"] for x in rows] == ["pass", "warn"]
@@ -431,15 +432,15 @@ def test_cli_json_rows_and_exit_codes(cli, store_path):
     assert_allclose(rows[0]["srf_ratio"], 112.54e6 / 20e6, rtol=1e-12)   # derived
     assert rows[1]["zero_phase_hz"] is None
     # derived: 10 uH / 5 pF is capacitive at 30 MHz -> fail -> exit code 1
-    r = cli("--store", store_path, "inductive", "L10U", "L1U", "--to", "30MHz")
+    r = cli("--store", store_path, "inductive", "L10U", "L1U", "--inductive-to", "30MHz")
     assert r.exit_code == 1
     assert "L10U: fail" in r.stdout and "capacitive at the target" in r.stdout
     assert "1 pass, 0 warn, 1 fail" in r.stderr
 
 
 def test_cli_current_table_and_csv(cli, store_path):
-    args = ["--store", store_path, "inductive", "L10U", "L1U", "--to", "10MHz",
-            "--current", "1.2A", "--ripple", "0.3A"]
+    args = ["--store", store_path, "inductive", "L10U", "L1U", "--inductive-to", "10MHz",
+            "--current", "1.2A", "--ripple-current", "0.3A"]
     # derived: peak 1.35 A, RMS sqrt(1.2^2 + 0.3^2/12) = 1.2031 A; L10U margins 1.11 and 1.08
     # (below the default 1.2: warn), L1U margins 2.22 and 1.66 (pass): no fail -> exit 0
     r = cli(*args)
@@ -462,8 +463,8 @@ def test_cli_current_table_and_csv(cli, store_path):
 
 
 def test_cli_verdicts_with_currents(cli, store_path):
-    r = cli("--store", store_path, "inductive", "L1U", "--to", "10MHz", "--current", "2.5A",
-            "-f", "json")
+    r = cli("--store", store_path, "inductive", "L1U", "--inductive-to", "10MHz",
+            "--current", "2.5A", "-f", "json")
     row = json.loads(r.stdout)[0]
     # rule of thumb: Isat 3 A >= 2.5 A (margin 1.2, not below 1.2) ; Irms 2 A < 2.5 A -> fail
     assert_allclose(row["isat_margin"], 3 / 2.5, rtol=1e-12)
@@ -472,15 +473,15 @@ def test_cli_verdicts_with_currents(cli, store_path):
 
 
 @pytest.mark.parametrize(("args", "words"), [
-    (["L1U", "--to", "0Hz"], "above 0 Hz"),
-    (["L1U", "--to", "10MHz", "--current", "-1A"], "--current must be 0 A or more"),
-    (["L1X", "--to", "10MHz"], "no part 'L1X'"),
-    (["C100N", "--to", "10MHz"], "C100N is a capacitor, not an inductor"),
-    (["L1U", "--to", "10MHz", "--ripple", "0.3A"], "--ripple needs --current"),
-    (["L1U", "--to", "10uH"], "'10uH' is not a frequency"),
-    (["L1U"], "Missing option '--to'"),
-    (["L1U", "--to", "10MHz", "--plot", "z.txt"], "give a .png, .svg or .pdf name"),
-    (["L1U", "--to", "10MHz", "-f", "xml"], "unknown --format"),
+    (["L1U", "--inductive-to", "0Hz"], "above 0 Hz"),
+    (["L1U", "--inductive-to", "10MHz", "--current", "-1A"], "--current must be 0 A or more"),
+    (["L1X", "--inductive-to", "10MHz"], "no part 'L1X'"),
+    (["C100N", "--inductive-to", "10MHz"], "C100N is a capacitor, not an inductor"),
+    (["L1U", "--inductive-to", "10MHz", "--ripple-current", "0.3A"], "--ripple needs --current"),
+    (["L1U", "--inductive-to", "10uH"], "'10uH' is not a frequency"),
+    (["L1U"], "Missing option '--inductive-to'"),
+    (["L1U", "--inductive-to", "10MHz", "--plot", "z.txt"], "give a .png, .svg or .pdf name"),
+    (["L1U", "--inductive-to", "10MHz", "-f", "xml"], "unknown --format"),
 ])
 def test_cli_bad_input_gives_one_error_line_and_exit_2(cli, store_path, args, words):
     r = cli("--store", store_path, "inductive", *args)
@@ -495,7 +496,7 @@ def test_cli_plot(cli, store_path, tmp_path):
     import matplotlib.image as mpimg
 
     out = tmp_path / "check.png"
-    r = cli("--store", store_path, "inductive", "L10U", "L1U", "LNOSRF", "--to", "20MHz",
+    r = cli("--store", store_path, "inductive", "L10U", "L1U", "LNOSRF", "--inductive-to", "20MHz",
             "--plot", out)
     assert r.exit_code == 0, r.output
     assert f"plot written to {out}" in r.stderr

@@ -7,6 +7,7 @@ from typing import Annotated, Any
 
 import typer
 
+from partsel.catalog import DEFAULT_LIFECYCLES
 from partsel.cli import options as opt
 from partsel.cli.app import app, echo, note, open_store_for
 from partsel.errors import FileFormatError
@@ -65,9 +66,9 @@ def _passes(cand: Any) -> str:
 def alternates_cmd(
     ctx: typer.Context,
     part: str = typer.Argument(..., metavar="PART", help="Part number of the original."),
-    maker: str = typer.Option(None, "--maker", help="Maker, when several share the number."),
+    maker: str = opt.maker_option(),
     case: Annotated[list[str] | None, typer.Option(
-        "--case", metavar="CODES",
+        "--case", metavar="CASE,...",
         help="Allowed case codes (default: the original's), e.g. 0402,0603.")] = None,
     band: str = typer.Option(None, "--band", metavar="F1..F2",
                              help="Band of the curve rules and distance (default: capacitors "
@@ -94,8 +95,9 @@ def alternates_cmd(
                                   help="Inductors: SRF at least F instead of at least the "
                                        "original's."),
     lifecycle: Annotated[list[str] | None, typer.Option(
-        "--lifecycle", metavar="STATES",
-        help="Accepted lifecycle states of a candidate (default active), e.g. active,nrnd.")
+        "--lifecycle", metavar="STATE,...",
+        help="Accepted lifecycle states of a candidate (default "
+             f"{opt.LIFECYCLES_TEXT}; nrnd ones are named in the notes), e.g. active.")
     ] = None,
     in_stock: bool = typer.Option(False, "--in-stock", help="Only candidates with stock > 0."),
     explain: bool = typer.Option(False, "--explain",
@@ -131,7 +133,7 @@ def alternates_cmd(
         if value_within else None,
         working_voltage=opt.quantity(working_voltage, "V", "--working-voltage"),
         srf_above=opt.quantity(srf_above, "Hz", "--srf-above"),
-        lifecycles=tuple(s.lower() for s in opt.split_list(lifecycle)) or ("active",),
+        lifecycles=tuple(s.lower() for s in opt.split_list(lifecycle)) or DEFAULT_LIFECYCLES,
         in_stock=in_stock, explain=explain, limit=limit, model=model)
     with open_store_for(ctx) as store:
         res = alternates(store, part, maker, crit)
@@ -229,6 +231,9 @@ def bom_cmd(
 ) -> None:
     """Check a parts list: is every part known, active and in stock, and what can replace it.
 
+    Alternates are in stock and active or nrnd (nrnd ones after active ones at the same stock
+    coverage, and named in the notes).
+
     A line needs action when its part is unknown, obsolete, not recommended for new designs
     (nrnd), out of stock or short of the quantity, rated below the line's working voltage, or
     when the line cannot be read (a quantity must be a whole number of 1 or more). A part listed
@@ -258,6 +263,8 @@ def bom_cmd(
     for line in report.lines:
         if line.error:
             note(f"{file.name} line {line.line}: {line.error}")
+    for n in report.notes:
+        note(f"Note: {n}")
     note(f"{len(report.lines)} line(s): {report.needs_action} need action")
     if fmt == "table":
         for c in report.cautions:
@@ -271,11 +278,16 @@ _BOM_COLS = [Col("line", "line"), Col("part_number", "part"), Col("maker", "make
              Col("stock", "stock", ""), Col("action", "action"), Col("alternates", "alternates")]
 
 
+def _nrnd(alternate: dict[str, Any]) -> str:
+    return ", nrnd" if alternate.get("lifecycle") == "nrnd" else ""
+
+
 def _bom_text(report: Any, fmt: str) -> str:
     from partsel.render import table, to_json
     if fmt == "json":
         return to_json({"lines": [ln.as_dict() for ln in report.lines],
-                        "needs_action": report.needs_action, "cautions": report.cautions})
+                        "needs_action": report.needs_action, "notes": report.notes,
+                        "cautions": report.cautions})
     rows = []
     for ln in report.lines:
         d = ln.as_dict()
@@ -288,8 +300,8 @@ def _bom_text(report: Any, fmt: str) -> str:
                 or "none"
         d["action"] = action
         d["alternates"] = "; ".join(
-            f"{a['part_number']} ({a['distance_db']:.2f} dB)" if fmt == "table" else
-            f"{a['part_number']} ({a['maker']})" for a in ln.alternates) or (
+            f"{a['part_number']} ({a['distance_db']:.2f} dB{_nrnd(a)})" if fmt == "table" else
+            f"{a['part_number']} ({a['maker']}{_nrnd(a)})" for a in ln.alternates) or (
             ln.note if ln.status == "found" else None)
         rows.append(d)
     if fmt == "csv":

@@ -28,17 +28,13 @@ _UNIT = {"capacitor": {"value": "F", "esr": "ohm", "tan_delta": "", "esl": "H"},
 _PARTS = typer.Argument(..., metavar="PART...", help="Part numbers.")
 
 
-def _maker_option():
-    return typer.Option(None, "--maker", help="Maker, when several share the part number.")
-
-
 @sweep_app.command("import")
 def sweep_import_cmd(
     ctx: typer.Context,
     file_name: str = typer.Argument(..., metavar="FILE",
                                     help="Touchstone (.s1p, .s2p, .ts) or CSV sweep."),
     part: str = typer.Option(..., "--part", metavar="PART", help="Part number measured."),
-    maker: str = _maker_option(),
+    maker: str = opt.maker_option(),
     fixture: str = typer.Option(None, "--fixture", metavar="reflection|shunt-thru|series-thru",
                                 help="Touchstone: how the part sat in the fixture (needed for "
                                      "2-port files; a 1-port file is a reflection)."),
@@ -58,6 +54,8 @@ def sweep_import_cmd(
     keep_anyway: bool = typer.Option(False, "--keep-anyway",
                                      help="With --fit: store a fit even when it disagrees with "
                                           "the catalog (see 'partsel fit')."),
+    dry_run: bool = opt.dry_run_option("Read and check the sweep (and with --fit, fit it) and "
+                                       "say what would be stored; write nothing."),
 ) -> None:
     """Store a measured impedance sweep with a part (Touchstone or CSV).
 
@@ -71,25 +69,27 @@ def sweep_import_cmd(
     csv_options = {"freq_col": freq_col, "mag_col": mag_col, "phase_col": phase_col,
                    "r_col": r_col, "x_col": x_col, "freq_unit": freq_unit, "z_unit": z_unit,
                    "phase_unit": phase_unit}
-    with open_store_for(ctx, write=True) as store:
+    with open_store_for(ctx, write=not dry_run) as store:
         res = import_sweep(store, Path(file_name), part, maker=maker,
                            fixture=fixture.lower() if fixture else None, cli=True,
-                           **csv_options)
+                           dry_run=dry_run, **csv_options)
         sw = res.sweep
         lo, hi = sw.band
         from partsel.units import format_quantity as fq
-        what = (f"{sw.part_number}: stored {sw.f.size} points, {fq(lo, 'Hz')} to {fq(hi, 'Hz')}, "
-                f"from {sw.source_file}" if res.added else
+        verb = "would store" if dry_run else "stored"
+        what = (f"{sw.part_number}: {verb} {sw.f.size} points, {fq(lo, 'Hz')} to "
+                f"{fq(hi, 'Hz')}, from {sw.source_file}" if res.added else
                 f"{sw.part_number}: this sweep is already stored (imported "
                 f"{sw.imported_at:%Y-%m-%d %H:%M}); nothing added")
-        echo(what)
+        echo(what + ("; nothing was written (dry run)" if dry_run and res.added else ""))
         for r in res.remarks:
             note(f"Warning: {r}")
         if fit:
             from partsel.jobs.measured import ImplausibleFit
             try:
-                _fit_and_report(store, sw.part_number, sw.maker, tan_delta, True, None, True,
-                                "table", keep_anyway)
+                _fit_and_report(store, sw.part_number, sw.maker, tan_delta, True, None,
+                                not dry_run, "table", keep_anyway,
+                                sweep=sw if dry_run else None)
             except ImplausibleFit:
                 note("The sweep is stored; the fit was refused and the part's model is "
                      "unchanged.")
@@ -100,7 +100,7 @@ def sweep_import_cmd(
 def sweep_list_cmd(
     ctx: typer.Context,
     part: str = typer.Argument(..., metavar="PART", help="Part number."),
-    maker: str = _maker_option(),
+    maker: str = opt.maker_option(),
     fmt: str = opt.format_option(),
 ) -> None:
     """List the measured sweeps stored with a part, newest first.
@@ -125,7 +125,7 @@ def sweep_list_cmd(
 def fit_cmd(
     ctx: typer.Context,
     part: str = typer.Argument(..., metavar="PART", help="Part number."),
-    maker: str = _maker_option(),
+    maker: str = opt.maker_option(),
     tan_delta: bool = typer.Option(False, "--tan-delta",
                                    help="Capacitors: also fit the dielectric loss "
                                         "tan_delta/(2 pi f C)."),
@@ -133,8 +133,8 @@ def fit_cmd(
                                                       "resistance Rp."),
     band: str = typer.Option(None, "--band", metavar="F1..F2",
                              help="Fit only the sweep's points in this band."),
-    dry_run: bool = typer.Option(False, "--dry-run", help="Report the fit; keep the stored "
-                                                          "model."),
+    dry_run: bool = opt.dry_run_option("Fit and report; keep the stored model (write "
+                                       "nothing)."),
     undo: bool = typer.Option(False, "--undo", help="Put back the model the last fit "
                                                     "replaced."),
     keep_anyway: bool = typer.Option(False, "--keep-anyway",
@@ -215,13 +215,13 @@ def _undo(store, part: str, maker: str | None, fmt: str) -> None:
 
 def _fit_and_report(store, part: str, maker: str | None, tan_delta: bool, rp: bool,
                     band: tuple[float, float] | None, save: bool, fmt: str,
-                    keep_anyway: bool = False) -> None:
+                    keep_anyway: bool = False, sweep=None) -> None:
     from partsel.jobs.measured import fit_part
     from partsel.render import cell
     from partsel.units import format_quantity as fq
 
     res = fit_part(store, part, maker=maker, tan_delta=tan_delta, rp=rp, band=band, save=save,
-                   keep_anyway=keep_anyway, cli=True)
+                   keep_anyway=keep_anyway, cli=True, sweep=sweep)
     fit = res.fit
     pn = res.part["part_number"]
     units = _UNIT[res.part["kind"]]
@@ -296,11 +296,17 @@ def _fit_model_and_report(store, part: str, maker: str | None, family: str, sour
         note(f"Warning: {w}")
 
 
-def _write(text: str | bytes, out: str | None, what: str) -> None:
+def _write(text: str | bytes, out: str | None, what: str, dry_run: bool = False) -> None:
+    from partsel.jobs.export import writable_path, write_atomic
+
+    if dry_run:
+        where = "standard output" if out is None else str(writable_path(Path(out)))
+        size = len(text.encode() if isinstance(text, str) else text)
+        echo(f"would write {what} ({size} bytes) to {where}; nothing was written")
+        return
     if out is None:
         echo(text if isinstance(text, str) else text.decode())
         return
-    from partsel.jobs.export import write_atomic
     path = write_atomic(Path(out), text)
     note(f"{what} written to {path}")
 
@@ -309,13 +315,15 @@ def _write(text: str | bytes, out: str | None, what: str) -> None:
 def export_spice_cmd(
     ctx: typer.Context,
     parts: list[str] = _PARTS,
-    maker: str = _maker_option(),
+    maker: str = opt.maker_option(),
     f_ref: str = typer.Option(None, "--f-ref", metavar="F",
                               help="Capacitors with tan_delta: frequency at which the constant "
                                    "resistor is exact (default: the SRF)."),
     out: str = typer.Option(None, "--out", metavar="FILE", help="Write to FILE instead of "
                                                                 "standard output."),
     model: str = opt.model_option(),
+    dry_run: bool = opt.dry_run_option("Build every model and say what would be written "
+                                       "where; write nothing."),
 ) -> None:
     """Write a SPICE subcircuit (.SUBCKT, pins 1 and 2) per part, with where each value came from.
 
@@ -330,7 +338,8 @@ def export_spice_cmd(
         text = spice_library(store, list(parts), maker=maker,
                              f_ref=opt.quantity(f_ref, "Hz", "--f-ref"), model=model)
         cautions = spice_cautions(store, list(parts), maker=maker)
-    _write(text, out, "SPICE models")
+    _write(text, out, f"SPICE models of {len(parts)} part{'' if len(parts) == 1 else 's'}",
+           dry_run)
     for c in cautions:
         note(c)
 
@@ -341,8 +350,7 @@ def export_touchstone_cmd(
     part: str = typer.Argument(..., metavar="PART", help="Part number."),
     band: str = typer.Option(..., "--band", metavar="F1..F2", help="Frequency band, e.g. "
                                                                    "10kHz..1GHz."),
-    per_decade: int = typer.Option(50, "--points-per-decade", min=1, max=10000,
-                                   help="Log-spaced points per decade."),
+    per_decade: int = opt.points_per_decade_option(50, "Log-spaced points per decade."),
     fixture: str = typer.Option("reflection", "--fixture",
                                 metavar="reflection|shunt-thru|series-thru",
                                 help="reflection: 1-port S11 (.s1p); shunt-thru or series-thru: "
@@ -351,10 +359,12 @@ def export_touchstone_cmd(
     data_format: str = typer.Option("RI", "--data-format", metavar="RI|MA|DB",
                                     help="Touchstone pairs: real/imaginary, magnitude/angle or "
                                          "dB/angle."),
-    maker: str = _maker_option(),
+    maker: str = opt.maker_option(),
     out: str = typer.Option(None, "--out", metavar="FILE", help="Write to FILE (.s1p or .s2p) "
                                                                 "instead of standard output."),
     model: str = opt.model_option(),
+    dry_run: bool = opt.dry_run_option("Compute the file and say what would be written "
+                                       "where; write nothing."),
 ) -> None:
     """Write a part's modeled impedance as a Touchstone 1.1 file (S-parameters).
 
@@ -369,13 +379,15 @@ def export_touchstone_cmd(
                                                                                 positive=True),
                                fmt=data_format, maker=maker,
                                out_name=Path(out).name if out else None, model=model)
-    _write(text, out, "Touchstone file")
+    _write(text, out, "Touchstone file", dry_run)
 
 
 @export_app.command("parquet")
 def export_parquet_cmd(
     ctx: typer.Context,
     out: str = typer.Option(..., "--out", metavar="FILE.parquet", help="File to write."),
+    dry_run: bool = opt.dry_run_option("Build the table and say what would be written; write "
+                                       "nothing."),
 ) -> None:
     """Write the whole catalog as a Parquet file that 'partsel import' reads back.
 
@@ -384,5 +396,6 @@ def export_parquet_cmd(
     from partsel.jobs.export import write_parquet
 
     with open_store_for(ctx) as store:
-        n, path = write_parquet(store, Path(out))
-    echo(f"{n} parts written to {path}")
+        n, path = write_parquet(store, Path(out), dry_run=dry_run)
+    echo(f"would write {n} parts to {path}; nothing was written" if dry_run else
+         f"{n} parts written to {path}")

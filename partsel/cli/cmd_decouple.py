@@ -9,6 +9,7 @@ from typing import Annotated, Any
 import typer
 
 from partsel import units
+from partsel.catalog import DEFAULT_LIFECYCLES
 from partsel.cli import options as opt
 from partsel.cli.app import app, echo, note, open_store_for
 from partsel.errors import QueryError
@@ -123,7 +124,7 @@ def _rail_spec(rail: str | None, target: str | None, ripple: str | None, step: s
 Texts = list[str] | None
 
 
-@app.command("decouple")
+@app.command("decouple", cls=opt.renamed(opt.MEASURED_ALIASES))
 def decouple_cmd(
     ctx: typer.Context,
     rail: Annotated[str | None, typer.Option(
@@ -177,7 +178,9 @@ def decouple_cmd(
         "--maker", metavar="NAME,...", help="Maker name(s).")] = None,
     lifecycle: Annotated[Texts, typer.Option(
         "--lifecycle", metavar="STATE,...",
-        help="Lifecycle states to use: active, nrnd, obsolete (default active).")] = None,
+        help="Lifecycle states to use: active, nrnd, obsolete (default "
+             f"{opt.LIFECYCLES_TEXT}; nrnd parts in the bank are named in the "
+             "notes).")] = None,
     min_voltage: Annotated[str | None, typer.Option(
         "--min-voltage", metavar="V", help="Rated voltage at least V (default: the derated "
         "rating at least the rail voltage, MnO2 tantalum 50 %, polymer 90 % up to a 10 V "
@@ -197,14 +200,6 @@ def decouple_cmd(
         "lowest cost), or lowest cost (then fewest parts).")] = "count",
     model: str = opt.model_option(),
     model_only: bool = opt.model_only_option(),
-    measured: Annotated[bool, typer.Option(
-        "--measured", help="Same as --model measured (a measured curve is taken as measured "
-        "at 0 V; the mounting inductance and the capacitance lost at the rail voltage are "
-        "added to it).")] = False,
-    measured_only: Annotated[bool, typer.Option(
-        "--measured-only", help="Same as --model measured --model-only: plan with only the "
-        "parts whose sweep covers the band; with --check, refuse a part whose sweep does "
-        "not.")] = False,
     check_file: Annotated[Path | None, typer.Option(
         "--check", metavar="FILE", help="Evaluate this bank instead of planning one: CSV "
         "with part_number,count[,maker].")] = None,
@@ -217,6 +212,11 @@ def decouple_cmd(
 
     Exit code 0 when the target is met, 1 when it is not.
 
+    With --model measured a part's measured curve is taken as measured at 0 V: the mounting
+    inductance and the capacitance lost at the rail voltage are added to it. With --model-only
+    as well, the plan uses only parts whose sweep covers the band, and --check refuses a part
+    whose sweep does not.
+
     Examples:
 
       partsel decouple --rail 1.0V --ripple 3% --step 10A --band 10kHz..100MHz
@@ -225,7 +225,7 @@ def decouple_cmd(
 
       partsel decouple --rail 1.0V --target 3mohm --band 10kHz..100MHz --check bank.csv
 
-      partsel decouple --rail 1.8V --target 10mohm --band 1MHz..50MHz --measured
+      partsel decouple --rail 1.8V --target 10mohm --band 1MHz..50MHz --model measured
     """
     from partsel.jobs import decouple as dec
 
@@ -235,10 +235,9 @@ def decouple_cmd(
     with open_store_for(ctx) as store:
         if check_file is not None:
             res = dec.check(store, spec, dec.read_bank(check_file), model=model,
-                            model_only=model_only, measured=measured,
-                            measured_only=measured_only)
+                            model_only=model_only)
         else:
-            life = tuple(x.lower() for x in opt.split_list(lifecycle)) or ("active",)
+            life = tuple(x.lower() for x in opt.split_list(lifecycle)) or DEFAULT_LIFECYCLES
             choice = dec.Choice(
                 cases=opt.split_list(case), technologies=opt.split_list(technology),
                 dielectrics=opt.split_list(dielectric), makers=opt.split_list(maker),
@@ -246,7 +245,7 @@ def decouple_cmd(
                 in_stock=in_stock, max_parts=max_parts, max_lines=max_lines,
                 max_cost=units.parse_number(max_cost, "--max-cost") if max_cost else None,
                 prefer=prefer.strip().lower(), model=model, model_only=model_only)
-            res = dec.plan(store, spec, choice, measured=measured, measured_only=measured_only)
+            res = dec.plan(store, spec, choice)
     if fmt == "json":
         from partsel.render import to_json
         echo(to_json(res.to_dict()))

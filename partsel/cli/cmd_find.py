@@ -6,6 +6,7 @@ from typing import Any
 
 import typer
 
+from partsel.catalog import DEFAULT_LIFECYCLES
 from partsel.cli import options as opt
 from partsel.cli.app import app, echo, note, open_store_for
 from partsel.errors import QueryError
@@ -77,7 +78,8 @@ def _columns(search: Any) -> list[Col]:
     return cols
 
 
-@app.command("find")
+@app.command("find", cls=opt.renamed({"--ripple": "--ripple-current",
+                                      **opt.MEASURED_ALIASES}))
 def find_cmd(
     ctx: typer.Context,
     what: str = typer.Argument(..., metavar="KIND|PHRASE",
@@ -106,7 +108,8 @@ def find_cmd(
     maker: list[str] = typer.Option(None, "--maker", metavar="NAME,...",
                                     help="Keep only these makers."),
     lifecycle: list[str] = typer.Option(None, "--lifecycle", metavar="STATE,...",
-                                        help="Lifecycle states to keep (default active,nrnd)."),
+                                        help="Lifecycle states to keep (default "
+                                             f"{opt.LIFECYCLES_TEXT})."),
     include_obsolete: bool = typer.Option(False, "--include-obsolete",
                                           help="Keep obsolete parts too."),
     in_stock: bool = typer.Option(False, "--in-stock", help="Only parts with stock > 0."),
@@ -116,22 +119,20 @@ def find_cmd(
     mount_l: str = typer.Option(None, "--mount-l", metavar="L",
                                 help="Capacitors: mounting inductance added to ESL, e.g. 0.5nH."),
     current: str = typer.Option(None, "--current", metavar="I",
-                                help="Inductors: DC current; needs Isat >= I + ripple/2 and "
-                                     "Irms >= sqrt(I^2 + ripple^2/12)."),
-    ripple: str = typer.Option(None, "--ripple", metavar="I",
-                               help="Inductors: peak-to-peak ripple current on --current."),
-    min_q: str = typer.Option(None, "--min-q", metavar="Q@F",
-                              help="Inductors: Q at least Q at frequency F, e.g. 30@10MHz."),
+                                help="Inductors: DC current; needs Isat >= I + I_pp/2 and "
+                                     "Irms >= sqrt(I^2 + I_pp^2/12)."),
+    ripple_current: str = typer.Option(None, "--ripple-current", metavar="I",
+                                       help="Inductors: peak-to-peak ripple current I_pp "
+                                            "(triangular) on top of --current, e.g. 0.3A."),
+    min_q: str = typer.Option(None, "--min-q", metavar="Q[@F]",
+                              help="Inductors: Q at least Q at frequency F, e.g. 30@10MHz; a "
+                                   "bare Q is at the --inductive-to frequency."),
     srf_ratio: float = typer.Option(1.0, "--srf-ratio", metavar="R",
                                     help="Inductors: catalog SRF at least R x the "
                                          "--inductive-to frequency (10 keeps L predictable, "
                                          "rule of thumb)."),
     model: str = opt.model_option(),
     model_only: bool = opt.model_only_option(),
-    measured: bool = typer.Option(False, "--measured",
-                                  help="Same as --model measured."),
-    measured_only: bool = typer.Option(False, "--measured-only",
-                                       help="Same as --model measured --model-only."),
     limit: int = opt.limit_option(),
     fmt: str = opt.format_option(),
 ) -> None:
@@ -169,8 +170,9 @@ def find_cmd(
         "bias": opt.quantity(bias, "V", "--bias"),
         "mount_l": opt.quantity(mount_l, "H", "--mount-l"),
         "current": opt.quantity(current, "A", "--current"),
-        "ripple": opt.quantity(ripple, "A", "--ripple"),
-        "min_q": opt.parse_at(min_q, "--min-q"),
+        "ripple": opt.quantity(ripple_current, "A", "--ripple-current"),
+        "min_q": opt.parse_q_at(min_q, opt.quantity(inductive_to, "Hz", "--inductive-to"),
+                                "--min-q", "--inductive-to"),
         "cases": opt.split_list(case), "dielectrics": opt.split_list(dielectric),
         "technologies": opt.split_list(technology), "makers": opt.split_list(maker),
     }
@@ -181,7 +183,7 @@ def find_cmd(
     if life:
         given["lifecycles"] = tuple(x.lower() for x in life)
     if include_obsolete:
-        given["lifecycles"] = (*(given.get("lifecycles") or ("active", "nrnd")), "obsolete")
+        given["lifecycles"] = (*(given.get("lifecycles") or DEFAULT_LIFECYCLES), "obsolete")
     for k, v in given.items():
         if v not in (None, ()):
             kw[k] = v
@@ -190,8 +192,6 @@ def find_cmd(
     if srf_ratio != 1.0:
         kw["srf_ratio"] = srf_ratio
     kw["model"], kw["model_only"] = model, model_only
-    if measured or measured_only:
-        kw["measured"], kw["measured_only"] = True, measured_only
     kw.setdefault("limit", limit)
     search = Search(**kw)
     search.validate()

@@ -25,7 +25,7 @@ JSON_KEYS = {
     "value": "value_h", "dcr": "dcr_ohm", "srf": "srf_hz", "rp": "rp_ohm",
     "target_hz": "target_hz", "zero_phase_hz": "zero_phase_hz", "srf_ratio": "srf_ratio",
     "srf_grade": "srf_grade", "l_eff_h": "l_eff_h", "l_change": "l_change",
-    "q_at_target": "q_at_target", "isat": "isat_a", "isat_drop": "isat_drop",
+    "q_at_target": "q_at_target", "q": "q", "isat": "isat_a", "isat_drop": "isat_drop",
     "irms": "irms_a", "i_peak_a": "i_peak_a", "i_rms_a": "i_rms_a",
     "isat_margin": "isat_margin", "irms_margin": "irms_margin", "model": "model",
     "model_source": "model_source", "model_family": "model_family",
@@ -42,20 +42,21 @@ def _csv_row(row: dict[str, Any]) -> dict[str, Any]:
     return out
 
 
-@app.command("inductive")
+@app.command("inductive", cls=opt.renamed({"--to": "--inductive-to",
+                                           "--ripple": "--ripple-current"}))
 def inductive_cmd(
     ctx: typer.Context,
     parts: Annotated[list[str], typer.Argument(metavar="PART...",
                                                help="Inductor part numbers.")],
-    to: str = typer.Option(..., "--to", metavar="F",
-                           help="Target frequency: the part must be inductive (Im Z > 0) from "
-                                "DC up to F, e.g. 100MHz."),
+    inductive_to: str = typer.Option(..., "--inductive-to", metavar="F",
+                                     help="Target frequency: the part must be inductive "
+                                          "(Im Z > 0) from DC up to F, e.g. 100MHz."),
     current: str = typer.Option(None, "--current", metavar="I",
                                 help="DC current, e.g. 1.2A: checks Isat and Irms."),
-    ripple: str = typer.Option(None, "--ripple", metavar="I",
-                               help="Peak-to-peak ripple current on top of --current "
-                                    "(triangular): Isat must carry I + ripple/2, Irms "
-                                    "sqrt(I^2 + ripple^2/12)."),
+    ripple_current: str = typer.Option(None, "--ripple-current", metavar="I",
+                                       help="Peak-to-peak ripple current I_pp (triangular) on "
+                                            "top of --current: Isat must carry I + I_pp/2, "
+                                            "Irms sqrt(I^2 + I_pp^2/12)."),
     warn_below: float = typer.Option(2.0, "--warn-below", metavar="RATIO",
                                      help="Warn when SRF / target is below RATIO."),
     predictable_at: float = typer.Option(10.0, "--predictable-at", metavar="RATIO",
@@ -64,12 +65,13 @@ def inductive_cmd(
     current_margin: float = typer.Option(1.2, "--current-margin", metavar="RATIO",
                                          help="Warn when Isat or Irms exceed the need by less "
                                               "than RATIO (1 = no warning)."),
-    min_q: str = typer.Option(None, "--min-q", metavar="Q",
-                              help="Fail parts whose Q at the target is below Q."),
+    min_q: str = typer.Option(None, "--min-q", metavar="Q[@F]",
+                              help="Fail parts whose Q at F is below Q, e.g. 30@10MHz; a bare "
+                                   "Q is at the --inductive-to frequency."),
     plot: Annotated[Path | None, typer.Option(
         "--plot", metavar="FILE.png",
         help="Also draw |Z|, phase and each part's inductive range.")] = None,
-    maker: str = typer.Option(None, "--maker", help="Maker, when several share a number."),
+    maker: str = opt.maker_option(),
     model: str = opt.model_option(),
     fmt: str = opt.format_option(),
 ) -> None:
@@ -78,19 +80,21 @@ def inductive_cmd(
     Each part gets a verdict (pass, warn or fail) and every reason. The exit code is 0 when no
     part fails (warnings alone exit 0), 1 when any part fails, 2 for bad input.
 
-    Example: partsel inductive PART1 PART2 --to 100MHz --current 1.2A --ripple 0.3A
+    Example: partsel inductive PART1 PART2 --inductive-to 100MHz --current 1.2A
+    --ripple-current 0.3A
     """
     from partsel import units
     from partsel.jobs.inductive import Spec, check, plot_path
     from partsel.jobs.inductive import plot as draw
 
     fmt = opt.check_format(fmt)
-    spec = Spec(target=units.parse_quantity(to, "Hz", what="--to"),
-                current=opt.quantity(current, "A", "--current"),
-                ripple=opt.quantity(ripple, "A", "--ripple"),
+    target = units.parse_quantity(inductive_to, "Hz", what="--inductive-to")
+    q_at = opt.parse_q_at(min_q, target, "--min-q", "--inductive-to")
+    spec = Spec(target=target, current=opt.quantity(current, "A", "--current"),
+                ripple=opt.quantity(ripple_current, "A", "--ripple-current"),
                 warn_below=warn_below, predictable_at=predictable_at,
-                current_margin=current_margin,
-                min_q=units.parse_number(min_q, "--min-q") if min_q is not None else None)
+                current_margin=current_margin, min_q=q_at[0] if q_at else None,
+                min_q_hz=q_at[1] if q_at and q_at[1] != target else None)
     spec.validate()
     if plot is not None:
         plot_path(plot)
@@ -98,6 +102,8 @@ def inductive_cmd(
         result = check(store, parts, spec, maker, model=model)
     if fmt == "table":
         cols = COLS[:-1] + (CURRENT_COLS if spec.current is not None else []) + COLS[-1:]
+        if spec.min_q_hz is not None:
+            cols.insert(-1, Col("q", f"Q@{units.format_quantity(spec.q_hz, 'Hz')}", ""))
         if any(r.get("model_source") != "catalog" for r in result.rows):
             cols = cols[:-1] + [Col("model", "model")] + cols[-1:]
         lines = [opt.emit(result.rows, cols, fmt), ""]

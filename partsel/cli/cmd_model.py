@@ -21,10 +21,6 @@ app.add_typer(model_app, name="model")
 _SHOWN = 20     # names listed on the terminal before "and N more"
 
 
-def _maker_option() -> Any:
-    return typer.Option(None, "--maker", help="Maker, when several share the part number.")
-
-
 def _source_option(what: str) -> Any:
     return typer.Option(None, "--source", metavar="vendor|fit",
                         help=f"{what}: vendor (a maker's file) or fit (a saved fit); "
@@ -145,8 +141,8 @@ def import_cmd(
     fixture: str = typer.Option(None, "--fixture", metavar="reflection|shunt-thru|series-thru",
                                 help="Touchstone: how the parts were mounted (needed for "
                                      "2-port files; a 1-port file is a reflection)."),
-    dry_run: bool = typer.Option(False, "--dry-run",
-                                 help="Read, match and check everything; write nothing."),
+    dry_run: bool = opt.dry_run_option("Read, match and check everything and say what would "
+                                       "be stored; write nothing."),
     fmt: str = opt.format_option(),
 ) -> None:
     """Store makers' models of parts: SPICE subcircuits and Touchstone files.
@@ -188,7 +184,7 @@ def import_cmd(
 def list_cmd(
     ctx: typer.Context,
     part: str = typer.Argument(None, metavar="[PART]", help="Only this part's models."),
-    maker: str = typer.Option(None, "--maker", help="Only this maker's parts."),
+    maker: str = opt.maker_option("Only this maker's parts."),
     source: str = _source_option("Only models of this source"),
     limit: int = typer.Option(50, "--limit", "-n", min=0, metavar="N",
                               help="Rows to show (0 = all)."),
@@ -219,7 +215,7 @@ def list_cmd(
 def show_cmd(
     ctx: typer.Context,
     part: str = typer.Argument(..., metavar="PART", help="Part number."),
-    maker: str = _maker_option(),
+    maker: str = opt.maker_option(),
     source: str = _source_option("Only the model of this source"),
     fmt: str = typer.Option("table", "--format", "-f", metavar="table|json",
                             help="Output: text for reading, or JSON with SI numbers."),
@@ -261,10 +257,9 @@ def show_cmd(
 def remove_cmd(
     ctx: typer.Context,
     part: str = typer.Argument(..., metavar="PART", help="Part number."),
-    maker: str = _maker_option(),
+    maker: str = opt.maker_option(),
     source: str = _source_option("Remove only the model of this source"),
-    dry_run: bool = typer.Option(False, "--dry-run", help="Say what would be removed; remove "
-                                                          "nothing."),
+    dry_run: bool = opt.dry_run_option("Say what would be removed; remove nothing."),
 ) -> None:
     """Remove a part's stored models (kept in the model history); the catalog model is used again.
 

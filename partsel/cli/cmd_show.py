@@ -24,7 +24,7 @@ _FIELDS = [("maker", None), ("kind", None), ("technology", None), ("case", None)
 def show_cmd(
     ctx: typer.Context,
     part: str = typer.Argument(..., metavar="PART", help="Part number."),
-    maker: str = typer.Option(None, "--maker", help="Maker, when several share the number."),
+    maker: str = opt.maker_option(),
     model: str = opt.model_option(),
     fmt: str = opt.format_option(),
 ) -> None:
@@ -80,14 +80,15 @@ def show_cmd(
         note(c if c.startswith("Caution") else f"Caution: {c}")
 
 
-@app.command("curve")
+@app.command("curve", cls=opt.renamed({"--per-decade": "--points-per-decade",
+                                       **opt.MEASURED_ALIASES}))
 def curve_cmd(
     ctx: typer.Context,
     parts: list[str] = typer.Argument(..., metavar="PART...", help="One or more part numbers."),
     band: str = typer.Option(None, "--band", metavar="F1..F2",
                              help="Frequency band (default: two decades around the SRFs)."),
-    per_decade: int = typer.Option(10, "--per-decade", min=1, max=2000,
-                                   help="Points per decade in the printed table."),
+    per_decade: int = opt.points_per_decade_option(10, "Log-spaced points per decade in the "
+                                                       "printed table (the plot takes 200)."),
     limit: str = typer.Option(None, "--limit-line", metavar="Z",
                               help="Draw a |Z| limit on the plot, e.g. 0.5ohm."),
     bias: str = typer.Option(None, "--bias", metavar="V", help="DC bias for class II parts."),
@@ -95,12 +96,9 @@ def curve_cmd(
                                 help="Mounting inductance added to capacitors."),
     plot: Path = typer.Option(None, "--plot", metavar="FILE.png",
                               help="Also write a plot of |Z| and phase (.png, .svg or .pdf)."),
-    maker: str = typer.Option(None, "--maker", help="Maker, when several share a number."),
+    maker: str = opt.maker_option(),
     model: str = opt.model_option(),
     model_only: bool = opt.model_only_option(),
-    measured: bool = typer.Option(False, "--measured", help="Same as --model measured."),
-    measured_only: bool = typer.Option(False, "--measured-only",
-                                       help="Same as --model measured --model-only."),
     fmt: str = opt.format_option(),
 ) -> None:
     """Print |Z| and phase of parts on a log grid, and optionally plot them.
@@ -121,14 +119,12 @@ def curve_cmd(
     with open_store_for(ctx) as store:
         res = curves(store, list(parts), rng, per_decade, bias=opt.quantity(bias, "V", "--bias"),
                      mount_l=opt.quantity(mount_l, "H", "--mount-l"), maker=maker,
-                     model=model, model_only=model_only, measured=measured,
-                     measured_only=measured_only)
+                     model=model, model_only=model_only)
         if plot is not None:
             dense = curves(store, list(parts), (res.f[0], res.f[-1]), 200,
                            bias=opt.quantity(bias, "V", "--bias"),
                            mount_l=opt.quantity(mount_l, "H", "--mount-l"), maker=maker,
-                           model=model, model_only=model_only, measured=measured,
-                           measured_only=measured_only)
+                           model=model, model_only=model_only)
     rows = []
     for j, f in enumerate(res.f):
         row = {"f_hz": float(f)}

@@ -6,18 +6,18 @@ from pathlib import Path
 
 import typer
 
+from partsel.cli import options as opt
 from partsel.cli.app import app, echo, is_terminal, note, open_store_for
 
 
-@app.command("import")
+@app.command("import", cls=opt.renamed({"--check": "--dry-run"}))
 def import_cmd(
     ctx: typer.Context,
     file_name: str = typer.Argument(..., metavar="FILE",
                                     help="Catalog file: .csv, .xlsx or .parquet with one header "
                                          "row."),
-    check: bool = typer.Option(False, "--check",
-                               help="Dry run: list every problem with row and column, write "
-                                    "nothing."),
+    dry_run: bool = opt.dry_run_option("List every problem with row and column, or how many rows "
+                                       "would be stored; write nothing."),
     mapping: str = typer.Option(None, "--map", metavar="MAP.toml",
                                 help="Column mapping for a file with its own column names, "
                                      "units and words (TOML; see the example above)."),
@@ -42,7 +42,7 @@ def import_cmd(
 
     Example: partsel --store parts.duckdb import catalog.csv
 
-    Example: partsel import export.xlsx --map export.toml --check
+    Example: partsel import export.xlsx --map export.toml --dry-run
     """
     from partsel.io.mapping import read_mapping
     from partsel.store.importer import (
@@ -54,7 +54,7 @@ def import_cmd(
 
     file = Path(file_name)
     mapped = read_mapping(mapping) if mapping is not None else None
-    if check:
+    if dry_run:
         frame, problems = check_catalog(file, mapped)
         for p in problems:
             echo(f"{file.name}: {p}")
@@ -81,6 +81,18 @@ def import_cmd(
         note(f"{file.name}: {remark}")
 
 
+def _store_text(ctx: typer.Context) -> str:
+    """The store a write would go to, checked as far as a dry run can: an existing file must be
+    a partsel store; a missing one would be created."""
+    from partsel.store.db import resolve_path
+
+    path, _ = resolve_path((ctx.find_root().obj or {}).get("store"))
+    if not path.exists():
+        return f"a new store {path}"
+    with open_store_for(ctx) as store:
+        return f"{store.path} (now {store.count()} parts)"
+
+
 @app.command("demo")
 def demo_cmd(
     ctx: typer.Context,
@@ -88,6 +100,8 @@ def demo_cmd(
                               help="How many invented parts (default: the bundled demo "
                                    "catalog size)."),
     seed: int = typer.Option(2026, "--seed", help="Seed of the generator (same seed, same parts)."),
+    dry_run: bool = opt.dry_run_option("Generate the parts and say where they would go; write "
+                                       "nothing."),
 ) -> None:
     """Fill the store with invented demo parts (for trying partsel and for benchmarks).
 
@@ -104,6 +118,10 @@ def demo_cmd(
     if show:
         note(f"generating {n} invented parts ...")
     frame = generate(n, seed=seed)
+    if dry_run:
+        echo(f"demo: would add or replace {len(frame)} invented parts (seed {seed}) in "
+             f"{_store_text(ctx)}; nothing was written")
+        return
     with open_store_for(ctx, write=True) as store:
         progress = None
         if show:

@@ -11,8 +11,12 @@ it is obsolete, nrnd (not recommended for new designs), out of stock (stock 0), 
 line's working voltage (:func:`partsel.derating.derating`). A part (maker and part
 number) found on several lines is flagged on each of them, not refused: their quantities are
 totalled for the stock check. Lines that need action get the best alternates: the same rules
-as :func:`partsel.jobs.alternates.alternates_for`, with candidates active and in stock, and the
-line's working voltage as the voltage rule and the DC bias.
+as :func:`partsel.jobs.alternates.alternates_for`, with candidates in stock and in one of the
+default lifecycle states (:data:`partsel.catalog.DEFAULT_LIFECYCLES`: active or nrnd), and the
+line's working voltage as the voltage rule and the DC bias. Alternates whose stock covers the
+quantity come first, then active ones before nrnd ones (a parts list is what will be bought:
+at the same coverage the part with the longer life ahead), then by curve distance; every nrnd
+alternate is named in the report's notes.
 """
 
 from __future__ import annotations
@@ -21,6 +25,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
+from partsel.catalog import DEFAULT_LIFECYCLES
 from partsel.derating import derating
 from partsel.errors import PartselError
 from partsel.io.parts_list import ListLine
@@ -76,6 +81,7 @@ class LineReport:
 class BomReport:
     lines: list[LineReport]
     cautions: list[str] = field(default_factory=list)
+    notes: list[str] = field(default_factory=list)   # e.g. the nrnd alternates offered
 
     @property
     def needs_action(self) -> int:
@@ -130,7 +136,19 @@ def check_bom(store: Store, lines: Sequence[ListLine], alternates: int = 3) -> B
                 safety.needs_caution(a.get("safety_class"), a.get("rated_voltage_v"))
                 for a in reports[pos].alternates):
             cautions.add(safety.caution_text())
-    return BomReport(reports, sorted(cautions))
+    return BomReport(reports, sorted(cautions), _nrnd_notes(reports))
+
+
+def _nrnd_notes(reports: Sequence[LineReport]) -> list[str]:
+    """One note per line that offers nrnd alternates."""
+    out = []
+    for rep in reports:
+        nrnd = [a["part_number"] for a in rep.alternates if a.get("lifecycle") == "nrnd"]
+        if nrnd:
+            out.append(f"line {rep.line}: alternate{'' if len(nrnd) == 1 else 's'} "
+                       f"{', '.join(nrnd)} {'is' if len(nrnd) == 1 else 'are'} nrnd (not "
+                       "recommended for new designs: still sold, nearer the end of production)")
+    return out
 
 
 def _unknown_note(store: Store, ln: ListLine) -> str:
@@ -175,7 +193,7 @@ def _judge(store: Store, rep: LineReport, part: dict[str, Any], n_alternates: in
     if not rep.reasons or n_alternates == 0:
         return
     # ask for a few more, so that alternates whose stock covers the quantity can come first
-    crit = Criteria(working_voltage=wv, lifecycles=("active",), in_stock=True,
+    crit = Criteria(working_voltage=wv, lifecycles=DEFAULT_LIFECYCLES, in_stock=True,
                     limit=4 * n_alternates)
     try:
         res = alternates_for(store, part, crit)
@@ -190,8 +208,10 @@ def _judge(store: Store, rep: LineReport, part: dict[str, Any], n_alternates: in
          "rated_voltage_v": c.part.get("rated_voltage"),
          "covers_quantity": quantity is None or (c.part.get("stock") or 0) >= quantity}
         for c in res.candidates]
-    # stable: best curve distance first among those whose stock covers the quantity
-    rep.alternates = sorted(rep.alternates, key=lambda a: not a["covers_quantity"])
+    # stable: those whose stock covers the quantity first, active before nrnd, then the best
+    # curve distance
+    rep.alternates = sorted(rep.alternates, key=lambda a: (not a["covers_quantity"],
+                                                           a["lifecycle"] == "nrnd"))
     rep.alternates = rep.alternates[:n_alternates]
     if not rep.alternates:
         rep.note = (f"no alternate passes every rule ({res.fit} pass form and fit): the near "

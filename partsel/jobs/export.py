@@ -36,14 +36,22 @@ from partsel.store.parts import catalog_rows
 from partsel.units import format_quantity
 
 
-def write_atomic(path: Path, data: str | bytes) -> Path:
-    """Write a file whole or not at all (a temporary file in the same folder, then a rename)."""
+def writable_path(path: Path) -> Path:
+    """``path`` (user folder expanded) if a file can be written there: not a folder, in a
+    folder that exists."""
     path = path.expanduser()
     if path.is_dir():
         raise StoreError(f"{path} is a folder: give a file name")
     folder = path.parent if str(path.parent) else Path(".")
     if not folder.is_dir():
         raise StoreError(f"no folder {folder} for {path.name}: create it first")
+    return path
+
+
+def write_atomic(path: Path, data: str | bytes) -> Path:
+    """Write a file whole or not at all (a temporary file in the same folder, then a rename)."""
+    path = writable_path(path)
+    folder = path.parent if str(path.parent) else Path(".")
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", dir=folder)
     try:
         with os.fdopen(fd, "wb") as fh:
@@ -258,8 +266,9 @@ def catalog_frame(store: Store) -> pd.DataFrame:
     return df
 
 
-def write_parquet(store: Store, path: Path) -> tuple[int, Path]:
-    """Write the whole catalog as Parquet (see :func:`catalog_frame`); returns (parts, path)."""
+def write_parquet(store: Store, path: Path, dry_run: bool = False) -> tuple[int, Path]:
+    """Write the whole catalog as Parquet (see :func:`catalog_frame`); returns (parts, path).
+    With ``dry_run`` the file is built and the path checked, and nothing is written."""
     import pyarrow as pa
     import pyarrow.parquet as pq
 
@@ -274,4 +283,6 @@ def write_parquet(store: Store, path: Path) -> tuple[int, Path]:
                                            b"partsel": json.dumps(info).encode()})
     sink = pa.BufferOutputStream()
     pq.write_table(table, sink, compression="zstd")
+    if dry_run:
+        return len(df), writable_path(path)
     return len(df), write_atomic(path, sink.getvalue().to_pybytes())

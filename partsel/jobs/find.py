@@ -16,6 +16,7 @@ import numpy as np
 
 from partsel.catalog import (
     CAPACITOR_TECHNOLOGIES,
+    DEFAULT_LIFECYCLES,
     INDUCTOR_TECHNOLOGIES,
     LIFECYCLES,
     canonical,
@@ -56,7 +57,7 @@ class Search:
     dielectrics: tuple[str, ...] = ()
     technologies: tuple[str, ...] = ()
     makers: tuple[str, ...] = ()
-    lifecycles: tuple[str, ...] = ("active", "nrnd")
+    lifecycles: tuple[str, ...] = DEFAULT_LIFECYCLES
     in_stock: bool = False
     bias: float | None = None           # capacitors: working DC voltage for class II loss [V]
     mount_l: float | None = None        # capacitors: mounting inductance added to ESL [H]

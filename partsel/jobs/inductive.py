@@ -72,7 +72,9 @@ class Spec:
         Isat and Irms above the need by less than this ratio warn (default 1.2: 20 % headroom,
         common practice, no source). 1 turns the warning off.
     min_q : float, optional
-        Q at the target at least this [1].
+        Q at least this [1], at ``min_q_hz``.
+    min_q_hz : float, optional
+        The frequency of the minimum-Q check [Hz]; None: the target.
     """
 
     target: float
@@ -82,6 +84,12 @@ class Spec:
     predictable_at: float = 10.0
     current_margin: float = 1.2
     min_q: float | None = None
+    min_q_hz: float | None = None
+
+    @property
+    def q_hz(self) -> float:
+        """Where the minimum-Q check is made [Hz]: ``min_q_hz``, else the target."""
+        return self.target if self.min_q_hz is None else self.min_q_hz
 
     def validate(self) -> None:
         if not (math.isfinite(self.target) and self.target > 0):
@@ -105,6 +113,10 @@ class Spec:
                              f"{self.current_margin:g}")
         if self.min_q is not None and not (math.isfinite(self.min_q) and self.min_q > 0):
             raise QueryError(f"--min-q must be a positive number, got {self.min_q:g}")
+        if self.min_q_hz is not None and not (math.isfinite(self.min_q_hz)
+                                              and self.min_q_hz > 0):
+            raise QueryError(f"the frequency of the minimum Q must be above 0 Hz, got "
+                             f"{format_quantity(self.min_q_hz, 'Hz')}")
 
     @property
     def i_peak(self) -> float | None:
@@ -131,6 +143,7 @@ class Metrics:
     l_eff_h: NDArray[np.float64]
     l_change: NDArray[np.float64]    # L_eff / L - 1
     q_at_target: NDArray[np.float64]
+    q: NDArray[np.float64]           # Q at the minimum-Q frequency (spec.q_hz)
     isat_margin: NDArray[np.float64]
     irms_margin: NDArray[np.float64]
     srf_level: NDArray[np.int8]      # OK, NOTE, WARN or FAIL per check
@@ -214,13 +227,21 @@ def evaluate_models(spec: Spec, models: ModelSet, srf: ArrayLike, lossy: ArrayLi
     # past the zero-phase frequency the part is a capacitor: no Q or L of an inductor there
     q = np.where(has_srf & ~inductive, np.nan, q)
     l_eff = np.where(has_srf & inductive, z.imag / (2.0 * np.pi * t), np.nan)
+    q_check = q
+    if spec.min_q_hz is not None:
+        # Q at another frequency than the target: negative (a fail) where the part is
+        # capacitive there
+        with np.errstate(all="ignore"):
+            zq = models.impedance_each(np.full(n, spec.min_q_hz))
+            q_check = np.where(np.asarray(lossy, dtype=bool), zq.imag / zq.real, np.nan)
     q_level = np.full(n, OK, dtype=np.int8)
     if spec.min_q is not None:
-        q_level = np.where(np.isnan(q), WARN, np.where(q >= spec.min_q, OK, FAIL)).astype(np.int8)
+        q_level = np.where(np.isnan(q_check), WARN,
+                           np.where(q_check >= spec.min_q, OK, FAIL)).astype(np.int8)
 
     isat_m, isat_level = _margin(isat, spec.i_peak, spec.current_margin, n)
     irms_m, irms_level = _margin(irms, spec.i_rms, spec.current_margin, n)
-    return Metrics(f0, ratio, grade, l_eff, l_eff / lval - 1.0, q, isat_m, irms_m,
+    return Metrics(f0, ratio, grade, l_eff, l_eff / lval - 1.0, q, q_check, isat_m, irms_m,
                    srf_level, q_level, isat_level, irms_level)
 
 
@@ -281,21 +302,25 @@ def _reasons(spec: Spec, part: dict[str, Any], m: Metrics, i: int) -> list[str]:
         out.append((OK, f"inductive up to the target: zero-phase frequency {_q(f0, 'Hz')}"))
 
     q = float(m.q_at_target[i])
+    at_target = spec.min_q is not None and spec.min_q_hz is None
     if np.isnan(q):
         why = ("capacitive at the target: Q and L at the target are not shown"
                if grade == "capacitive" else
                "no DCR in the catalog: Q at the target cannot be computed")
-        out.append((int(m.q_level[i]) if spec.min_q is not None else NOTE, why))
+        out.append((int(m.q_level[i]) if at_target else NOTE, why))
     else:
-        need = f" (at least {spec.min_q:g} required)" if spec.min_q is not None else ""
+        need = f" (at least {spec.min_q:g} required)" if at_target else ""
         bound = "; an upper bound without the winding capacitance" if grade == "unknown" else ""
-        word = "only " if m.q_level[i] == FAIL else ""
-        out.append((int(m.q_level[i]), f"Q at the target {word}{q:.3g}{need}{bound}"))
+        word = "only " if at_target and m.q_level[i] == FAIL else ""
+        out.append((int(m.q_level[i]) if at_target else OK,
+                    f"Q at the target {word}{q:.3g}{need}{bound}"))
         rp = part.get("rp")
         if rp is None or not math.isfinite(float(rp)):
             out.append((NOTE, "Q is an upper bound: it counts the DCR loss only, as the catalog "
                               "gives no Rp (core loss)"))
 
+    if spec.min_q is not None and spec.min_q_hz is not None:
+        out.append(_q_reason(spec, float(m.q[i]), int(m.q_level[i])))
     if spec.current is not None:
         drop = part.get("isat_drop")
         drop_text = (f"L {drop:.0%} down at Isat" if drop is not None
@@ -310,6 +335,18 @@ def _reasons(spec: Spec, part: dict[str, Any], m: Metrics, i: int) -> list[str]:
             int(m.irms_level[i]), spec.current_margin, None))
     order = sorted(range(len(out)), key=lambda k: -out[k][0])
     return [f"{LEVEL_WORDS[out[k][0]]}: {out[k][1]}" for k in order]
+
+
+def _q_reason(spec: Spec, q: float, level: int) -> tuple[int, str]:
+    """The minimum-Q check at a frequency other than the target."""
+    at = _q(spec.q_hz, "Hz")
+    if np.isnan(q):
+        return level, f"no DCR in the catalog: Q at {at} cannot be computed"
+    if q < 0:
+        return level, (f"capacitive at {at} (Q {q:.3g}): at least Q {spec.min_q:g} required "
+                       "there")
+    word = "only " if level == FAIL else ""
+    return level, f"Q at {at} {word}{q:.3g} (at least {spec.min_q:g} required)"
 
 
 def _current_reason(name: str, rating: float | None, need: float | None, need_text: str,
@@ -369,6 +406,7 @@ def check_rows(parts: Sequence[dict[str, Any]], spec: Spec,
             "srf_ratio": float(m.srf_ratio[i]), "srf_grade": GRADES[m.grade[i]],
             "l_eff_h": float(m.l_eff_h[i]), "l_change": float(m.l_change[i]),
             "q_at_target": float(m.q_at_target[i]),
+            **({"q": float(m.q[i])} if spec.min_q is not None else {}),
             "isat": p.get("isat"), "isat_drop": p.get("isat_drop"), "irms": p.get("irms"),
             "i_peak_a": spec.i_peak, "i_rms_a": spec.i_rms,
             "isat_margin": float(m.isat_margin[i]), "irms_margin": float(m.irms_margin[i]),

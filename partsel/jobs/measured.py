@@ -51,6 +51,7 @@ class SweepImport:
     sweep: StoredSweep
     added: bool                  # False: the same sweep was already stored
     remarks: list[str] = field(default_factory=list)
+    dry_run: bool = False        # True: checked only; ``added`` says it would be added
 
 
 # -- reading sweep files -------------------------------------------------------------------------
@@ -135,32 +136,38 @@ def latest_sweep(store: Store, part: dict[str, Any]) -> StoredSweep | None:
 
 def store_sweep(store: Store, part_number: str, f: ArrayLike, z: ArrayLike, *,
                 maker: str | None = None, source_file: str = "", fixture: str | None = None,
-                note: str | None = None) -> SweepImport:
+                note: str | None = None, dry_run: bool = False) -> SweepImport:
     """Store a measured sweep with its part (one statement: nothing changes on an error).
 
-    The same curve stored again for the same part is not added twice.
+    The same curve stored again for the same part is not added twice. With ``dry_run`` every
+    check is made and nothing is stored (the sweep returned is dated now).
     """
     part = store.find_part(part_number, maker)
     fa, za = _checked(f, z, source_file or "sweep")
     key = (part["maker"], part["part_number"])
     same = sweeps.same_sweep(store, *key, fa, za, fixture)
     if same is not None:
-        return SweepImport(same, added=False)
-    stored = sweeps.insert_sweep(store, *key, fa, za, source_file=source_file, fixture=fixture,
-                                 note=note)
+        return SweepImport(same, added=False, dry_run=dry_run)
+    if dry_run:
+        stored = StoredSweep(*key, source_file, fixture, datetime.now(), fa, za, note)
+    else:
+        stored = sweeps.insert_sweep(store, *key, fa, za, source_file=source_file,
+                                     fixture=fixture, note=note)
     remarks = []
     negative = int(np.count_nonzero(za.real < 0))
     if negative > fa.size // 4:
         remarks.append(f"{negative} of {fa.size} points have a negative resistance, which a "
                        "passive part cannot have: check the fixture and the calibration")
-    return SweepImport(stored, added=True, remarks=remarks)
+    return SweepImport(stored, added=True, remarks=remarks, dry_run=dry_run)
 
 
 def import_sweep(store: Store, path: str | Path, part_number: str, *, maker: str | None = None,
-                 fixture: str | None = None, cli: bool = False,
+                 fixture: str | None = None, cli: bool = False, dry_run: bool = False,
                  **csv_options: str | None) -> SweepImport:
-    """Read a sweep file (:func:`read_sweep_file`) and store it with the part."""
-    store.require_write("store a sweep")
+    """Read a sweep file (:func:`read_sweep_file`) and store it with the part (with
+    ``dry_run``: read and check it, store nothing)."""
+    if not dry_run:
+        store.require_write("store a sweep")
     p = Path(path)
     store.find_part(part_number, maker)  # a wrong part number fails before the file is read
     f, z, fixture, note = read_sweep_file(p, fixture=fixture, cli=cli, **csv_options)
@@ -170,7 +177,7 @@ def import_sweep(store: Store, path: str | Path, part_number: str, *, maker: str
     except OSError:
         pass
     return store_sweep(store, part_number, f, z, maker=maker, source_file=p.name,
-                       fixture=fixture, note=note)
+                       fixture=fixture, note=note, dry_run=dry_run)
 
 
 def span_text(lo: float, hi: float) -> str:
@@ -234,7 +241,8 @@ def _run_fit(kind: str, f: NDArray, z: NDArray, tan_delta: bool, rp: bool,
 
 def fit_part(store: Store, part_number: str, *, maker: str | None = None,
              tan_delta: bool = False, rp: bool = True, band: tuple[float, float] | None = None,
-             save: bool = True, keep_anyway: bool = False, cli: bool = False) -> PartFit:
+             save: bool = True, keep_anyway: bool = False, cli: bool = False,
+             sweep: StoredSweep | None = None) -> PartFit:
     """Fit a part's equivalent circuit to its latest stored sweep; store it unless ``save`` is
     false.
 
@@ -244,7 +252,8 @@ def fit_part(store: Store, part_number: str, *, maker: str | None = None,
     "measured fit"; the model they replace is kept in ``model_history``. A fit that did not
     converge is refused and changes nothing, and so is one that :func:`fit_doubts` finds
     implausible, unless ``keep_anyway`` (with ``save`` false its doubts become warnings).
-    With ``cli``, messages name the command's options instead of keyword arguments.
+    With ``cli``, messages name the command's options instead of keyword arguments. ``sweep``
+    fits that sweep instead of the latest stored one (a sweep not stored: ``save`` false).
 
     Raises
     ------
@@ -258,7 +267,10 @@ def fit_part(store: Store, part_number: str, *, maker: str | None = None,
     if part["kind"] == "inductor" and tan_delta:
         raise QueryError(f"{_word(cli, '--tan-delta', 'tan_delta')} is for capacitors; an "
                          "inductor's losses are DCR and Rp")
-    sweep = latest_sweep(store, part)
+    if sweep is not None and save:
+        raise QueryError("a sweep that is not stored cannot give a stored fit: store it first, "
+                         "or fit it without saving")
+    sweep = sweep or latest_sweep(store, part)
     if sweep is None:
         raise QueryError(f"no measured sweep is stored for {part['part_number']}: import one "
                          "first" + (f" with 'partsel sweep import FILE --part "

@@ -105,7 +105,8 @@ def survivors(store: Store, kind: str, exclude_id: int, value_range: tuple[float
     pass every rule (with ``explain``: fail at most one), ordered by id.
 
     Columns: the survivor figures (id, value, esr, esl, tan_delta, dcr, srf, rp, price, stock,
-    rated_voltage; with a ``bias`` also technology, dielectric, case), ``curve_ratio`` (C/C0 at
+    rated_voltage; with a ``bias`` also technology, dielectric, case), ``nrnd`` (whether the
+    part is not recommended for new designs, for the ranking), ``curve_ratio`` (C/C0 at
     the bias from the part's own curve, NaN without one), ``curve_last_v`` (its last voltage)
     and a boolean ``r_<name>`` per rule.
     """
@@ -118,7 +119,8 @@ def survivors(store: Store, kind: str, exclude_id: int, value_range: tuple[float
     fetch = list(_SURVIVOR) + (list(_BIAS) if bias is not None else [])
     k_sql, ratio_sql = curve_ratio_sql() if bias is not None else ("NULL", "NULL")
     last_sql = "bias_v[len(bias_v)]" if bias is not None else "NULL"
-    sql = (f"SELECT {', '.join(_select(c) for c in fetch)}, curve_ratio, curve_last_v"
+    sql = (f"SELECT {', '.join(_select(c) for c in fetch)}, "
+           "coalesce(lifecycle, 'active') = 'nrnd' AS nrnd, curve_ratio, curve_last_v"
            f"{''.join(f', r_{name}' for name, _ in rules)} FROM ("
            f"SELECT *, {ratio_sql} AS curve_ratio{rule_cols} FROM ("
            f"SELECT *, {ELECTROLYTE_SQL} AS electrolyte, {k_sql} AS bias_k, "

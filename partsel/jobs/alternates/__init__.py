@@ -21,7 +21,8 @@ Fit
     beats class II, then the smaller change). ``safety``: IEC 60384-14 class kept (same or
     higher subclass, Y may replace X, never the reverse; a rated part is never replaced by an
     unrated one; :func:`partsel.standards.safety.may_replace`). ``aec_q200``: AEC-Q200 Rev E
-    grade equal or better. ``lifecycle``: one of the accepted states (default active).
+    grade equal or better. ``lifecycle``: one of the accepted states (default active and nrnd,
+    :data:`partsel.catalog.DEFAULT_LIFECYCLES`; nrnd candidates are named in the notes).
     ``stock``: in stock (when asked). Inductors: ``dcr`` no higher; ``isat`` no lower and defined
     at the same or a smaller inductance drop; ``irms`` no lower; ``srf`` no lower than the
     original's, or at least a frequency the user gives.
@@ -49,7 +50,10 @@ trapezoid rule in ln f on a log grid of :data:`PER_DECADE` points per decade, re
 the |Z| extremum of both parts (the series resonance of a capacitor, the peak of an inductor;
 see :func:`band_grid`) so that a narrow resonance is neither stepped over nor under-weighted.
 The largest |d| (the ``curve`` rule) is taken on the same points. Ties in distance break by
-price (lowest first), then stock (highest first), then the order the parts were stored.
+lifecycle (an active part before an nrnd one: at the same match an engineer takes the part with
+the longer life ahead), then price (lowest first), then stock (highest first), then the order
+the parts were stored. The distance stays the first key: an nrnd part that matches better ranks
+above an active one that matches worse, and the notes name it.
 
 Default band (our choice): capacitors SRF/30 .. SRF*10 of the original at the working bias,
 which holds the capacitive region (C sets |Z|), the resonance (ESR) and the inductive region

@@ -7,7 +7,7 @@ from typing import Any
 
 import numpy as np
 
-from partsel.catalog import LIFECYCLES
+from partsel.catalog import DEFAULT_LIFECYCLES, LIFECYCLES
 from partsel.errors import QueryError
 
 PER_DECADE = 100
@@ -71,7 +71,8 @@ class Criteria:
     srf_above : float, optional
         Inductors: SRF at least this [Hz] instead of at least the original's.
     lifecycles : tuple of str
-        Accepted lifecycle states of a candidate.
+        Accepted lifecycle states of a candidate (default
+        :data:`partsel.catalog.DEFAULT_LIFECYCLES`: active and nrnd).
     in_stock : bool
         Candidates must have stock > 0.
     explain : bool
@@ -91,7 +92,7 @@ class Criteria:
     value_within: float | None = None
     working_voltage: float | None = None
     srf_above: float | None = None
-    lifecycles: tuple[str, ...] = ("active",)
+    lifecycles: tuple[str, ...] = DEFAULT_LIFECYCLES
     in_stock: bool = False
     explain: bool = False
     limit: int = 10
@@ -177,7 +178,7 @@ class AlternatesResult:
     effects: list[str] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)
     cautions: list[str] = field(default_factory=list)
-    order: str = ("curve distance (RMS dB difference of |Z| over the band), then price, "
-                  "then stock")
+    order: str = ("curve distance (RMS dB difference of |Z| over the band), then active before "
+                  "nrnd, then price, then stock")
     bias: float | None = None            # DC bias applied to capacitors [V]
     original_bias_source: str = "none"   # one of partsel.jobs.models.BIAS_SOURCES

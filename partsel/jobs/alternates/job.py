@@ -171,12 +171,14 @@ def _describe(c: dict[str, Any], i: int, rules: list[FormFitRule],
 
 
 def _ranked(a: dict[str, NDArray], rms: NDArray, sel: NDArray[np.bool_]) -> list[int]:
-    """Survivors in ``sel``, best first: curve distance, then price, then stock, then id."""
+    """Survivors in ``sel``, best first: curve distance, then active before nrnd, then price,
+    then stock, then id."""
     idx = np.flatnonzero(sel)
+    nrnd = a["nrnd"][idx].astype(bool)
     price = np.where(np.isfinite(a["price"][idx].astype(float)),
                      a["price"][idx].astype(float), np.inf)
     stock = np.nan_to_num(a["stock"][idx].astype(float), nan=-1.0)
-    return [int(i) for i in idx[np.lexsort((a["id"][idx], -stock, price, rms[idx]))]]
+    return [int(i) for i in idx[np.lexsort((a["id"][idx], -stock, price, nrnd, rms[idx]))]]
 
 
 def _band(orig: _Original, criteria: Criteria, is_cap: bool,
@@ -203,6 +205,18 @@ def _original_notes(o: dict[str, Any], criteria: Criteria) -> list[str]:
         return [f"the original itself is rated {q(o['rated_voltage'], 'V')} ({why}): below the "
                 f"working voltage {q(wv, 'V')}"]
     return []
+
+
+def _nrnd_notes(cands: list[Candidate], misses: list[Candidate]) -> list[str]:
+    """Which of the parts shown are not recommended for new designs (accepted by default)."""
+    out = []
+    for what, group in (("candidates", cands), ("near misses", misses)):
+        nrnd = [c.part["part_number"] for c in group if c.part.get("lifecycle") == "nrnd"]
+        if nrnd:
+            out.append(f"nrnd (not recommended for new designs: still sold, nearer the end of "
+                       f"production than an active part) among the {what} shown: "
+                       + ", ".join(nrnd) + "; accept only active parts to leave them out")
+    return out
 
 
 def alternates_for(store: Store, original: dict[str, Any],
@@ -250,5 +264,6 @@ def alternates_for(store: Store, original: dict[str, Any],
         safety.needs_caution(p.get("safety_class"), p.get("rated_voltage")) for p in shown) else []
     names = [r.name for r in rules] + list(scores.ok)
     return AlternatesResult(o, orig.value_eff, band, cands, misses, len(passing), fit,
-                            len(near), names, skipped, effects, _original_notes(o, criteria),
+                            len(near), names, skipped, effects,
+                            _original_notes(o, criteria) + _nrnd_notes(cands, misses),
                             cautions, bias=bias, original_bias_source=BIAS_SOURCES[orig.source])

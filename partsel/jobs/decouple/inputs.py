@@ -9,7 +9,13 @@ from typing import Literal
 import numpy as np
 from numpy.typing import NDArray
 
-from partsel.catalog import CAPACITOR_TECHNOLOGIES, LIFECYCLES, canonical, normalise_case
+from partsel.catalog import (
+    CAPACITOR_TECHNOLOGIES,
+    DEFAULT_LIFECYCLES,
+    LIFECYCLES,
+    canonical,
+    normalise_case,
+)
 from partsel.engine import pdn
 from partsel.errors import QueryError
 from partsel.standards import eia198
@@ -146,7 +152,7 @@ class Choice:
     technologies: tuple[str, ...] = ()
     dielectrics: tuple[str, ...] = ()
     makers: tuple[str, ...] = ()
-    lifecycles: tuple[str, ...] = ("active",)
+    lifecycles: tuple[str, ...] = DEFAULT_LIFECYCLES
     min_voltage: float | None = None        # rated voltage at least [V]; default per technology
     in_stock: bool = False
     max_parts: int = 500

@@ -45,6 +45,11 @@ def plan(store: Store, rail: Rail, choice: Choice | None = None, *, measured: bo
     res.effects.insert(2, voltage_rule_text(rail.voltage, choice.min_voltage))
     if not parts.catalog_rlc:
         res.effects.insert(1, _models_line(parts))
+    nrnd = [r["part_number"] for r in res.lines if r["lifecycle"] == "nrnd"]
+    if nrnd:
+        res.notes.append("nrnd (not recommended for new designs: still sold, nearer the end of "
+                         "production than an active part) in the bank: " + ", ".join(nrnd)
+                         + "; plan with active parts only to leave them out")
     res.stats["seconds"] = time.perf_counter() - t0
     return res
 
