@@ -58,7 +58,21 @@ COLUMNS: tuple[Column, ...] = (
     Column("stock", "int", meaning="units in stock", sql_type="BIGINT"),
     Column("bias_curve", "curve", meaning="measured DC-bias curve: 'V:ratio' pairs, "
            "e.g. '0V:1, 3.3V:0.62, 6.3V:0.41'", sql_type="VARCHAR"),
+    # schema version 3: worst case and yield
+    Column("tolerance_minus", "fraction", meaning="low side of an asymmetric tolerance, e.g. "
+           "0.2 for +80/-20 % (read from the tolerance cell; empty: symmetric)"),
+    Column("tolerance_plus", "fraction", meaning="high side of an asymmetric tolerance"),
+    Column("temp_curve", "curve", meaning="C(T)/C(25 degC): 'T:ratio' pairs, e.g. "
+           "'-55C:0.88, 25C:1, 125C:0.85'", sql_type="VARCHAR"),
+    Column("esr_temp_curve", "curve", meaning="ESR(T)/ESR(25 degC): 'T:ratio' pairs, e.g. "
+           "'-40C:5, 25C:1, 105C:0.6'", sql_type="VARCHAR"),
+    Column("l_curve", "curve", meaning="L(I)/L(0) against DC current: 'I:ratio' pairs, e.g. "
+           "'0A:1, 1A:0.9, 2A:0.7'", sql_type="VARCHAR"),
 )
+# The columns each schema version after the first added (the first made the rest).
+ADDED_IN: dict[int, tuple[str, ...]] = {
+    3: ("tolerance_minus", "tolerance_plus", "temp_curve", "esr_temp_curve", "l_curve"),
+}
 
 BY_NAME: dict[str, Column] = {c.name: c for c in COLUMNS}
 NAMES: tuple[str, ...] = tuple(c.name for c in COLUMNS)

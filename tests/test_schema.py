@@ -75,3 +75,18 @@ def test_a_first_release_store_gains_the_models_table(tmp_path, monkeypatch):
         assert schema.current_version(s.con) == schema.SCHEMA_VERSION
         assert s.con.execute("SELECT count(*) FROM models").fetchone() == (0,)
         assert s.count() == 1
+
+
+def test_a_schema_2_store_gains_the_corner_columns_in_place(tmp_path, monkeypatch):
+    path = tmp_path / "v2.duckdb"
+    with monkeypatch.context() as m:
+        m.setattr(schema, "MIGRATIONS", {v: schema.MIGRATIONS[v] for v in (1, 2)})
+        m.setattr(schema, "SCHEMA_VERSION", 2)
+        with open_store(path, write=True) as s:
+            s.con.execute("INSERT INTO parts (id, part_number, maker, kind, value) "
+                          "VALUES (1, 'P1', 'M', 'capacitor', 1e-6)")
+    with open_store(path) as s:
+        assert schema.current_version(s.con) == 3
+        cols = {r[0] for r in s.con.execute("DESCRIBE parts").fetchall()}
+        assert {"temp_curve", "esr_temp_curve", "l_curve"} <= cols
+        assert s.count() == 1

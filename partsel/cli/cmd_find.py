@@ -41,6 +41,12 @@ JSON_KEYS = {
 }
 
 
+# Worst-corner figures (find --corners) keep their names in JSON and CSV.
+JSON_KEYS.update({k: k for k in (
+    "corner_max_z_ohm", "corner_f_max_hz", "corner_min_z_ohm", "corner_f_min_hz",
+    "corner_zero_phase_hz", "corner_q", "corner", "corner_sides", "corner_c_ratio",
+    "corner_r_ratio", "corner_l_ratio", "corner_exact", "corner_estimates")})
+
 _NOT_FOR = {"capacitor": {"dcr", "srf", "rp", "isat", "irms"},
             "inductor": {"esr", "esl", "tan_delta", "dielectric", "esr_source", "esl_source"}}
 
@@ -76,6 +82,20 @@ def _columns(search: Any) -> list[Col]:
         cols = cols[:-2] + [Col("q", f"Q@{units.format_quantity(search.min_q[1], 'Hz')}", "")] \
             + cols[-2:]
     return cols
+
+
+def _corner_columns(search: Any, cols: list[Col]) -> list[Col]:
+    """The worst-corner figures beside the nominal ones (find --corners)."""
+    extra = []
+    if search.band and (search.below is not None or search.above is None):
+        extra.append(Col("corner_max_z_ohm", "corner max |Z|", "ohm"))
+    if search.above is not None:
+        extra.append(Col("corner_min_z_ohm", "corner min |Z|", "ohm"))
+    if search.kind == "inductor" and search.inductive_to is not None:
+        extra.append(Col("corner_zero_phase_hz", "corner f(phase=0)", "Hz"))
+    if search.kind == "inductor" and search.min_q is not None:
+        extra.append(Col("corner_q", "corner Q", ""))
+    return cols[:-2] + extra + [Col("corner", "worst corner")] + cols[-2:]
 
 
 @app.command("find", cls=opt.renamed({"--ripple": "--ripple-current",
@@ -135,6 +155,16 @@ def find_cmd(
     model_only: bool = opt.model_only_option(),
     limit: int = opt.limit_option(),
     fmt: str = opt.format_option(),
+    corners: bool = typer.Option(False, "--corners",
+                                 help="Judge and rank each part at its worst corner: tolerance "
+                                      "(both sides), temperature (--temp), aging (--age), "
+                                      "DC bias and current, exact over the band."),
+    temp: str = typer.Option(None, "--temp", metavar="T1..T2",
+                             help="With --corners: temperature range, e.g. -40C..85C "
+                                  "(default 25 degC only)."),
+    age: str = typer.Option(None, "--age", metavar="LIFE",
+                            help="With --corners: class II aging after this life, e.g. 10y "
+                                 "or 1000h (default new)."),
 ) -> None:
     """Find parts that meet an impedance limit over a band, best first.
 
@@ -147,6 +177,8 @@ def find_cmd(
       partsel find inductor --inductive-to 100MHz --value 10nH..100nH
 
       partsel find "capacitor below 0.5 ohm from 1 to 30 MHz"
+
+      partsel find capacitor --below 0.1ohm --band 1MHz..10MHz --corners --temp -40C..85C --age 10y
     """
     from partsel import units
     from partsel.jobs.find import Search, find
@@ -193,6 +225,8 @@ def find_cmd(
         kw["srf_ratio"] = srf_ratio
     kw["model"], kw["model_only"] = model, model_only
     kw.setdefault("limit", limit)
+    if corners or temp is not None or age is not None:
+        kw.update(corners=corners, temp=temp, age=age)
     search = Search(**kw)
     search.validate()
     with open_store_for(ctx) as store:
@@ -203,6 +237,8 @@ def find_cmd(
             r["esl_mounted"] = (r.get("esl") or 0.0) + search.mount_l
     if any(r.get("model_source") != "catalog" for r in result.rows):
         cols = cols[:-2] + [Col("model", "model")] + cols[-2:]
+    if search.corners:
+        cols = _corner_columns(search, cols)
     echo(opt.emit(result.rows, cols, fmt, json_keys=json_row))
     shown = len(result.rows)
     note(f"{result.matches} of {result.considered} {search.kind}s pass; showing {shown}, "

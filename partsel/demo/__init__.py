@@ -31,7 +31,7 @@ from partsel.demo.common import MAKERS, Block, Rng, as_text, pick, round_sig
 from partsel.demo.inductors import _MULTILAYER, _THIN_FILM, _WIREWOUND, _power, _rf_inductor
 from partsel.demo.part_numbers import serials
 from partsel.errors import QueryError
-from partsel.standards import aecq200
+from partsel.standards import aecq200, iec60062
 
 DEFAULT_PARTS = 6000
 
@@ -163,8 +163,17 @@ def generate(n: int, seed: int = SEED) -> pd.DataFrame:
             columns[name] = _aec_grades(rng, num["temp_min"], num["temp_max"])
         elif name == "stock":
             columns[name] = np.where(zero, 0, stock).astype(np.int64)
-        else:
+        elif name in num:
             columns[name] = num[name]
+        elif name in ("tolerance_minus", "tolerance_plus"):
+            # Z (+80/-20 %, IEC 60062) is the one asymmetric letter the demo uses
+            z = iec60062.TOLERANCE_LETTERS["Z"]
+            side = z.minus if name == "tolerance_minus" else z.plus
+            columns[name] = np.where(num["tolerance"] == z.wider, side, np.nan)
+        else:   # the worst-case columns of schema 3 are left empty in the demo
+            col = catalog.BY_NAME[name]
+            columns[name] = pd.Series([None] * n, dtype=object) if col.sql_type == "VARCHAR" \
+                else np.full(n, np.nan)
     return pd.DataFrame(columns, copy=False)  # no block consolidation: 4x faster at 1e6 rows
 
 

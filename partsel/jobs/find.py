@@ -70,6 +70,9 @@ class Search:
     measured: bool = False              # old spelling of model="measured"
     measured_only: bool = False         # old spelling of model="measured", model_only=True
     limit: int = 20                     # 0 = all
+    corners: bool = False               # judge and rank at each part's worst corner
+    temp: Any = None                    # corners: temperature range [degC] or text '-40C..85C'
+    age: Any = None                     # corners: life [h] or text '10y'
 
     def validate(self) -> None:
         """Refuse contradictory or unknown criteria; spell the list filters as the catalog does
@@ -118,6 +121,12 @@ class Search:
         if self.model_only and self.model == "catalog":
             raise QueryError("model_only needs a model choice other than catalog (vendor, "
                              "measured or best)")
+        if (self.temp is not None or self.age is not None) and not self.corners:
+            raise QueryError("a temperature range or a life applies to the worst case: ask "
+                             "for the corners too")
+        if self.corners:
+            from partsel.jobs.corners_find import conditions_of
+            conditions_of(self)
         if self.band is None and self.inductive_to is None and self.current is None:
             raise QueryError("nothing to search for: give an impedance limit below or above "
                              "over a band, a frequency to stay inductive to, or a current")
@@ -188,10 +197,18 @@ class _Pool:
     metrics: dict[str, np.ndarray] = field(default_factory=dict)
     c_eff: np.ndarray | None = None
     bias_src: np.ndarray | None = None
+    extra_rows: Any = None     # corners: the text fields of a row, by position
+
+
+def corner_columns(kind: str) -> tuple[str, ...]:
+    from partsel.jobs.corners import CAPACITOR_COLUMNS, INDUCTOR_COLUMNS
+    return CAPACITOR_COLUMNS if kind == "capacitor" else INDUCTOR_COLUMNS
 
 
 def _capacitors(store: Store, search: Search, effects: list[str], notes: list[str]) -> _Pool:
     cols = queries.CAPACITOR_COLUMNS + (queries.BIAS_COLUMNS if search.bias is not None else ())
+    if search.corners:
+        cols += tuple(c for c in corner_columns("capacitor") if c not in cols)
     a = queries.candidate_columns(store, "capacitor", cols, **_filters(search))
     a["tan_delta"] = np.nan_to_num(a["tan_delta"])
     chosen = choose_models(store, a["id"], catalog_models("capacitor", a), search.model,
@@ -240,8 +257,10 @@ def _bias_on_models(chosen: Chosen, ratio: np.ndarray) -> str:
 
 
 def _inductors(store: Store, search: Search, effects: list[str], notes: list[str]) -> _Pool:
-    a = queries.candidate_columns(store, "inductor", queries.INDUCTOR_COLUMNS,
-                                  **_filters(search))
+    cols = queries.INDUCTOR_COLUMNS
+    if search.corners:
+        cols += tuple(c for c in corner_columns("inductor") if c not in cols)
+    a = queries.candidate_columns(store, "inductor", cols, **_filters(search))
     chosen = choose_models(store, a["id"], catalog_models("inductor", a), search.model,
                            only=search.model_only)
     effects.append(chosen.summary())
@@ -395,6 +414,11 @@ def find(store: Store, search: Search) -> FindResult:
         notes.append("--inductive-to and --min-q are checked on the chosen models (the "
                      "measured curve where a part has one)")
     key, order = _rank(search, pool)
+    if search.corners:
+        from partsel.jobs import corners_find
+        key = corners_find.apply(search, pool, key, effects, notes, lambda i: [
+            p["part_number"] for p in store.parts_by_id(pool.cols["id"][i])])
+        order = order.replace(" first", " at the worst corner first")
     idx, matches = _shown(search, key, pool.ok)
     _shown_metrics(search, pool, idx)
     parts = store.parts_by_id(pool.cols["id"][idx])
@@ -412,6 +436,8 @@ def find(store: Store, search: Search) -> FindResult:
         row["model_family"] = str(pool.chosen.family[pos])
         row["model"] = labels[pos]
         row["model_origin"] = str(pool.chosen.origin[pos])
+        if pool.extra_rows is not None:
+            row.update(pool.extra_rows(pos))
         curve = _curve_word(pool, int(pos), search.band)
         if curve is not None:
             row["curve"] = curve

@@ -128,3 +128,43 @@ def at_least_as_stable(candidate: str, original: str) -> bool:
     if c.klass == 1:
         return c.coefficient_span <= o.coefficient_span
     return c.max_change <= o.max_change
+
+
+@dataclass(frozen=True)
+class Envelope:
+    """What a code guarantees for C(T)/C(25 degC) over a temperature range.
+
+    ``low``/``high`` are the smallest and largest ratios; ``beyond`` says the range reaches
+    outside the code's own (the code then says nothing there, and the envelope is held: an
+    estimate). For class I codes the ends are at the range's ends; a class II code bounds the
+    change over its whole range without a shape inside it, so its envelope holds at every
+    temperature of the range except 25 degC itself.
+    """
+
+    low: float
+    high: float
+    beyond: bool
+    source: str
+
+
+def temperature_envelope(code: str, t_lo: float, t_hi: float) -> Envelope:
+    """C(T)/C(25 degC) bounds that an EIA-198 code guarantees over [t_lo, t_hi] degC.
+
+    X7R -55..125 -> 0.85..1.15; X5R -55..85 -> 0.85..1.15; Y5V -30..85 -> 0.18..1.22; C0G
+    -55..125 -> 1 -/+ 30 ppm/K x (T - 25) (EIA-198). A range of 25 degC alone gives 1..1.
+    """
+    d = decode(code)
+    beyond = t_lo < d.t_min or t_hi > d.t_max
+    if d.klass == 1:
+        assert d.tc_ppm is not None and d.tc_tolerance_ppm is not None
+        # linear in T and in the coefficient: the extremes sit at the ends of both ranges
+        vals = [1.0 + a * 1e-6 * (t - REFERENCE_TEMPERATURE)
+                for a in (d.tc_ppm - d.tc_tolerance_ppm, d.tc_ppm + d.tc_tolerance_ppm)
+                for t in (t_lo, t_hi)]
+        return Envelope(min(vals), max(vals), beyond,
+                        f"EIA-198 {d.code} {d.tc_ppm:+g} ±{d.tc_tolerance_ppm:g} ppm/K")
+    if t_lo == t_hi == REFERENCE_TEMPERATURE:
+        return Envelope(1.0, 1.0, False, f"EIA-198 {d.code} envelope")
+    return Envelope(1.0 + d.change_low, 1.0 + d.change_high, beyond,
+                    f"EIA-198 {d.code} envelope {100 * d.change_low:+g}/"
+                    f"{100 * d.change_high:+g} % over {d.t_min:g}..{d.t_max:g} degC")

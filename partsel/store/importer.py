@@ -37,6 +37,7 @@ from partsel.catalog import (
 from partsel.errors import CatalogError, PartselError
 from partsel.io.catalog import normalise_header, read_cells
 from partsel.io.mapping import Mapping, apply_mapping, read_mapping
+from partsel.store import curves
 from partsel.store.db import Store
 
 
@@ -219,6 +220,9 @@ def _parsers() -> dict[str, Callable[[str], Any]]:
         "stock": _int_in(0, None, "stock"),
         "aec_q200_grade": _int_in(0, 4, "AEC-Q200 grade"),
         "bias_curve": parse_bias_curve,
+        "tolerance_minus": lambda t: _fraction_in(t, "tolerance_minus", 0.0, 1.0),
+        "tolerance_plus": lambda t: _fraction_in(t, "tolerance_plus", 0.0, 10.0),
+        **{name: curves.parser(name) for name in curves.CURVES},
     }
 
 
@@ -288,6 +292,7 @@ def parse_catalog(cells: pd.DataFrame) -> tuple[pd.DataFrame, list[Problem]]:
             v = float(val) if val not in ("None", "nan") else None
             return units.parse_tolerance(text, v)
         out["tolerance"] = _parse_unique(tol_keyed, parse_tol, "tolerance", problems, rows)
+        _tolerance_sides(out, cells["tolerance"])
     else:
         out["tolerance"] = None
     out["case"] = cells["case"].map(normalise_case).where(cells["case"] != "", None) \
@@ -303,6 +308,17 @@ def parse_catalog(cells: pd.DataFrame) -> tuple[pd.DataFrame, list[Problem]]:
         out["extra"] = None
     problems.sort(key=lambda p: (p.row, NAMES.index(p.column) if p.column in NAMES else 99))
     return out, problems
+
+
+def _tolerance_sides(out: pd.DataFrame, cells: pd.Series) -> None:
+    """Keep both sides of an asymmetric tolerance (the tolerance column holds the wider one);
+    sides given in their own columns win."""
+    sides = {t: curves.tolerance_sides(t) for t in pd.unique(cells) if t != ""}
+    for k, name in enumerate(("tolerance_minus", "tolerance_plus")):
+        read = cells.map(lambda t, k=k: (sides.get(t) or (None, None))[k])
+        given = out[name]
+        out[name] = given.where(given.notna(), read).astype(object)
+        out[name] = out[name].where(out[name].notna(), None)
 
 
 def _check_rows(out: pd.DataFrame, rows: np.ndarray, problems: list[Problem]) -> None:

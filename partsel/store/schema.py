@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import duckdb
 
-from partsel.catalog import COLUMNS, MODEL_PARAMETERS
+from partsel.catalog import ADDED_IN, BY_NAME, COLUMNS, MODEL_PARAMETERS
 from partsel.errors import StoreError
 
 
@@ -19,7 +19,9 @@ def _q(name: str) -> str:
 
 
 def _parts_ddl() -> str:
-    cols = [f"{_q(c.name)} {c.sql_type}" for c in COLUMNS]
+    """The parts table of the first version: the catalog columns less those added later."""
+    later = {name for names in ADDED_IN.values() for name in names}
+    cols = [f"{_q(c.name)} {c.sql_type}" for c in COLUMNS if c.name not in later]
     cols += [f"{_q(p + '_source')} VARCHAR" for p in MODEL_PARAMETERS]
     cols += [
         "bias_v DOUBLE[]",          # parsed bias_curve voltages [V], ascending
@@ -56,6 +58,12 @@ MIGRATIONS: dict[int, list[str]] = {
             source VARCHAR NOT NULL, family VARCHAR NOT NULL,
             source_file VARCHAR, subckt VARCHAR, imported_at TIMESTAMP,
             text VARCHAR, ints BIGINT[], reals DOUBLE[], note VARCHAR)""",
+    ],
+    3: [
+        # Worst case and yield: the sides of an asymmetric tolerance and the per-part curves
+        # of capacitance and ESR against temperature and of inductance against current.
+        f"ALTER TABLE parts ADD COLUMN {_q(name)} {BY_NAME[name].sql_type}"
+        for name in ADDED_IN[3]
     ],
 }
 SCHEMA_VERSION = max(MIGRATIONS)

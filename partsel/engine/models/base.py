@@ -98,6 +98,9 @@ class Family(ABC):
     params: ClassVar[tuple[Param, ...]] = ()
     #: an exact network of R, L, C (and K): combines exactly with others and exports to SPICE
     lumped: ClassVar[bool] = False
+    #: the layers beyond capacitance and series inductance that the family takes
+    #: (:meth:`with_resistance_scale`, :meth:`with_inductance_scale`)
+    scalable: ClassVar[frozenset[str]] = frozenset()
 
     # -- batches -----------------------------------------------------------------------------
     @abstractmethod
@@ -177,11 +180,28 @@ class Family(ABC):
     def with_capacitance_scale(self, batch: Batch, ratio: ArrayLike) -> Batch:
         """Each part with its capacitance multiplied by ``ratio`` (DC bias, tolerance, ...)."""
 
+    def with_resistance_scale(self, batch: Batch, ratio: ArrayLike) -> Batch:
+        """Each part with its loss resistance (ESR and dielectric loss of a capacitor, the DCR
+        of an inductor) multiplied by ``ratio`` (temperature). A family that cannot say which
+        element is the loss (a netlist, a measured curve) takes only ``ratio`` = 1."""
+        return _unit_layer(self, batch, ratio, "resistance")
+
+    def with_inductance_scale(self, batch: Batch, ratio: ArrayLike) -> Batch:
+        """Each inductor with its inductance multiplied by ``ratio`` (tolerance, DC current);
+        the winding capacitance stays. Families without one take only ``ratio`` = 1."""
+        return _unit_layer(self, batch, ratio, "inductance")
+
     # -- out ---------------------------------------------------------------------------------
     def circuit(self, batch: Batch, i: int) -> Any:
         """An :class:`~partsel.engine.circuit.Circuit` of part ``i`` for SPICE export, or None
         when the family has no exact network form (see :attr:`lumped`)."""
         return None
+
+
+def _unit_layer(fam: Family, batch: Batch, ratio: ArrayLike, what: str) -> Batch:
+    if np.any(np.asarray(ratio, dtype=float) != 1):
+        raise ValueError(f"family {fam.name} takes no {what} scale")
+    return batch
 
 
 class ClosedForm(Family):

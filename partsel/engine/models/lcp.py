@@ -155,6 +155,7 @@ class LCP(ClosedForm):
               Param("dcr", "ohm", "series (DC) resistance", 0.0),
               Param("cp", "F", "winding capacitance, from the SRF", 0.0),
               Param("rp", "ohm", "parallel loss resistance (inf: none)", np.inf, positive=True))
+    scalable = frozenset({"resistance", "inductance"})
 
     def impedance(self, b: dict[str, NDArray], f: NDArray) -> NDArray[np.complex128]:
         return impedance(f[None, :], b["value"][:, None], b["dcr"][:, None], b["cp"][:, None],
@@ -190,6 +191,15 @@ class LCP(ClosedForm):
         if np.any(np.asarray(ratio, dtype=float) != 1):
             raise ValueError("a capacitance scale applies to capacitor models")
         return b
+
+    def with_resistance_scale(self, b: dict[str, NDArray], ratio: ArrayLike) -> dict[str, NDArray]:
+        """The DCR times ``ratio`` (R_p, the core loss, stays)."""
+        return {**b, "dcr": b["dcr"] * np.asarray(ratio, dtype=float)}
+
+    def with_inductance_scale(self, b: dict[str, NDArray], ratio: ArrayLike) -> dict[str, NDArray]:
+        """L times ``ratio``; the winding capacitance C_p stays, so the SRF moves as
+        1/sqrt(L)."""
+        return {**b, "value": b["value"] * np.asarray(ratio, dtype=float)}
 
     def circuit(self, b: dict[str, NDArray], i: int):
         from partsel.engine.circuit import Circuit, Element

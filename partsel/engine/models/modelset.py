@@ -220,6 +220,22 @@ class ModelSet:
         """Each part's capacitance multiplied by ``ratio`` (per part or one for all)."""
         return self._mapped(ratio, lambda g, v: g.family.with_capacitance_scale(g.batch, v))
 
+    def with_resistance_scale(self, ratio: ArrayLike) -> ModelSet:
+        """Each part's loss resistance multiplied by ``ratio`` (see
+        :meth:`Family.with_resistance_scale`)."""
+        return self._mapped(ratio, lambda g, v: g.family.with_resistance_scale(g.batch, v))
+
+    def with_inductance_scale(self, ratio: ArrayLike) -> ModelSet:
+        """Each inductor's inductance multiplied by ``ratio``."""
+        return self._mapped(ratio, lambda g, v: g.family.with_inductance_scale(g.batch, v))
+
+    def scalable(self, layer: str) -> NDArray[np.bool_]:
+        """(P,) whether each part's family takes the layer ("resistance", "inductance")."""
+        out = np.zeros(self.n, dtype=bool)
+        for g in self.groups:
+            out[g.index] = layer in g.family.scalable
+        return out
+
     def circuit(self, i: int) -> Any:
         """The exact network of part ``i`` (:meth:`Family.circuit`), or None."""
         for g in self.groups:

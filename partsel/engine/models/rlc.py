@@ -152,6 +152,7 @@ class RLC(ClosedForm):
               Param("esr", "ohm", "constant series resistance", 0.0),
               Param("esl", "H", "series inductance", 0.0),
               Param("tan_delta", "", "dissipation factor of the dielectric", 0.0))
+    scalable = frozenset({"resistance"})
 
     def impedance(self, b: dict[str, NDArray], f: NDArray) -> NDArray[np.complex128]:
         return impedance(f[None, :], b["value"][:, None], b["esr"][:, None], b["esl"][:, None],
@@ -184,6 +185,11 @@ class RLC(ClosedForm):
 
     def with_capacitance_scale(self, b: dict[str, NDArray], ratio: ArrayLike) -> dict[str, NDArray]:
         return {**b, "value": b["value"] * np.asarray(ratio, dtype=float)}
+
+    def with_resistance_scale(self, b: dict[str, NDArray], ratio: ArrayLike) -> dict[str, NDArray]:
+        """R(f) = esr + tan_delta/(omega C) times ``ratio``: both loss terms scale."""
+        r = np.asarray(ratio, dtype=float)
+        return {**b, "esr": b["esr"] * r, "tan_delta": b["tan_delta"] * r}
 
     def circuit(self, b: dict[str, NDArray], i: int):
         """Exact only without dielectric loss (a constant tan delta is no lumped element)."""

@@ -143,6 +143,12 @@ class RLCSkin(rlc.RLC):
         z2 = np.abs(impedance(f2, *self._args(b)))
         return np.maximum(z1, z2), np.where(z2 > z1, f2, f1)
 
+    def with_resistance_scale(self, b: dict[str, NDArray], ratio: ArrayLike) -> dict[str, NDArray]:
+        """Every loss term (esr, tan_delta, k_skin) times ``ratio``."""
+        r = np.asarray(ratio, dtype=float)
+        return {**b, "esr": b["esr"] * r, "tan_delta": b["tan_delta"] * r,
+                "k_skin": b["k_skin"] * r}
+
     def circuit(self, b: dict[str, NDArray], i: int) -> None:
         """A sqrt(f) resistance is no lumped element: no exact network."""
         return None
