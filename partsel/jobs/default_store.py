@@ -9,15 +9,16 @@ from __future__ import annotations
 
 import os
 
-from partsel.demo import DEFAULT_PARTS, demo_catalog
 from partsel.store import db
-from partsel.store.importer import insert_frame
 
 DEMO_SOURCE = "demo catalog (invented parts)"
 
 
 def fill_with_demo(store: db.Store) -> str:
     """Import the bundled demo catalog into a new store; the notice that says so."""
+    from partsel.demo import DEFAULT_PARTS, demo_catalog
+    from partsel.store.importer import insert_frame
+
     insert_frame(store, demo_catalog(), source_file=DEMO_SOURCE)
     return (f"created a store at {store.path} with the bundled demo catalog ({DEFAULT_PARTS} "
             f"invented parts); give a store path (or set {db.ENV_VAR}) for your own catalog")

@@ -16,6 +16,7 @@ from typing import Any
 import duckdb
 import numpy as np
 
+from partsel import interrupt
 from partsel.errors import PartNotFound, StoreError
 from partsel.store import schema
 
@@ -161,8 +162,13 @@ def _connect(path: Path, read_only: bool) -> duckdb.DuckDBPyConnection:
         if "lock" in text.lower():
             raise StoreError(f"the store {path} is in use by another process ({text}); "
                              "close it there or open a copy") from None
-        raise StoreError(f"{path} is not a partsel store (not a DuckDB database file); give "
-                         "a .duckdb file made by partsel, or a new file name") from None
+        from partsel.store.integrity import header_problem
+        try:
+            problem = header_problem(path)
+        except OSError as err:
+            problem = f"cannot read {path}: {err.strerror}; check its permissions"
+        raise StoreError(problem or f"{path} cannot be opened as a store ({text}): the file is "
+                         "damaged or cut short; restore it from a copy") from None
 
 
 def _create(p: Path, create: bool, write: bool, first_use: FirstUse | None) -> Store:
@@ -174,14 +180,35 @@ def _create(p: Path, create: bool, write: bool, first_use: FirstUse | None) -> S
     except OSError as exc:
         raise StoreError(f"cannot create the store folder {p.parent}: {exc.strerror}; "
                          "choose another store path") from None
-    store = Store(p, _connect(p, read_only=False), read_only=False)
-    schema.migrate(store.con, None)
-    if first_use is not None:
-        store.notices.append(first_use(store))
-    if not write:
+    # Built under a temporary name and renamed when complete, so that an interrupted or killed
+    # first use leaves no store (the next run starts again), never an empty or half-filled one.
+    tmp = p.with_name(f".{p.name}.new-{os.getpid()}")
+    mark = interrupt.mark()
+    store = None
+    try:
+        _remove_database(tmp)
+        store = Store(p, _connect(tmp, read_only=False), read_only=False)
+        schema.migrate(store.con, None)
+        if first_use is not None:
+            store.notices.append(first_use(store))
         store.close()
-        store = Store(p, _connect(p, read_only=True), read_only=True, notices=store.notices)
-    return store
+        with interrupt.held():
+            os.replace(tmp, p)
+            interrupt.forget(mark)
+            interrupt.record(f"a new store {p}" + (" with the demo catalog" if first_use else ""))
+    except BaseException:
+        if store is not None:
+            store.close()
+        _remove_database(tmp)
+        interrupt.forget(mark)
+        raise
+    return Store(p, _connect(p, read_only=not write), read_only=not write,
+                 notices=store.notices)
+
+
+def _remove_database(path: Path) -> None:
+    for f in (path, path.with_name(path.name + ".wal")):
+        f.unlink(missing_ok=True)
 
 
 def resolve_path(path: str | os.PathLike[str] | None = None) -> tuple[Path, bool]:
@@ -221,8 +248,9 @@ def open_store(path: str | os.PathLike[str] | None = None, *, write: bool = Fals
         version = schema.current_version(con)
     except duckdb.Error as exc:
         con.close()
-        raise StoreError(f"{p} is not a partsel store ({exc}); give a store file made by "
-                         "partsel") from None
+        text = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
+        raise StoreError(f"{p} cannot be read as a store ({text}): the file is damaged or cut "
+                         "short, or not a partsel store; restore it from a copy") from None
     if version is None:
         con.close()
         raise StoreError(f"{p} is a DuckDB database but not a partsel store (no partsel schema); "

@@ -10,20 +10,15 @@ from typing import Any
 
 from partsel.catalog import MODEL_PARAMETERS
 from partsel.store.db import Store
+from partsel.store.transaction import transaction
 
 _NEWEST = "ORDER BY saved_at DESC, rowid DESC"
 
 
-def _transaction(store: Store, statements: list[tuple[str, list[Any]]]) -> None:
-    con = store.con
-    con.execute("BEGIN TRANSACTION")
-    try:
+def _transaction(store: Store, statements: list[tuple[str, list[Any]]], change: str) -> None:
+    with transaction(store.con, f"{change} in {store.path}"):
         for sql, params in statements:
-            con.execute(sql, params)
-        con.execute("COMMIT")
-    except Exception:
-        con.execute("ROLLBACK")
-        raise
+            store.con.execute(sql, params)
 
 
 def _update(part_id: int, model: dict[str, Any], names: Iterable[str]) -> tuple[str, list[Any]]:
@@ -43,7 +38,7 @@ def replace_model(store: Store, part_id: int, maker: str, part_number: str,
     _transaction(store, [
         ("INSERT INTO model_history VALUES (?, ?, now(), ?, ?)",
          [maker, part_number, reason, json.dumps(previous)]),
-        _update(part_id, model, names)])
+        _update(part_id, model, names)], f"the new model of {part_number}")
 
 
 def restore_model(store: Store, part_id: int, maker: str, part_number: str, history_row: int,
@@ -54,7 +49,8 @@ def restore_model(store: Store, part_id: int, maker: str, part_number: str, hist
         ("DELETE FROM model_history WHERE rowid = ?", [history_row]),
         ("INSERT INTO model_history VALUES (?, ?, now(), ?, ?)",
          [maker, part_number, reason, json.dumps(current)]),
-        _update(part_id, restored, MODEL_PARAMETERS)])
+        _update(part_id, restored, MODEL_PARAMETERS)],
+        f"the earlier model of {part_number} put back")
 
 
 def history(store: Store, maker: str, part_number: str

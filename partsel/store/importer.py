@@ -39,6 +39,7 @@ from partsel.io.catalog import normalise_header, read_cells
 from partsel.io.mapping import Mapping, apply_mapping, read_mapping
 from partsel.store import curves
 from partsel.store.db import Store
+from partsel.store.transaction import transaction
 
 
 @dataclass(frozen=True)
@@ -523,8 +524,11 @@ def insert_frame(store: Store, frame: pd.DataFrame, source_file: str,
     con = store.con
     quoted = ", ".join(f'"{c}"' for c in cols)
     totals = np.zeros(4, dtype=np.int64)
-    con.execute("BEGIN TRANSACTION")
-    try:
+
+    def change() -> str:
+        return (f"{int(totals[0])} parts added and {int(totals[1] - totals[2])} replaced from "
+                f"{source_file} in {store.path}")
+    with transaction(con, change):
         for start in range(0, len(df), chunk):
             con.register("incoming", df.iloc[start:start + chunk])
             n_old = con.execute(
@@ -551,10 +555,6 @@ def insert_frame(store: Store, frame: pd.DataFrame, source_file: str,
             totals += (n - n_old, n_old, same, kept)
             if progress:
                 progress(min(start + chunk, len(df)), len(df))
-        con.execute("COMMIT")
-    except Exception:
-        con.execute("ROLLBACK")
-        raise
     return InsertCounts(*(int(x) for x in totals))
 
 

@@ -17,6 +17,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from partsel.store.db import Store
+from partsel.store.transaction import transaction
 
 SOURCES = ("vendor", "fit")
 _JOIN_IDS = 20_000      # up to this many part ids are filtered in the query, more after it
@@ -77,10 +78,10 @@ def stored_models(store: Store, *, kind: str | None = None,
                   sources: Sequence[str] = SOURCES) -> list[StoredModels]:
     """The stored models of the parts of ``kind`` (or the given part ids), grouped by source
     and family, newest first within a part (one row per part and source is kept)."""
-    import pyarrow as pa
-
     if not has_models(store):
         return []
+    import pyarrow as pa
+
     conds = ["list_contains(?, m.source)"]
     params: list[Any] = [list(sources)]
     if kind is not None:
@@ -223,25 +224,25 @@ def replace_models(store: Store, rows: Sequence[ModelRow], *, reason: str) -> in
         "note": [r.note for r in rows]})
     con = store.con
     _register(store, "partsel_new_models", new)
-    con.execute("BEGIN TRANSACTION")
     try:
-        con.execute(
-            "INSERT INTO model_history SELECT m.maker, m.part_number, now(), ?, "
-            "json_object('source', m.source, 'family', m.family, 'source_file', m.source_file, "
-            "'subckt', m.subckt, 'imported_at', CAST(m.imported_at AS VARCHAR)) FROM models m "
-            "JOIN partsel_new_models n USING (maker, part_number, source)", [reason])
-        con.execute("DELETE FROM models WHERE EXISTS (SELECT 1 FROM partsel_new_models n "
-                    "WHERE n.maker = models.maker AND n.part_number = models.part_number "
-                    "AND n.source = models.source)")
-        con.execute("INSERT INTO models SELECT maker, part_number, source, family, source_file, "
-                    "subckt, now(), text, ints, reals, note FROM partsel_new_models")
-        con.execute("COMMIT")
-    except BaseException:
-        con.execute("ROLLBACK")
-        raise
+        with transaction(con, f"{len(rows)} model{'s' if len(rows) > 1 else ''} in {store.path}"):
+            _replace(con, reason)
     finally:
         con.unregister("partsel_new_models")
     return len(rows)
+
+
+def _replace(con: Any, reason: str) -> None:
+    con.execute(
+        "INSERT INTO model_history SELECT m.maker, m.part_number, now(), ?, "
+        "json_object('source', m.source, 'family', m.family, 'source_file', m.source_file, "
+        "'subckt', m.subckt, 'imported_at', CAST(m.imported_at AS VARCHAR)) FROM models m "
+        "JOIN partsel_new_models n USING (maker, part_number, source)", [reason])
+    con.execute("DELETE FROM models WHERE EXISTS (SELECT 1 FROM partsel_new_models n "
+                "WHERE n.maker = models.maker AND n.part_number = models.part_number "
+                "AND n.source = models.source)")
+    con.execute("INSERT INTO models SELECT maker, part_number, source, family, source_file, "
+                "subckt, now(), text, ints, reals, note FROM partsel_new_models")
 
 
 def model_text(store: Store, maker: str, part_number: str, source: str) -> str | None:
@@ -416,16 +417,11 @@ def remove_models(store: Store, maker: str, part_number: str, sources: Sequence[
     store.require_write("remove models")
     where, params = _model_filter(maker, part_number, sources)
     con = store.con
-    con.execute("BEGIN TRANSACTION")
-    try:
+    with transaction(con, f"the models of {part_number} removed from {store.path}"):
         con.execute(
             "INSERT INTO model_history SELECT m.maker, m.part_number, now(), ?, "
             "json_object('source', m.source, 'family', m.family, 'source_file', m.source_file, "
             "'subckt', m.subckt, 'imported_at', CAST(m.imported_at AS VARCHAR)) "
             f"FROM models m WHERE {where}", [reason, *params])
         n = con.execute(f"DELETE FROM models m WHERE {where}", params).fetchone()[0]
-        con.execute("COMMIT")
-    except BaseException:
-        con.execute("ROLLBACK")
-        raise
     return int(n)

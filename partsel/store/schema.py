@@ -12,6 +12,7 @@ import duckdb
 
 from partsel.catalog import ADDED_IN, BY_NAME, COLUMNS, MODEL_PARAMETERS
 from partsel.errors import StoreError
+from partsel.store.transaction import transaction
 
 
 def _q(name: str) -> str:
@@ -84,15 +85,14 @@ def migrate(con: duckdb.DuckDBPyConnection, from_version: int | None) -> None:
     start = (from_version or 0) + 1
     if start > SCHEMA_VERSION:
         return
-    con.execute("BEGIN TRANSACTION")
+    change = f"the store upgraded to schema {SCHEMA_VERSION}" if from_version else "a new store"
     try:
-        for version in range(start, SCHEMA_VERSION + 1):
-            for stmt in MIGRATIONS[version]:
-                con.execute(stmt)
-        con.execute("INSERT OR REPLACE INTO meta VALUES ('schema_version', ?)",
-                    [str(SCHEMA_VERSION)])
-        con.execute("COMMIT")
+        with transaction(con, change):
+            for version in range(start, SCHEMA_VERSION + 1):
+                for stmt in MIGRATIONS[version]:
+                    con.execute(stmt)
+            con.execute("INSERT OR REPLACE INTO meta VALUES ('schema_version', ?)",
+                        [str(SCHEMA_VERSION)])
     except duckdb.Error as exc:
-        con.execute("ROLLBACK")
         raise StoreError(f"could not upgrade the store to schema {SCHEMA_VERSION} ({exc}); "
                          "it was left unchanged: open it with the partsel that made it") from None

@@ -11,6 +11,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from partsel.store.db import Store
+from partsel.store.transaction import transaction
 
 _COLS = ("maker", "part_number", "source_file", "fixture", "imported_at", "f", "z_re", "z_im",
          "note")
@@ -70,12 +71,13 @@ def same_sweep(store: Store, maker: str, part_number: str, f: NDArray, z: NDArra
 
 def insert_sweep(store: Store, maker: str, part_number: str, f: NDArray, z: NDArray, *,
                  source_file: str, fixture: str | None, note: str | None) -> StoredSweep:
-    """Store one sweep (one statement), dated now; the row as stored."""
-    row = store.con.execute(
-        f"INSERT INTO sweeps ({_SWEEP_COLS}) VALUES (?, ?, ?, ?, now(), ?, ?, ?, ?) "
-        f"RETURNING {_SWEEP_COLS}",
-        [maker, part_number, source_file, fixture, f.tolist(), z.real.tolist(),
-         z.imag.tolist(), note]).fetchone()
+    """Store one sweep (one transaction), dated now; the row as stored."""
+    with transaction(store.con, f"a sweep of {part_number} in {store.path}"):
+        row = store.con.execute(
+            f"INSERT INTO sweeps ({_SWEEP_COLS}) VALUES (?, ?, ?, ?, now(), ?, ?, ?, ?) "
+            f"RETURNING {_SWEEP_COLS}",
+            [maker, part_number, source_file, fixture, f.tolist(), z.real.tolist(),
+             z.imag.tolist(), note]).fetchone()
     return _sweep(row)
 
 
