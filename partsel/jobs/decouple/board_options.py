@@ -8,13 +8,19 @@ caller's strings) into a :class:`~partsel.jobs.decouple.inputs.Board`:
 - the plane pair: ``AREA,SPACING,EPS_R[,TAN_DELTA]`` (``"1in2,4mil,4.3"``; C = eps0 eps_r A/d,
   spreading inductance mu0 d by default, :mod:`partsel.engine.pdn`) or a capacitance
   (``"10nF"``, which then needs its spreading inductance);
-- the regulator output: a resistance and an inductance, both or neither.
+- the regulator output: a resistance and an inductance, both or neither;
+- the geometry (:func:`geometry_from_text`): the plane pair's area, gap and permittivity, the
+  vias (length to the plane, pitch, radius, pairs), where the capacitors sit (distance from
+  the load's centre, pitch along their ring, the load's via field radius), the package (R, L)
+  and the die (C, R); a board file (TOML, :func:`partsel.io.board.read_board`) holds the same
+  keys, and a key given on its own overrides the file's.
 """
 
 from __future__ import annotations
 
 import re
 from collections.abc import Sequence
+from pathlib import Path
 from typing import Any
 
 from partsel import units
@@ -104,11 +110,64 @@ def parse_mount_l(values: str | Sequence[str] | None) -> dict[str, Any]:
     return {"mount_l": one, "mount_l_by_case": by_case}
 
 
+_LENGTHS = {"plane_gap": "plane gap", "via_length": "via length", "via_pitch": "via pitch",
+            "via_radius": "via radius", "load_radius": "load radius",
+            "distance": "capacitor distance", "cap_pitch": "capacitor pitch"}
+_QUANTITIES = {"package_r": ("ohm", "package resistance"),
+               "package_l": ("H", "package inductance"), "die_c": ("F", "die capacitance"),
+               "die_r": ("ohm", "die resistance")}
+
+
+def geometry_from_text(texts: dict[str, str | None]) -> dict[str, Any]:
+    """The geometry, package and die as Board fields from text (module docstring); keys of
+    :data:`partsel.io.board.KEYS`, absent or None ones left out."""
+    out: dict[str, Any] = {}
+    for key, text in texts.items():
+        if text is None:
+            continue
+        if key in _LENGTHS:
+            out[key] = parse_length(text, _LENGTHS[key])
+        elif key in _QUANTITIES:
+            unit, what = _QUANTITIES[key]
+            out[key] = units.parse_quantity(text, unit, what=what)
+        elif key == "plane_area":
+            out[key] = parse_area(text)
+        elif key == "er":
+            out["plane_er"] = units.parse_number(text, "relative permittivity")
+        elif key == "plane_tan_delta":
+            out[key] = units.parse_number(text, "plane loss tangent")
+        elif key == "via_pairs":
+            n = units.parse_number(text, "via pairs")
+            if n != int(n) or n < 1:
+                raise QueryError(f"the via pairs must be a whole number >= 1, got {text}")
+            out[key] = int(n)
+        else:
+            raise QueryError(f"unknown board quantity '{key}'")
+    return out
+
+
 def board_from_text(mount_l: str | Sequence[str] | None = None, plane: str | None = None,
                     plane_l: str | None = None, vrm_r: str | None = None,
-                    vrm_l: str | None = None) -> Board:
-    """A Board from text (module docstring); every argument may be left out."""
+                    vrm_l: str | None = None, geometry: dict[str, str | None] | None = None,
+                    board_file: str | Path | None = None) -> Board:
+    """A Board from text (module docstring); every argument may be left out. ``geometry``
+    maps board-file keys to text; ``board_file`` is read first and every text given here
+    overrides its key."""
+    given: dict[str, Any] = {"mount_l": mount_l, "plane": plane, "plane_l": plane_l,
+                             "vrm_r": vrm_r, "vrm_l": vrm_l, **(geometry or {})}
+    if board_file is not None:
+        from partsel.io.board import read_board
+
+        for key, value in read_board(board_file).items():
+            if given.get(key) is None:
+                given[key] = value
+    mount_l, plane, plane_l = given.pop("mount_l"), given.pop("plane"), given.pop("plane_l")
+    vrm_r, vrm_l = given.pop("vrm_r"), given.pop("vrm_l")
     fields: dict[str, Any] = parse_mount_l(mount_l)
+    fields.update(geometry_from_text(given))
+    if "plane_tan_delta" in fields and plane is not None:
+        raise QueryError("give the plane's loss tangent in the plane text (AREA,SPACING,EPS_R,"
+                         "TAN_DELTA) or as its own quantity, not both")
     if plane is not None:
         fields.update(parse_plane(plane, plane_l))
     elif plane_l is not None:

@@ -19,6 +19,7 @@ from partsel.engine.models import ModelSet, family
 from partsel.errors import QueryError
 from partsel.jobs.decouple.capacitance import capacitance_at_bias, worst_case_ratio
 from partsel.jobs.decouple.inputs import Choice, Prefer, Rail
+from partsel.jobs.decouple.layout import crowding
 from partsel.store.db import Store
 from partsel.store.parts import capacitors
 
@@ -68,10 +69,14 @@ class Parts:
     origin: NDArray | None = None        # per part: file, subcircuit, date
     measured_lo: NDArray | None = None   # a measured curve's range [Hz], else NaN
     measured_hi: NDArray | None = None
+    crowd_l: NDArray | None = None       # crowding into the vias on a ring [H] (layout.py)
 
     @property
     def l_total(self) -> NDArray:
-        return self.esl + self.mount_l
+        """ESL + mounting (+ crowding on a ring, when the board has a cavity) [H]."""
+        if self.crowd_l is None:
+            return self.esl + self.mount_l
+        return self.esl + self.mount_l + self.crowd_l
 
     def __len__(self) -> int:
         return len(self.id)
@@ -141,7 +146,7 @@ def attach_models(store: Store, parts: Parts, rail: Rail, choice: str, only: boo
     if np.all(chosen.source == "catalog"):
         return parts
     models = chosen.models.with_capacitance_scale(parts.c_eff / parts.value)
-    models = models.with_series_inductance(parts.mount_l)
+    models = models.with_series_inductance(parts.l_total - parts.esl)
     return Parts(**{k: getattr(parts, k) for k in parts.__dataclass_fields__
                     if k not in _MODEL_FIELDS},
                  models=models, source=chosen.source, label=np.array(chosen.labels(),
@@ -158,6 +163,7 @@ def _parts_from(cols: dict[str, NDArray], rail: Rail) -> Parts:
     worst = worst_case_ratio(np.asarray(cols["tolerance"], dtype=float), cols["technology"],
                              cols["dielectric"]) if rail.worst_case else np.ones(len(value))
     mounting = cols["mounting"]
+    crowd = crowding(rail.board)
     return Parts(
         id=cols["id"], part_number=cols["part_number"], maker=cols["maker"], value=value,
         c_eff=c_bias * worst, bias_source=source, bias_ratio=c_bias / value,
@@ -168,7 +174,8 @@ def _parts_from(cols: dict[str, NDArray], rail: Rail) -> Parts:
         price=np.asarray(cols["price"], dtype=float), case=cols["case"],
         technology=cols["technology"], dielectric=cols["dielectric"],
         rated_voltage=np.asarray(cols["rated_voltage"], dtype=float), mounting=mounting,
-        lifecycle=cols["lifecycle"], safety_class=cols["safety_class"])
+        lifecycle=cols["lifecycle"], safety_class=cols["safety_class"],
+        crowd_l=np.full(len(value), crowd) if rail.board.has_cavity else None)
 
 
 def usable(voltage: float, rated_voltage: ArrayLike, technology: Sequence[Any],

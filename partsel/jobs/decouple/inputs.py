@@ -17,6 +17,7 @@ from partsel.catalog import (
     normalise_case,
 )
 from partsel.engine import pdn
+from partsel.engine.ladder import Mask
 from partsel.errors import QueryError
 from partsel.standards import eia198
 
@@ -36,6 +37,21 @@ MOUNT_L_THROUGH_HOLE = 2.0e-9   # leaded parts: barrels and the trace to the pla
 MOUNT_L_OTHER = 1.0e-9          # other SMD packages (cans, molded tantalum/polymer cases)
 THROUGH_HOLE = "through_hole"
 
+# Length of each EIA case along its terminals [m] (EIA inch codes: 0402 = 0.04 x 0.02 in; the
+# reverse-geometry codes carry the current across their short side). With vias just outside
+# the pads the via pitch is about this length plus 0.6 mm (rule of thumb), the default when a
+# via geometry is given without a pitch.
+CASE_LENGTH: dict[str, float] = {
+    "0201": 0.6e-3, "0402": 1.0e-3, "0603": 1.6e-3, "0805": 2.0e-3, "1206": 3.2e-3,
+    "1210": 3.2e-3, "1808": 4.5e-3, "1812": 4.5e-3, "2211": 5.7e-3, "2220": 5.7e-3,
+    "0204": 0.5e-3, "0306": 0.8e-3, "0508": 1.25e-3, "0612": 1.6e-3,
+}
+VIA_PITCH_EXTRA = 0.6e-3
+DEFAULT_VIA_RADIUS = 0.15e-3     # a 0.3 mm drill (common practice, no source)
+DEFAULT_LOAD_RADIUS = 2.0e-3     # the load's via field: about a 4 mm disc (rule of thumb)
+DEFAULT_DISTANCE = 10.0e-3       # where planned capacitors sit from the load's centre
+DEFAULT_CAP_PITCH = 2.0e-3       # capacitors along a ring (courtyard of a small MLCC)
+
 
 @dataclass
 class Board:
@@ -48,6 +64,21 @@ class Board:
     plane_tan_delta: float = 0.0                        # laminate loss tangent [1]
     vrm_r: float | None = None                          # regulator output resistance [ohm]
     vrm_l: float | None = None                          # regulator output inductance [H]
+    # geometry (SI; None: not given), package and die (engine/board.py, engine/ladder.py)
+    plane_area: float | None = None                     # [m^2]
+    plane_gap: float | None = None                      # cavity thickness [m]
+    plane_er: float | None = None                       # relative permittivity [1]
+    via_length: float | None = None                     # pads to the plane pair [m]
+    via_pitch: float | None = None                      # centre distance of a via pair [m]
+    via_radius: float | None = None                     # [m]
+    via_pairs: int | None = None                        # via pairs per capacitor
+    load_radius: float | None = None                    # the load's via field [m]
+    distance: float | None = None                       # planned capacitors' ring radius [m]
+    cap_pitch: float | None = None                      # capacitors along a ring [m]
+    package_r: float | None = None                      # [ohm]
+    package_l: float | None = None                      # [H]
+    die_c: float | None = None                          # on-die capacitance [F]
+    die_r: float | None = None                          # its series resistance [ohm]
 
     def validate(self) -> None:
         names = {"mount_l": "--mount-l", "plane_c": "the plane capacitance",
@@ -64,6 +95,70 @@ class Board:
             raise QueryError("the plane capacitance must be positive")
         if (self.vrm_r is None) != (self.vrm_l is None):
             raise QueryError("the regulator model needs both --vrm-r and --vrm-l")
+        geometry = {"plane_area": "the plane area", "plane_gap": "the plane gap",
+                    "plane_er": "the relative permittivity", "via_length": "the via length",
+                    "via_pitch": "the via pitch", "via_radius": "the via radius",
+                    "load_radius": "the load radius", "distance": "the capacitor distance",
+                    "cap_pitch": "the capacitor pitch", "package_r": "the package resistance",
+                    "package_l": "the package inductance", "die_c": "the die capacitance",
+                    "die_r": "the die resistance"}
+        for name, what in geometry.items():
+            v = getattr(self, name)
+            if v is not None and not (math.isfinite(v) and v >= 0):
+                raise QueryError(f"{what} must be a positive number, got {v:g}")
+            if v == 0 and name in ("plane_area", "plane_gap", "via_radius", "load_radius",
+                                   "distance", "cap_pitch", "die_c", "via_pitch"):
+                raise QueryError(f"{what} must be larger than zero")
+        if self.plane_er is not None and self.plane_er < 1:
+            raise QueryError("the relative permittivity must be at least 1")
+        if self.via_pairs is not None and self.via_pairs < 1:
+            raise QueryError("a capacitor needs at least one via pair")
+        if self.plane_area is not None and self.plane_gap is None:
+            raise QueryError("a plane area needs the plane gap (the dielectric thickness)")
+        if self.plane_area is not None and self.plane_c is not None:
+            raise QueryError("give the plane pair once: as a geometry (area, gap, permittivity) "
+                             "or as a capacitance")
+        spreading = ("load_radius", "distance", "cap_pitch")
+        if self.plane_gap is None and any(getattr(self, k) is not None for k in spreading):
+            raise QueryError("the spreading between the capacitors and the load needs the "
+                             "plane gap (the dielectric thickness of the plane pair)")
+        if self.via_pitch is not None and self.via_length is None:
+            raise QueryError("a via pitch needs the via length to the plane")
+        if self.via_length is not None and self.via_pitch is not None \
+                and self.via_pitch <= 2 * (self.via_radius or DEFAULT_VIA_RADIUS):
+            raise QueryError("the via pitch must be more than one via diameter")
+        if self.distance is not None and self.distance <= (self.load_radius
+                                                           or DEFAULT_LOAD_RADIUS):
+            raise QueryError("the capacitors must sit farther from the load's centre than "
+                             "the load's via field reaches")
+
+    @property
+    def has_cavity(self) -> bool:
+        """The plane pair's geometry is known, so the spreading between capacitors and load
+        is modelled (engine/ladder.py)."""
+        return self.plane_gap is not None
+
+    @property
+    def has_package(self) -> bool:
+        return any(v is not None for v in (self.package_r, self.package_l, self.die_c))
+
+    @property
+    def ladder_needed(self) -> bool:
+        """The network is a ladder rather than all branches in parallel."""
+        return self.has_cavity or self.has_package
+
+    def via_mounting(self, case: str | None) -> float | None:
+        """Mounting inductance of a capacitor's via pairs from the via geometry [H], None
+        when no via geometry is given (engine/board.py:via_pair_inductance)."""
+        if self.via_length is None:
+            return None
+        from partsel.engine.board import via_pair_inductance
+
+        radius = self.via_radius or DEFAULT_VIA_RADIUS
+        pitch = self.via_pitch or (CASE_LENGTH.get((case or "").upper(), 1.6e-3)
+                                   + VIA_PITCH_EXTRA)
+        pitch = max(pitch, 2.5 * radius)
+        return float(via_pair_inductance(self.via_length, pitch, radius, self.via_pairs or 1))
 
     def mounting(self, case: NDArray, mounting: NDArray) -> NDArray[np.float64]:
         """Mounting inductance of each part [H]: per-case value, else the one value, else the
@@ -80,6 +175,8 @@ class Board:
                 out[i] = self.mount_l
             elif m == THROUGH_HOLE:
                 out[i] = MOUNT_L_THROUGH_HOLE
+            elif self.via_length is not None:
+                out[i] = self.via_mounting(key)
             else:
                 out[i] = MOUNT_L_BY_CASE.get(key, MOUNT_L_OTHER)
         return out
@@ -87,6 +184,14 @@ class Board:
     def branches(self) -> tuple[pdn.Branches, list[str]]:
         """The plane and regulator as branches, with their labels."""
         parts, labels = [], []
+        if self.plane_area is not None and self.plane_gap is not None:
+            from partsel.engine.board import plane_capacitance, plane_port_inductance
+
+            c = float(plane_capacitance(self.plane_area, self.plane_gap, self.plane_er or 4.3))
+            lp = float(plane_port_inductance(self.plane_gap, self.plane_area,
+                                             self.load_radius or DEFAULT_LOAD_RADIUS))
+            parts.append(pdn.Branches.of(c, 0.0, lp, self.plane_tan_delta))
+            labels.append("plane")
         if self.plane_c:
             parts.append(pdn.Branches.of(self.plane_c, 0.0, self.plane_l, self.plane_tan_delta))
             labels.append("plane")
@@ -109,7 +214,25 @@ class Rail:
     worst_case: bool = False                # also tolerance, temperature and aging (low side)
     margin: float = 0.0                     # hold target * (1 - margin), a design margin
     ripple: float | None = None             # kept to say where the target came from
-    step: float | None = None
+    step: float | None = None               # the load step [A] (the noise analysis)
+    mask: Mask | None = None                # a target over frequency (else flat ``target``)
+    noise: float | None = None              # the voltage spec, each side [V]
+    rise_time: float | None = None          # of the load step [s] (default 0.35 / f2)
+
+    def design_mask(self) -> Mask:
+        """The target over frequency less the design margin."""
+        base = self.mask if self.mask is not None else Mask.flat(self.target)
+        return base.scaled(1.0 - self.margin)
+
+    @property
+    def flat(self) -> bool:
+        return self.mask is None or self.mask.is_flat
+
+    @property
+    def rise(self) -> float:
+        """The load step's rise time [s]: given, else 0.35 / f2, the rise time whose
+        bandwidth is the band's top (rule of thumb)."""
+        return self.rise_time if self.rise_time is not None else 0.35 / self.band[1]
 
     @property
     def design_target(self) -> float:
@@ -141,6 +264,13 @@ class Rail:
             raise QueryError("the band must run from a lower to a higher positive frequency")
         if not (0.0 <= self.margin < 1.0):
             raise QueryError("--margin must lie between 0 and 100 % of the target")
+        if self.noise is not None and not (math.isfinite(self.noise) and self.noise > 0):
+            raise QueryError("the noise spec must be a positive voltage")
+        if self.noise is not None and self.step is None:
+            raise QueryError("a noise spec needs the load step it is for (the current step)")
+        if self.rise_time is not None and not (math.isfinite(self.rise_time)
+                                               and self.rise_time > 0):
+            raise QueryError("the rise time must be a positive time")
         self.board.validate()
 
 

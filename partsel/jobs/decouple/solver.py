@@ -13,8 +13,10 @@ from numpy.typing import NDArray
 
 from partsel.engine import pdn
 from partsel.engine.bank import Bank
+from partsel.jobs.decouple.layout import Layout
 
 Network = pdn.Branches | Bank
+Board = pdn.Branches | Layout     # branches in parallel, or a ladder to one ring
 
 _CHECK_SLACK = 1e-9   # relative slack of the exact check (rounding of |Z| near the target)
 _GRID_SLACK = 1e-6    # the search grid asks this much more, so refinement rarely fails
@@ -22,34 +24,46 @@ _GRID_SLACK = 1e-6    # the search grid asks this much more, so refinement rarel
 
 @dataclass
 class Search:
-    """Candidates evaluated on a frequency grid: Y_k(f) of one part, Y of the board.
+    """Candidates evaluated on a frequency grid: Y_k(f) of one part, and the disk the bank's
+    admittance must stay outside, |Y(f) + y_board(f)| >= y_target(f).
 
-    The candidates are R-L-C branches (``pdn.Branches``) or a :class:`Bank` of any model
+    With the board's branches in parallel, y_board is their admittance and y_target = 1/Z_t;
+    with a ladder between the load and the ring (:class:`Layout`) the same condition holds
+    with the disk of its Moebius map (:func:`partsel.engine.ladder.target_disk`). The
+    candidates are R-L-C branches (``pdn.Branches``) or a :class:`Bank` of any model
     families: only their values on the grid matter here."""
 
     f: NDArray
     y_parts: NDArray          # (K, F)
     y_board: NDArray          # (F,)
-    y_target: float           # 1/Z_t, with the grid slack
+    y_target: float | NDArray  # 1/Z_t, with the grid slack (per frequency with a Layout)
 
     @classmethod
-    def build(cls, f: NDArray, cands: Network, board: pdn.Branches,
-              target: float) -> Search:
+    def build(cls, f: NDArray, cands: Network, board: Board, target: float) -> Search:
         y_parts = 1.0 / cands.impedance(f)
-        y_board = board.admittance(f) if len(board) else np.zeros(len(f), dtype=complex)
-        return cls(f, y_parts, y_board, (1.0 + _GRID_SLACK) / target)
+        y_board, y_t = _disk(f, board, target)
+        return cls(f, y_parts, y_board, y_t)
 
-    def add_frequencies(self, f_new: NDArray, cands: Network,
-                        board: pdn.Branches) -> Search:
+    def add_frequencies(self, f_new: NDArray, cands: Network, board: Board) -> Search:
         f = np.concatenate([self.f, f_new])
         y_parts = np.concatenate([self.y_parts, 1.0 / cands.impedance(f_new)], axis=1)
-        y_board = np.concatenate([self.y_board, board.admittance(f_new) if len(board)
-                                  else np.zeros(len(f_new), dtype=complex)])
-        return Search(f, y_parts, y_board, self.y_target)
+        y_b, y_t = _disk(f_new, board, 1.0)
+        y_board = np.concatenate([self.y_board, y_b])
+        y_target = self.y_target if np.ndim(self.y_target) == 0 else \
+            np.concatenate([self.y_target, y_t])
+        return Search(f, y_parts, y_board, y_target)
 
     def admittance(self, counts: NDArray) -> NDArray:
         nz = np.flatnonzero(counts)
         return self.y_board + np.einsum("k,kf->f", counts[nz], self.y_parts[nz])
+
+
+def _disk(f: NDArray, board: Board, target: float) -> tuple[NDArray, float | NDArray]:
+    if isinstance(board, Layout):
+        y_b, radius = board.disk(f)
+        return y_b, (1.0 + _GRID_SLACK) * radius
+    y_board = board.admittance(f) if len(board) else np.zeros(len(f), dtype=complex)
+    return y_board, (1.0 + _GRID_SLACK) / target
 
 
 @dataclass(frozen=True)
@@ -129,7 +143,8 @@ def linearised_lp(search: Search, around: NDArray, w: NDArray, price: NDArray,
     y = search.admittance(around)
     mag = np.abs(y)
     u = np.where(mag > 0, y / np.where(mag > 0, mag, 1.0), 1.0)
-    a = (np.conj(u)[:, None] * search.y_parts.T).real / search.y_target       # (F, K)
+    y_t = np.asarray(search.y_target)
+    a = (np.conj(u)[:, None] * search.y_parts.T).real / (y_t[:, None] if y_t.ndim else y_t)
     lb = 1.0 - (np.conj(u) * search.y_board).real / search.y_target
     rows = ~((lb <= 0) & np.all(a >= 0, axis=1))        # rows the board alone satisfies
     a_ub, b_ub = [-a[rows], np.ones((1, len(w)))], [-lb[rows], [float(limits.max_parts)]]
@@ -153,7 +168,7 @@ class Outcome:
 class _Solver:
     """The state of one search: the grid (growing with cuts), the exact check, the limits."""
 
-    def __init__(self, cands: Network, board: pdn.Branches, target: float,
+    def __init__(self, cands: Network, board: Board, target: float,
                  band: tuple[float, float], w: NDArray, price: NDArray,
                  limits: Limits, grid: NDArray | None = None) -> None:
         self.cands, self.board, self.target, self.band = cands, board, target, band
@@ -176,6 +191,14 @@ class _Solver:
         # While searching, grid maxima below half the target are not refined (the grid holds
         # the lossless anti-resonances and 200 points per decade, so they cannot hide a peak
         # above it); the bank returned passes the full check (``strict``).
+        if isinstance(self.board, Layout):
+            ring = self.cands.with_counts(counts) if isinstance(self.cands, Bank) else \
+                _bank(self.cands, counts, pdn.Branches.of(np.empty(0), np.empty(0),
+                                                          np.empty(0)))
+            net = self.board.network(ring)
+            if self.strict:
+                return net.scan(*self.band, self.board.mask)
+            return net.scan(*self.band, self.board.mask, refine_above=0.5)
         bank = _bank(self.cands, counts, self.board)
         if isinstance(bank, Bank):
             if self.strict:
@@ -185,10 +208,15 @@ class _Solver:
             return pdn.scan(*self.band, bank)
         return pdn.scan(*self.band, bank, refine_above=0.5 * self.target, polish=False)
 
+    @property
+    def limit(self) -> float:
+        """What the scan's worst value may reach: Z_t [ohm], or 1 for a ratio to a mask."""
+        return (1.0 if isinstance(self.board, Layout) else self.target) * (1.0 + _CHECK_SLACK)
+
     def holds(self, counts: NDArray) -> bool:
-        if not counts.any() and not len(self.board):
+        if not counts.any() and (isinstance(self.board, Layout) or not len(self.board)):
             return False
-        return self.scan(counts).max_z <= self.target * (1.0 + _CHECK_SLACK)
+        return self.scan(counts).max_z <= self.limit
 
     def allows(self, counts: NDArray) -> bool:
         return self.limits.allows(counts, self.price)
@@ -203,7 +231,7 @@ class _Solver:
             if not ok:
                 break
             sc = self.scan(counts)
-            limit = self.target * (1.0 + _CHECK_SLACK)
+            limit = self.limit
             if sc.max_z <= limit:
                 return counts, best_within, True
             bad = np.unique(np.append(sc.peak_f[sc.peak_z > limit], sc.f_max))
@@ -256,7 +284,7 @@ class _Solver:
         return counts
 
 
-def solve(cands: Network, board: pdn.Branches, target: float,
+def solve(cands: Network, board: Board, target: float,
           band: tuple[float, float], w: NDArray, price: NDArray,
           limits: Limits | None = None, rounds: int = 6) -> Outcome:
     """Counts of ``cands`` (one part each) that keep |Z| <= target over ``band`` with the
