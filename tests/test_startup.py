@@ -1,0 +1,35 @@
+"""The lazily loaded command table against the commands the modules really register, and the
+start-up promise that a command imports only what it uses."""
+
+from __future__ import annotations
+
+import importlib
+import subprocess
+import sys
+
+app_module = importlib.import_module("partsel.cli.app")
+
+
+def test_command_table_matches_registered_commands():
+    for module in {m for m, _ in app_module.COMMANDS.values()}:
+        importlib.import_module(f"partsel.cli.{module}")
+    group = app_module.app
+    registered = {c.name or c.callback.__name__ for c in group.registered_commands}
+    registered |= {g.name for g in group.registered_groups}
+    assert registered == set(app_module.COMMANDS)
+    for name, (module, line) in app_module.COMMANDS.items():
+        cmd = next((c for c in group.registered_commands if c.name == name), None)
+        if cmd is not None:  # the help line shown before loading is the command's own
+            assert (cmd.callback.__doc__ or "").strip().startswith(line[:40]), name
+            assert cmd.callback.__module__ == f"partsel.cli.{module}", name
+
+
+def test_help_and_version_import_no_command_module_nor_pandas():
+    code = ("import sys; from partsel.cli import app; "
+            "sys.argv=['partsel','--help']\n"
+            "try:\n    app()\nexcept SystemExit:\n    pass\n"
+            "print(sorted(m for m in sys.modules if m.startswith('partsel.cli.cmd_') "
+            "or m in ('pandas', 'starlette', 'partsel.demo')))")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         check=True).stdout.strip().splitlines()[-1]
+    assert out == "[]"
