@@ -24,12 +24,22 @@ def test_command_table_matches_registered_commands():
             assert cmd.callback.__module__ == f"partsel.cli.{module}", name
 
 
-def test_help_and_version_import_no_command_module_nor_pandas():
+def _loaded_after(argv: list[str]) -> str:
     code = ("import sys; from partsel.cli import app; "
-            "sys.argv=['partsel','--help']\n"
+            f"sys.argv={['partsel', *argv]!r}\n"
             "try:\n    app()\nexcept SystemExit:\n    pass\n"
             "print(sorted(m for m in sys.modules if m.startswith('partsel.cli.cmd_') "
             "or m in ('pandas', 'starlette', 'partsel.demo')))")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
-                         check=True).stdout.strip().splitlines()[-1]
-    assert out == "[]"
+                         check=False).stdout.strip().splitlines()[-1]
+    return out
+
+
+def test_help_and_version_import_no_command_module_nor_pandas():
+    assert _loaded_after(["--help"]) == "[]"
+    assert _loaded_after(["--version"]) == "[]"
+
+
+def test_a_command_imports_its_own_module_only(tmp_path):
+    assert _loaded_after(["find", "--help"]) == "['partsel.cli.cmd_find']"
+    assert _loaded_after(["check", str(tmp_path / "none.duckdb")]) == "['partsel.cli.cmd_check']"

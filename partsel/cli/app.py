@@ -198,7 +198,11 @@ class _LazyCommands(MutableMapping):
     def __getitem__(self, name: str) -> Any:
         if name not in self._built and name in COMMANDS:
             importlib.import_module(f"partsel.cli.{COMMANDS[name][0]}")
-            for new, command in getattr(typer.main.get_command(app), "commands", {}).items():
+            fresh = getattr(typer.main.get_command(app), "commands", {})
+            # the fresh group's own lazy table: its built commands only (iterating it would
+            # import every command module)
+            built = fresh._built if isinstance(fresh, _LazyCommands) else fresh
+            for new, command in built.items():
                 self._built.setdefault(new, command)
         return self._built[name]
 
