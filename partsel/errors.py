@@ -8,9 +8,28 @@ from __future__ import annotations
 
 
 class PartselError(Exception):
-    """Base class of every error partsel reports to a user."""
+    """Base class of every error partsel reports to a user.
+
+    A message names a setting by its library keyword (``srf_ratio``, ``band``) and lists those
+    words in ``params``; the command line shows them as its own option names (:meth:`worded`),
+    so a library user never reads a flag and a CLI user never reads a keyword.
+    """
 
     exit_code = 2
+
+    def __init__(self, *args: object, params: tuple[str, ...] = ()) -> None:
+        super().__init__(*args)
+        self.params = tuple(params)
+
+    def worded(self, names: dict[str, str]) -> str:
+        """The message with each of its ``params`` renamed as ``names`` says."""
+        import re
+
+        text = str(self)
+        for p in self.params:
+            if p in names:
+                text = re.sub(rf"(?<![\w-]){re.escape(p)}(?![\w-])", names[p], text)
+        return text
 
 
 class UnitError(PartselError, ValueError):

@@ -65,7 +65,7 @@ def test_version_and_help_on_every_command(cli):
      "is a directory"),
     (("--store", "{tmp}/x.duckdb", "import", "{tmp}/nothing.csv"), "no such file"),
     (("--store", "{tmp}/x.duckdb", "import", "{tmp}/cat.docx"), "unknown file type"),
-    (("find", "capacitor", "--below", "1ohm"), "needs a band"),
+    (("find", "capacitor", "--below", "1ohm"), "needs a frequency range"),
     (("find", "capacitor", "--band", "1MHz..2MHz", "--below", "-1ohm"), "--below"),
     (("find", "capacitor", "--band", "1MHz..2MHz", "--below", "1ohm", "--format", "xml"),
      "unknown --format"),

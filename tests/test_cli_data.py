@@ -253,8 +253,8 @@ def test_sweep_import_and_fit_recover_a_capacitor(store, cli, tmp_path):
     assert 0.08 < out["residual_db"] < 0.2 and out["departures"] == []
     res = cli("--store", store, "show", "C10U", "--format", "json")
     shown = json.loads(res.stdout)
-    assert shown["model"]["esl"]["source"] == "measured fit"
-    assert shown["model"]["esl"]["value"] == pytest.approx(m["esl"])
+    assert shown["model"]["esl_h"]["source"] == "measured fit"
+    assert shown["model"]["esl_h"]["value"] == pytest.approx(m["esl"])
 
 
 def test_sweep_import_with_fit_recovers_an_inductor(store, cli, tmp_path):

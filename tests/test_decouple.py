@@ -744,7 +744,7 @@ def test_library_errors_without_the_cli(make_store):
     store = make_store(CATALOG)
     rail = dec.Rail(3.3, 0.02, (1e5, 5e7))
     with open_store(store) as s:
-        with pytest.raises(QueryError, match="--max-lines must be at least 1"):
+        with pytest.raises(QueryError, match="max_lines must be at least 1"):
             dec.plan(s, rail, dec.Choice(max_lines=0))
         with pytest.raises(QueryError, match="band must run"):
             dec.plan(s, dec.Rail(3.3, 0.02, (5e7, 1e5)))

@@ -281,7 +281,7 @@ def test_min_q_leaves_out_parts_without_dcr(make_store):
 
 
 def test_ripple_without_current_is_refused(store):
-    with open_store(store) as s, pytest.raises(QueryError, match="--ripple"):
+    with open_store(store) as s, pytest.raises(QueryError, match="ripple needs current"):
         find(s, Search("inductor", inductive_to=30e6, ripple=0.5))
 
 

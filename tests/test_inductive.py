@@ -120,7 +120,7 @@ def test_q_without_rp_is_an_upper_bound_and_zero_current_is_refused():
     row = check_rows([with_rp], Spec(target=20e6)).rows[0]
     assert not any("upper bound" in r for r in row["reasons"])
     # 0 A has no margin (rating / 0): refused, while 0 A DC with ripple is a real need
-    with pytest.raises(QueryError, match="--current must be above 0 A"):
+    with pytest.raises(QueryError, match="current must be above 0 A"):
         Spec(target=20e6, current=0.0).validate()
     Spec(target=20e6, current=0.0, ripple=1.0).validate()
 
@@ -292,13 +292,13 @@ def test_no_current_means_no_current_check():
 @pytest.mark.parametrize(("spec", "words"), [
     (Spec(target=0.0), "above 0 Hz"),
     (Spec(target=-1e6), "above 0 Hz"),
-    (Spec(target=1e6, current=-1.0), "--current must be 0 A or more"),
-    (Spec(target=1e6, current=1.0, ripple=-0.1), "--ripple must be 0 A or more"),
-    (Spec(target=1e6, ripple=0.3), "--ripple needs --current"),
-    (Spec(target=1e6, warn_below=0.5), "--warn-below"),
-    (Spec(target=1e6, warn_below=5, predictable_at=3), "--predictable-at"),
-    (Spec(target=1e6, current_margin=0.9), "--current-margin"),
-    (Spec(target=1e6, min_q=0), "--min-q"),
+    (Spec(target=1e6, current=-1.0), "current must be 0 A or more"),
+    (Spec(target=1e6, current=1.0, ripple=-0.1), "ripple must be 0 A or more"),
+    (Spec(target=1e6, ripple=0.3), "ripple needs current"),
+    (Spec(target=1e6, warn_below=0.5), "warn_below"),
+    (Spec(target=1e6, warn_below=5, predictable_at=3), "predictable_at"),
+    (Spec(target=1e6, current_margin=0.9), "current_margin"),
+    (Spec(target=1e6, min_q=0), "min_q"),
 ])
 def test_bad_specs_are_refused(spec, words):
     with pytest.raises(QueryError, match=words.replace("-", r"\-")):
@@ -474,10 +474,11 @@ def test_cli_verdicts_with_currents(cli, store_path):
 
 @pytest.mark.parametrize(("args", "words"), [
     (["L1U", "--inductive-to", "0Hz"], "above 0 Hz"),
-    (["L1U", "--inductive-to", "10MHz", "--current", "-1A"], "--current must be 0 A or more"),
+    (["L1U", "--inductive-to", "10MHz", "--current", "-1A"], "current must be 0 A or more"),
     (["L1X", "--inductive-to", "10MHz"], "no part 'L1X'"),
     (["C100N", "--inductive-to", "10MHz"], "C100N is a capacitor, not an inductor"),
-    (["L1U", "--inductive-to", "10MHz", "--ripple-current", "0.3A"], "--ripple needs --current"),
+    (["L1U", "--inductive-to", "10MHz", "--ripple-current", "0.3A"],
+     "--ripple-current needs --current"),
     (["L1U", "--inductive-to", "10uH"], "'10uH' is not a frequency"),
     (["L1U"], "Missing option '--inductive-to'"),
     (["L1U", "--inductive-to", "10MHz", "--plot", "z.txt"], "give a .png, .svg or .pdf name"),

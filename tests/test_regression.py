@@ -26,7 +26,15 @@ sys.path.insert(0, str(GOLDEN.parent))
 import make_golden  # noqa: E402
 
 # old JSON key -> new JSON key (the vocabulary of the glossary)
-RENAMED: dict[str, str] = {}
+# One vocabulary (partsel.glossary): a key may now be one of several, by the part's kind.
+RENAMED: dict[str, tuple[str, ...]] = {
+    "value": ("value", "value_f", "value_h"),
+    "value_at_bias": ("value_at_bias_f",), "original_value_at_bias": ("original_value_at_bias_f",),
+    "esr": ("esr_ohm",), "esl": ("esl_h",), "dcr": ("dcr_ohm",), "srf": ("srf_hz",),
+    "rp": ("rp_ohm",), "isat": ("isat_a",), "irms": ("irms_a",), "height": ("height_m",),
+    "rated_voltage": ("rated_voltage_v",), "temp_min": ("temp_min_degc",),
+    "temp_max": ("temp_max_degc",),
+}
 # keys holding prose or provenance text that may be reworded
 PROSE = {"effects", "notes", "reasons", "explanation", "cautions", "model", "reason", "detail",
          "message", "order", "read_as", "remarks", "skipped", "warnings", "departures"}
@@ -45,7 +53,8 @@ def same(old: object, new: object, where: str) -> None:
         for k, v in old.items():
             if k in PROSE:
                 continue
-            key = RENAMED.get(k, k)
+            names = RENAMED.get(k, (k,))
+            key = next((n for n in names if n in new), names[0])
             assert key in new, f"{where}: key {k!r} (now {key!r}) is missing"
             same(v, new[key], f"{where}.{key}")
     elif isinstance(old, list):

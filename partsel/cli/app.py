@@ -130,6 +130,7 @@ class _Group(TyperGroup):
         else:
             kwargs["args"] = moved
         interrupt.install()
+        FLAGS.clear()
         try:
             rc = super().main(*args, **kwargs)
         except SystemExit:
@@ -147,7 +148,8 @@ class _Group(TyperGroup):
         """One 'Error: ...' line for everything a user can cause; anything else is a bug and
         keeps its traceback."""
         if isinstance(exc, PartselError):
-            _fail(str(exc), exc.exit_code)
+            _fail(exc.worded({p: FLAGS.get(p, "--" + p.replace("_", "-")) for p in exc.params}),
+                  exc.exit_code)
         if isinstance(exc, _NOARGS):
             typer.echo(exc.ctx.get_help() if exc.ctx else "", err=True)
             sys.exit(2)
@@ -169,6 +171,17 @@ class _Group(TyperGroup):
         if damaged:
             _fail(damaged, 2)
         raise exc
+
+
+# A library keyword named in an error (PartselError.params) -> the option that sets it here;
+# by default the keyword with dashes (srf_ratio -> --srf-ratio). A command whose option is
+# spelled otherwise says so with flag_names() before it calls the library.
+FLAGS: dict[str, str] = {}
+
+
+def flag_names(**names: str) -> None:
+    """Name library keywords as this command's options in its error lines."""
+    FLAGS.update(names)
 
 
 _DAMAGE = ("IOException", "SerializationException")

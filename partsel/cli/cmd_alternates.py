@@ -11,6 +11,7 @@ from partsel.catalog import DEFAULT_LIFECYCLES
 from partsel.cli import options as opt
 from partsel.cli.app import app, echo, note, open_store_for
 from partsel.errors import FileFormatError
+from partsel.glossary import value_key
 from partsel.render import Col
 
 _FIGURES = {
@@ -42,11 +43,11 @@ def _row(rank: int, cand: Any, kind: str) -> dict[str, Any]:
     for key, name in _JSON_FIELDS.items():
         if not (kind == "inductor" and key in ("esr", "esl", "tan_delta", "dielectric")) and \
                 not (kind == "capacitor" and key in ("dcr", "srf", "isat", "irms")):
-            out[name] = cand.part.get(key)
+            out[value_key(kind) if key == "value" else name] = cand.part.get(key)
     out.update(distance_db=cand.distance_db, max_diff_db=cand.max_diff_db,
                f_max_diff_hz=cand.f_max_diff_hz)
     if kind == "capacitor":
-        out.update(value_at_bias=cand.value_eff, bias_source=cand.bias_source)
+        out.update(value_at_bias_f=cand.value_eff, bias_source=cand.bias_source)
         if cand.esr_ratio is not None:
             out["esr_ratio"] = cand.esr_ratio
     out.update(model=cand.model, model_source=cand.model_source)
@@ -158,8 +159,9 @@ def _json(res: Any, rows: list[dict[str, Any]], misses: list[dict[str, Any]] | N
     from partsel.render import to_json
     o = res.original
     payload = {
-        "original": {name: o.get(key) for key, name in _JSON_FIELDS.items()},
-        "original_value_at_bias": res.original_value_eff, "bias_v": res.bias,
+        "original": {value_key(o.get("kind")) if key == "value" else name: o.get(key)
+                     for key, name in _JSON_FIELDS.items()},
+        "original_value_at_bias_f": res.original_value_eff, "bias_v": res.bias,
         "original_bias_source": res.original_bias_source,
         "band_hz": list(res.band), "order": res.order,
         "rules_checked": res.rules, "skipped": res.skipped, "effects": res.effects,

@@ -8,8 +8,9 @@ import typer
 
 from partsel.catalog import DEFAULT_LIFECYCLES
 from partsel.cli import options as opt
-from partsel.cli.app import app, echo, note, open_store_for
+from partsel.cli.app import app, echo, flag_names, note, open_store_for
 from partsel.errors import QueryError
+from partsel.glossary import find_row as json_row
 from partsel.render import Col
 
 CAP_COLS = [Col("part_number", "part"), Col("maker", "maker"), Col("value", "C", "F"),
@@ -23,43 +24,6 @@ IND_COLS = [Col("part_number", "part"), Col("maker", "maker"), Col("value", "L",
             Col("srf", "SRF", "Hz"), Col("zero_phase_hz", "f(phase=0)", "Hz"),
             Col("isat", "Isat", "A"), Col("irms", "Irms", "A"),
             Col("lifecycle", "life"), Col("stock", "stock", "")]
-
-# Row key -> JSON/CSV key (SI units in the name where the key alone does not say).
-JSON_KEYS = {
-    "part_number": "part_number", "maker": "maker", "kind": "kind", "technology": "technology",
-    "case": "case", "dielectric": "dielectric", "value": "value", "tolerance": "tolerance",
-    "rated_voltage": "rated_voltage_v", "esr": "esr_ohm", "esl": "esl_h",
-    "tan_delta": "tan_delta", "dcr": "dcr_ohm", "srf": "srf_hz", "srf_hz": "srf_hz",
-    "rp": "rp_ohm", "isat": "isat_a", "irms": "irms_a", "max_z_ohm": "max_z_ohm",
-    "f_max_hz": "f_max_hz", "min_z_ohm": "min_z_ohm", "f_min_hz": "f_min_hz",
-    "zero_phase_hz": "zero_phase_hz", "srf_margin": "srf_margin", "srf_ratio": "srf_ratio",
-    "isat_margin": "isat_margin", "irms_margin": "irms_margin",
-    "q": "q", "c_eff_f": "c_eff_f", "bias_source": "bias_source", "lifecycle": "lifecycle",
-    "price": "price", "stock": "stock", "esr_source": "esr_source", "esl_source": "esl_source",
-    "curve": "curve_source", "model": "model", "model_source": "model_source",
-    "model_family": "model_family", "model_origin": "model_origin",
-}
-
-
-# Worst-corner figures (find --corners) keep their names in JSON and CSV.
-JSON_KEYS.update({k: k for k in (
-    "corner_max_z_ohm", "corner_f_max_hz", "corner_min_z_ohm", "corner_f_min_hz",
-    "corner_zero_phase_hz", "corner_q", "corner", "corner_sides", "corner_c_ratio",
-    "corner_r_ratio", "corner_l_ratio", "corner_exact", "corner_estimates")})
-
-_NOT_FOR = {"capacitor": {"dcr", "srf", "rp", "isat", "irms"},
-            "inductor": {"esr", "esl", "tan_delta", "dielectric", "esr_source", "esl_source"}}
-
-
-def json_row(row: dict[str, Any]) -> dict[str, Any]:
-    """A result row under its JSON/CSV keys; computed figures win over empty stored ones."""
-    out: dict[str, Any] = {}
-    skip = _NOT_FOR.get(row.get("kind", ""), set())
-    for k, v in row.items():
-        if k in JSON_KEYS and k not in skip and (out.get(JSON_KEYS[k]) is None):
-            out[JSON_KEYS[k]] = v
-    return out
-
 
 def _columns(search: Any) -> list[Col]:
     """The table's columns for what the search computed."""
@@ -185,6 +149,7 @@ def find_cmd(
     from partsel.phrase import parse_phrase
 
     fmt = opt.check_format(fmt)
+    flag_names(ripple="--ripple-current", value_min="--value", value_max="--value")
     if what.strip().lower() in ("capacitor", "inductor"):
         kw: dict[str, Any] = {"kind": what.strip().lower()}
     elif " " in what.strip():

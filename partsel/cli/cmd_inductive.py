@@ -8,7 +8,8 @@ from typing import Annotated, Any
 import typer
 
 from partsel.cli import options as opt
-from partsel.cli.app import app, echo, note, open_store_for
+from partsel.cli.app import app, echo, flag_names, note, open_store_for
+from partsel.glossary import inductive_row
 from partsel.render import Col
 
 COLS = [Col("part_number", "part"), Col("value", "L", "H"), Col("srf", "SRF", "Hz"),
@@ -19,25 +20,8 @@ CURRENT_COLS = [Col("isat", "Isat", "A"), Col("isat_drop", "L drop", "%"),
                 Col("isat_margin", "Isat margin", ""), Col("irms", "Irms", "A"),
                 Col("irms_margin", "Irms margin", "")]
 
-# Row key -> JSON/CSV key (SI units in the name where the key alone does not say).
-JSON_KEYS = {
-    "part_number": "part_number", "maker": "maker", "verdict": "verdict", "reasons": "reasons",
-    "value": "value_h", "dcr": "dcr_ohm", "srf": "srf_hz", "rp": "rp_ohm",
-    "target_hz": "target_hz", "zero_phase_hz": "zero_phase_hz", "srf_ratio": "srf_ratio",
-    "srf_grade": "srf_grade", "l_eff_h": "l_eff_h", "l_change": "l_change",
-    "q_at_target": "q_at_target", "q": "q", "isat": "isat_a", "isat_drop": "isat_drop",
-    "irms": "irms_a", "i_peak_a": "i_peak_a", "i_rms_a": "i_rms_a",
-    "isat_margin": "isat_margin", "irms_margin": "irms_margin", "model": "model",
-    "model_source": "model_source", "model_family": "model_family",
-}
-
-
-def _json_row(row: dict[str, Any]) -> dict[str, Any]:
-    return {JSON_KEYS[k]: v for k, v in row.items() if k in JSON_KEYS}
-
-
 def _csv_row(row: dict[str, Any]) -> dict[str, Any]:
-    out = _json_row(row)
+    out = inductive_row(row)
     out["reasons"] = " | ".join(row["reasons"])
     return out
 
@@ -88,6 +72,7 @@ def inductive_cmd(
     from partsel.jobs.inductive import plot as draw
 
     fmt = opt.check_format(fmt)
+    flag_names(target="--inductive-to", ripple="--ripple-current")
     target = units.parse_quantity(inductive_to, "Hz", what="--inductive-to")
     q_at = opt.parse_q_at(min_q, target, "--min-q", "--inductive-to")
     spec = Spec(target=target, current=opt.quantity(current, "A", "--current"),
@@ -112,7 +97,8 @@ def inductive_cmd(
             lines.extend(f"  {reason}" for reason in r["reasons"])
         echo("\n".join(lines))
     else:
-        echo(opt.emit(result.rows, [], fmt, json_keys=_json_row if fmt == "json" else _csv_row))
+        echo(opt.emit(result.rows, [], fmt,
+                      json_keys=inductive_row if fmt == "json" else _csv_row))
     if plot is not None:
         note(f"plot written to {draw(result, plot)}")
     counts = {v: sum(r["verdict"] == v for r in result.rows) for v in ("pass", "warn", "fail")}

@@ -8,6 +8,7 @@ import typer
 
 from partsel.cli import options as opt
 from partsel.cli.app import app, echo, note, open_store_for
+from partsel.glossary import CATALOG_KEYS, catalog_json, value_key
 from partsel.render import Col, to_json
 
 _UNITS = {"value": None, "esr": "ohm", "esl": "H", "tan_delta": "", "dcr": "ohm", "srf": "Hz",
@@ -40,8 +41,10 @@ def show_cmd(
         rep = report(store, part, maker, model=model)
     p = rep.part
     if fmt == "json":
-        echo(to_json({"part": {k: v for k, v in p.items() if k not in ("bias_v", "bias_ratio")},
-                      "model": {k: {"value": v, "source": s} for k, (v, s) in rep.model.items()},
+        echo(to_json({"part": catalog_json({k: v for k, v in p.items()
+                                            if k not in ("bias_v", "bias_ratio")}),
+                      "model": {value_key(p["kind"]) if k == "value" else CATALOG_KEYS.get(k, k):
+                                {"value": v, "source": s} for k, (v, s) in rep.model.items()},
                       "derived": rep.derived, "points": rep.points, "cautions": rep.cautions,
                       "sweeps": rep.sweeps, "model_used": rep.used}))
         return

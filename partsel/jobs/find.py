@@ -86,7 +86,8 @@ class Search:
         self.dielectrics = tuple(eia198.decode(d).code for d in self.dielectrics)
         self.cases = tuple(normalise_case(c) for c in self.cases)
         if (self.below is not None or self.above is not None) and self.band is None:
-            raise QueryError("an impedance limit needs a band: add --band F1..F2")
+            raise QueryError("an impedance limit needs a frequency range: add band F1..F2",
+                             params=("band",))
         if self.band is not None and not 0 < self.band[0] <= self.band[1]:
             lo, hi = (format_quantity(x, "Hz").replace(" ", "") for x in self.band)
             raise QueryError(f"band '{lo}..{hi}' runs backwards or is not positive: write the "
@@ -96,21 +97,25 @@ class Search:
             v = getattr(self, name)
             if v is not None and (not np.isfinite(v) or v < 0 or
                                   (v == 0 and name in ("below", "inductive_to", "current"))):
-                raise QueryError(f"--{name.replace('_', '-')} must be a positive number, "
-                                 f"got {v:g}")
+                raise QueryError(f"{name} must be a positive number, got {v:g}",
+                                 params=(name,))
         if self.limit < 0:
-            raise QueryError("--limit must be 0 (all) or a positive count")
+            raise QueryError("limit must be 0 (all) or a positive count", params=("limit",))
         if self.kind == "capacitor" and (self.inductive_to or self.current or self.min_q):
-            raise QueryError("--inductive-to, --current and --min-q apply to inductors: "
-                             "search 'inductor' instead")
+            raise QueryError("inductive_to, current and min_q apply to inductors: "
+                             "search 'inductor' instead",
+                             params=("inductive_to", "current", "min_q"))
         if self.kind == "inductor" and (self.bias is not None or self.mount_l is not None):
-            raise QueryError("--bias and --mount-l apply to capacitors")
+            raise QueryError("bias and mount_l apply to capacitors", params=("bias", "mount_l"))
         if not (np.isfinite(self.srf_ratio) and self.srf_ratio >= 1.0):
-            raise QueryError(f"--srf-ratio must be 1 or more, got {self.srf_ratio:g}")
+            raise QueryError(f"srf_ratio must be 1 or more, got {self.srf_ratio:g}",
+                             params=("srf_ratio",))
         if self.srf_ratio > 1.0 and self.inductive_to is None:
-            raise QueryError("--srf-ratio needs --inductive-to: it is a multiple of that frequency")
+            raise QueryError("srf_ratio needs inductive_to: it is a multiple of that frequency",
+                             params=("srf_ratio", "inductive_to"))
         if self.ripple is not None and self.current is None:
-            raise QueryError("--ripple needs --current: the ripple rides on a DC current")
+            raise QueryError("ripple needs current: the ripple rides on a DC current",
+                             params=("ripple", "current"))
         if self.value_min and self.value_max and self.value_min > self.value_max:
             raise QueryError("the value range runs backwards: write the lower value first")
         if self.measured or self.measured_only:
@@ -411,8 +416,8 @@ def find(store: Store, search: Search) -> FindResult:
         _inductor_checks(search, pool, notes)
     if search.model == "measured" and search.kind == "inductor" and \
             (search.inductive_to or search.min_q):
-        notes.append("--inductive-to and --min-q are checked on the chosen models (the "
-                     "measured curve where a part has one)")
+        notes.append("the inductive limit and the minimum Q are checked on the chosen models "
+                     "(the measured curve where a part has one)")
     key, order = _rank(search, pool)
     if search.corners:
         from partsel.jobs import corners_find

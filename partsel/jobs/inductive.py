@@ -94,25 +94,31 @@ class Spec:
     def validate(self) -> None:
         if not (math.isfinite(self.target) and self.target > 0):
             raise QueryError(f"the target frequency must be above 0 Hz, got "
-                             f"{format_quantity(self.target, 'Hz')}: give e.g. --to 100MHz")
-        for name, v in (("--current", self.current), ("--ripple", self.ripple)):
+                             f"{format_quantity(self.target, 'Hz')}: give e.g. target 100MHz",
+                             params=("target",))
+        for name, v in (("current", self.current), ("ripple", self.ripple)):
             if v is not None and not (math.isfinite(v) and v >= 0):
-                raise QueryError(f"{name} must be 0 A or more, got {format_quantity(v, 'A')}")
+                raise QueryError(f"{name} must be 0 A or more, got {format_quantity(v, 'A')}",
+                                 params=(name,))
         if self.current == 0 and not self.ripple:
-            raise QueryError("--current must be above 0 A: leave it out to skip the current "
-                             "checks")
+            raise QueryError("current must be above 0 A: leave it out to skip the current "
+                             "checks", params=("current",))
         if self.ripple is not None and self.current is None:
-            raise QueryError("--ripple needs --current: give the DC current too (0A for none)")
+            raise QueryError("ripple needs current: give the DC current too (0A for none)",
+                             params=("ripple", "current"))
         if not (math.isfinite(self.warn_below) and self.warn_below >= 1):
-            raise QueryError(f"--warn-below must be a ratio of 1 or more, got {self.warn_below:g}")
+            raise QueryError(f"warn_below must be a ratio of 1 or more, got {self.warn_below:g}",
+                             params=("warn_below",))
         if not (math.isfinite(self.predictable_at) and self.predictable_at >= self.warn_below):
-            raise QueryError(f"--predictable-at ({self.predictable_at:g}) must be at least "
-                             f"--warn-below ({self.warn_below:g})")
+            raise QueryError(f"predictable_at ({self.predictable_at:g}) must be at least "
+                             f"warn_below ({self.warn_below:g})",
+                             params=("predictable_at", "warn_below"))
         if not (math.isfinite(self.current_margin) and self.current_margin >= 1):
-            raise QueryError(f"--current-margin must be a ratio of 1 or more, got "
-                             f"{self.current_margin:g}")
+            raise QueryError(f"current_margin must be a ratio of 1 or more, got "
+                             f"{self.current_margin:g}", params=("current_margin",))
         if self.min_q is not None and not (math.isfinite(self.min_q) and self.min_q > 0):
-            raise QueryError(f"--min-q must be a positive number, got {self.min_q:g}")
+            raise QueryError(f"min_q must be a positive number, got {self.min_q:g}",
+                             params=("min_q",))
         if self.min_q_hz is not None and not (math.isfinite(self.min_q_hz)
                                               and self.min_q_hz > 0):
             raise QueryError(f"the frequency of the minimum Q must be above 0 Hz, got "

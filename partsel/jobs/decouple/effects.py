@@ -44,8 +44,8 @@ def _effects(rail: Rail, parts: Parts, counts: NDArray) -> list[str]:
     if mounts:
         eff.append("mounting inductance added to each ESL: " + ", ".join(
             f"{k} {_fq(v, 'H')}" for k, v in sorted(mounts.items()))
-            + (" (given with --mount-l, defaults elsewhere)" if given else
-               " (defaults per case; change with --mount-l)"))
+            + (" (given, defaults elsewhere)" if given else
+               " (defaults per case; give a mounting inductance to change it)"))
     if b.plane_c:
         eff.append(f"plane pair {_fq(b.plane_c, 'F')} with {_fq(b.plane_l, 'H')} spreading "
                    "inductance in series" + (f", tan_delta {b.plane_tan_delta:g}"

@@ -81,20 +81,23 @@ class Board:
     die_r: float | None = None                          # its series resistance [ohm]
 
     def validate(self) -> None:
-        names = {"mount_l": "--mount-l", "plane_c": "the plane capacitance",
-                 "plane_l": "--plane-l", "plane_tan_delta": "the plane loss tangent",
-                 "vrm_r": "--vrm-r", "vrm_l": "--vrm-l"}
+        names = {"mount_l": "mount_l", "plane_c": "the plane capacitance",
+                 "plane_l": "plane_l", "plane_tan_delta": "the plane loss tangent",
+                 "vrm_r": "vrm_r", "vrm_l": "vrm_l"}
         for name, option in names.items():
             v = getattr(self, name)
             if v is not None and (not math.isfinite(v) or v < 0):
-                raise QueryError(f"{option} must be a positive number, got {v:g}")
+                raise QueryError(f"{option} must be a positive number, got {v:g}",
+                                 params=(name,))
         for case, v in self.mount_l_by_case.items():
             if not math.isfinite(v) or v < 0:
-                raise QueryError(f"--mount-l for {case} must be a positive inductance")
+                raise QueryError(f"mount_l for {case} must be a positive inductance",
+                                 params=("mount_l",))
         if self.plane_c is not None and self.plane_c <= 0:
             raise QueryError("the plane capacitance must be positive")
         if (self.vrm_r is None) != (self.vrm_l is None):
-            raise QueryError("the regulator model needs both --vrm-r and --vrm-l")
+            raise QueryError("the regulator model needs both vrm_r and vrm_l",
+                             params=("vrm_r", "vrm_l"))
         geometry = {"plane_area": "the plane area", "plane_gap": "the plane gap",
                     "plane_er": "the relative permittivity", "via_length": "the via length",
                     "via_pitch": "the via pitch", "via_radius": "the via radius",
@@ -244,13 +247,13 @@ class Rail:
                     band: tuple[float, float], board: Board | None = None,
                     worst_case: bool = False, margin: float = 0.0) -> Rail:
         """Z_t = V * ripple / step (see :func:`partsel.engine.pdn.target_impedance`)."""
-        for name, v in (("--rail", voltage), ("--ripple", ripple), ("--step", step)):
+        for name, v in (("rail", voltage), ("ripple", ripple), ("step", step)):
             if not (math.isfinite(v) and v > 0):
-                raise QueryError(f"{name} must be positive, got {v:g}")
+                raise QueryError(f"{name} must be positive, got {v:g}", params=(name,))
         if ripple > 1.0:  # a ripple is a share of the rail: more than all of it is a typo
-            raise QueryError(f"--ripple {100 * ripple:g} % is more than the whole rail (a bare "
+            raise QueryError(f"ripple {100 * ripple:g} % is more than the whole rail (a bare "
                              "number such as 3 reads as 300 %): write it as a percentage such "
-                             "as 3%")
+                             "as 3%", params=("ripple",))
         z = float(pdn.target_impedance(voltage, ripple, step))
         return cls(voltage, z, band, board or Board(), worst_case, margin, ripple, step)
 
@@ -263,7 +266,8 @@ class Rail:
         if not (0 < f1 < f2 < math.inf):
             raise QueryError("the band must run from a lower to a higher positive frequency")
         if not (0.0 <= self.margin < 1.0):
-            raise QueryError("--margin must lie between 0 and 100 % of the target")
+            raise QueryError("margin must lie between 0 and 100 % of the target",
+                             params=("margin",))
         if self.noise is not None and not (math.isfinite(self.noise) and self.noise > 0):
             raise QueryError("the noise spec must be a positive voltage")
         if self.noise is not None and self.step is None:
@@ -304,15 +308,16 @@ class Choice:
         from partsel.jobs.models import check_choice
         check_choice(self.model)
         if self.prefer not in ("count", "cost"):
-            raise QueryError(f"unknown --prefer '{self.prefer}': use count or cost")
+            raise QueryError(f"unknown prefer '{self.prefer}': use count or cost",
+                             params=("prefer",))
         if self.max_parts < 1:
-            raise QueryError("--max-parts must be at least 1")
+            raise QueryError("max_parts must be at least 1", params=("max_parts",))
         if self.max_lines is not None and self.max_lines < 1:
-            raise QueryError("--max-lines must be at least 1")
+            raise QueryError("max_lines must be at least 1", params=("max_lines",))
 
         if self.max_cost is not None and not (math.isfinite(self.max_cost)
                                               and self.max_cost > 0):
-            raise QueryError("--max-cost must be a positive number")
+            raise QueryError("max_cost must be a positive number", params=("max_cost",))
         if self.min_voltage is not None and not (math.isfinite(self.min_voltage)
                                                  and self.min_voltage >= 0):
-            raise QueryError("--min-voltage must be a positive voltage")
+            raise QueryError("min_voltage must be a positive voltage", params=("min_voltage",))

@@ -1,0 +1,300 @@
+"""The JSON vocabulary: every key any command or the local page emits, with its meaning and unit.
+
+A key that holds a quantity says its SI unit in its name (``esr_ohm``, ``value_f``,
+``srf_hz``); ratios, counts and words carry none. The row shapers here are the one place a
+result row becomes a JSON/CSV row, used by the command line and by the web page alike.
+tests/test_glossary.py runs every command with ``--format json`` and checks that each key it
+emits is listed in :data:`GLOSSARY` and that no entry is unused.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+# catalog column -> JSON key (the unit in the name)
+CATALOG_KEYS: dict[str, str] = {
+    "rated_voltage": "rated_voltage_v", "esr": "esr_ohm", "esl": "esl_h", "dcr": "dcr_ohm",
+    "srf": "srf_hz", "rp": "rp_ohm", "isat": "isat_a", "irms": "irms_a", "height": "height_m",
+    "temp_min": "temp_min_degc", "temp_max": "temp_max_degc",
+}
+
+
+def value_key(kind: str | None) -> str:
+    """The key of a part's nominal value: ``value_f`` for a capacitor, ``value_h`` for an
+    inductor."""
+    return "value_h" if kind == "inductor" else "value_f"
+
+
+def catalog_json(row: dict[str, Any]) -> dict[str, Any]:
+    """A stored part's fields under their JSON keys (other fields keep their names)."""
+    vk = value_key(row.get("kind"))
+    return {vk if k == "value" else CATALOG_KEYS.get(k, k): v for k, v in row.items()}
+
+
+# find: result row key -> JSON/CSV key
+FIND_KEYS: dict[str, str] = {
+    "part_number": "part_number", "maker": "maker", "kind": "kind", "technology": "technology",
+    "case": "case", "dielectric": "dielectric", "tolerance": "tolerance",
+    **CATALOG_KEYS, "tan_delta": "tan_delta", "srf_hz": "srf_hz", "max_z_ohm": "max_z_ohm",
+    "f_max_hz": "f_max_hz", "min_z_ohm": "min_z_ohm", "f_min_hz": "f_min_hz",
+    "zero_phase_hz": "zero_phase_hz", "srf_margin": "srf_margin", "srf_ratio": "srf_ratio",
+    "isat_margin": "isat_margin", "irms_margin": "irms_margin",
+    "q": "q", "c_eff_f": "c_eff_f", "bias_source": "bias_source", "lifecycle": "lifecycle",
+    "price": "price", "stock": "stock", "esr_source": "esr_source", "esl_source": "esl_source",
+    "curve": "curve_source", "model": "model", "model_source": "model_source",
+    "model_family": "model_family", "model_origin": "model_origin",
+    # worst-corner figures (find --corners)
+    **{k: k for k in (
+        "corner_max_z_ohm", "corner_f_max_hz", "corner_min_z_ohm", "corner_f_min_hz",
+        "corner_zero_phase_hz", "corner_q", "corner", "corner_sides", "corner_c_ratio",
+        "corner_r_ratio", "corner_l_ratio", "corner_exact", "corner_estimates")},
+}
+for _k in ("height", "temp_min", "temp_max"):
+    FIND_KEYS.pop(_k)
+
+_NOT_FOR = {"capacitor": {"dcr", "srf", "rp", "isat", "irms"},
+            "inductor": {"esr", "esl", "tan_delta", "dielectric", "esr_source", "esl_source"}}
+
+
+def find_row(row: dict[str, Any]) -> dict[str, Any]:
+    """A find result row under its JSON/CSV keys; computed figures win over empty stored
+    ones."""
+    out: dict[str, Any] = {}
+    kind = row.get("kind", "")
+    skip = _NOT_FOR.get(kind, set())
+    for k, v in row.items():
+        key = value_key(kind) if k == "value" else FIND_KEYS.get(k)
+        if key is not None and k not in skip and out.get(key) is None:
+            out[key] = v
+    return out
+
+
+# inductive: result row key -> JSON/CSV key
+INDUCTIVE_KEYS: dict[str, str] = {
+    "part_number": "part_number", "maker": "maker", "verdict": "verdict", "reasons": "reasons",
+    "value": "value_h", "dcr": "dcr_ohm", "srf": "srf_hz", "rp": "rp_ohm",
+    "target_hz": "target_hz", "zero_phase_hz": "zero_phase_hz", "srf_ratio": "srf_ratio",
+    "srf_grade": "srf_grade", "l_eff_h": "l_eff_h", "l_change": "l_change",
+    "q_at_target": "q_at_target", "q": "q", "isat": "isat_a", "isat_drop": "isat_drop",
+    "irms": "irms_a", "i_peak_a": "i_peak_a", "i_rms_a": "i_rms_a",
+    "isat_margin": "isat_margin", "irms_margin": "irms_margin", "model": "model",
+    "model_source": "model_source", "model_family": "model_family",
+}
+
+
+def inductive_row(row: dict[str, Any]) -> dict[str, Any]:
+    """An inductor check row under its JSON/CSV keys."""
+    return {INDUCTIVE_KEYS[k]: v for k, v in row.items() if k in INDUCTIVE_KEYS}
+
+
+GLOSSARY: dict[str, str] = {
+    "part_number": "the maker's part number",
+    "maker": "the maker's name",
+    "kind": "capacitor or inductor",
+    "id": "the store's row id of the part",
+    "part": "the part's catalog record (show)",
+    "value_f": "nominal capacitance [F]",
+    "value_h": "nominal inductance [H]",
+    "value": ("the figure itself, beside its source (show's model entries) or the part's value in "
+              "its SI unit (model import)"),
+    "technology": ("construction (mlcc, tantalum, aluminium, polymer, film, ... for capacitors; "
+                   "wirewound, multilayer, thin_film, ... for inductors)"),
+    "case": "EIA case code or the maker's package",
+    "dielectric": "EIA-198 dielectric code (C0G, X7R, ...)",
+    "tolerance": "symmetric tolerance as a fraction of the value",
+    "tolerance_minus": "lower tolerance as a fraction (asymmetric tolerances kept)",
+    "tolerance_plus": "upper tolerance as a fraction",
+    "rated_voltage_v": "rated DC voltage [V]",
+    "esr_ohm": "equivalent series resistance [ohm]",
+    "esl_h": "equivalent series inductance [H]",
+    "tan_delta": "dielectric loss tangent (ratio)",
+    "dcr_ohm": "DC resistance of the winding [ohm]",
+    "srf_hz": "self-resonant frequency [Hz]",
+    "rp_ohm": "parallel loss resistance of the inductor model [ohm]",
+    "isat_a": "saturation current rating [A]",
+    "irms_a": "RMS (heating) current rating [A]",
+    "isat_drop": "inductance drop that defines Isat (fraction)",
+    "height_m": "seated height [m]",
+    "temp_min_degc": "lowest operating temperature [degC]",
+    "temp_max_degc": "highest operating temperature [degC]",
+    "mounting": "smd or tht",
+    "safety_class": "IEC 60384-14 safety class (X1, X2, Y1, Y2, ...)",
+    "aec_q200_grade": "AEC-Q200 grade (0 to 4)",
+    "lifecycle": "active, nrnd, last_buy or obsolete",
+    "price": "unit price in the catalog's currency",
+    "stock": "units in stock",
+    "bias_curve": "capacitance ratio against DC bias, as given by the catalog",
+    "temp_curve": "capacitance ratio against temperature, as given by the catalog",
+    "esr_temp_curve": "ESR ratio against temperature, as given by the catalog",
+    "l_curve": "inductance ratio against DC current, as given by the catalog",
+    "extra": "catalog columns partsel does not know, kept as given",
+    "esr_source": "where the ESR came from (datasheet, estimate rule, fit)",
+    "esl_source": "where the ESL came from",
+    "value_source": "where the value came from",
+    "tan_delta_source": "where tan delta came from",
+    "dcr_source": "where the DCR came from",
+    "srf_source": "where the SRF came from",
+    "rp_source": "where Rp came from",
+    "model": "the model a part was evaluated with, in words",
+    "model_source": "catalog, vendor or measured",
+    "model_family": "the model family (rlc, rlc-skin, lcp, ladder2, netlist, measured)",
+    "model_origin": "where the model came from (catalog columns, a fit, a file)",
+    "model_used": "the model show's figures come from",
+    "family": "the model family of a stored model",
+    "origin": "where a model came from",
+    "label": "a model in words",
+    "source": "where a figure or model came from",
+    "source_file": "the file a model or sweep was read from",
+    "imported_at": "when a model or sweep was stored (ISO 8601)",
+    "subckt": "the SPICE subcircuit name of a stored model",
+    "text": "the stored model's text (netlist or parameters)",
+    "curve_source": "what a branch's curve was computed from",
+    "max_z_ohm": "largest |Z| over the band [ohm]",
+    "f_max_hz": "frequency of the largest |Z| (or the last point of a sweep) [Hz]",
+    "min_z_ohm": "smallest |Z| over the band [ohm]",
+    "f_min_hz": "frequency of the smallest |Z| (or the first point of a sweep) [Hz]",
+    "zero_phase_hz": "lowest frequency where the phase of Z crosses zero [Hz]",
+    "srf_margin": "zero-phase frequency over the target frequency (ratio)",
+    "srf_ratio": "SRF over the target frequency (ratio)",
+    "isat_margin": "Isat over the peak current (ratio)",
+    "irms_margin": "Irms over the RMS current (ratio)",
+    "q": "quality factor at the asked frequency",
+    "c_eff_f": "capacitance at the DC bias [F]",
+    "bias_source": "where the DC-bias loss came from (curve or estimate)",
+    "bias_v": "DC bias applied [V]",
+    "peak_hz": "frequency of the |Z| peak [Hz]",
+    "peak_z_ohm": "|Z| at its peak [ohm]",
+    "l_eff_h": "inductance at the DC current [H]",
+    "derived": "figures derived from the model (SRF, Q, peaks)",
+    "points": "impedance at a few frequencies",
+    "f_hz": "frequency [Hz]",
+    "z_ohm": "|Z| [ohm]",
+    "phase_deg": "phase of Z in degrees",
+    "effects": "the effects applied (bias, mounting, temperature, ...), in words",
+    "parts": "one entry per part or a count of parts",
+    "corner_max_z_ohm": "largest |Z| over the band at the worst corner [ohm]",
+    "corner_f_max_hz": "where that happens [Hz]",
+    "corner_min_z_ohm": "smallest |Z| over the band at the worst corner [ohm]",
+    "corner_f_min_hz": "where that happens [Hz]",
+    "corner_zero_phase_hz": "zero-phase frequency at the worst corner [Hz]",
+    "corner_q": "Q at the worst corner",
+    "corner": "the worst corner in words",
+    "corner_sides": "which side of each effect the worst corner takes",
+    "corner_c_ratio": "capacitance at the worst corner over nominal",
+    "corner_r_ratio": "resistance at the worst corner over nominal",
+    "corner_l_ratio": "inductance at the worst corner over nominal",
+    "corner_exact": "true when the worst corner is exact (not sampled)",
+    "corner_estimates": "effects at the corner that are rule-of-thumb estimates",
+    "original": "the part being replaced",
+    "original_value_at_bias_f": "the original's capacitance at the DC bias [F]",
+    "original_bias_source": "where the original's DC-bias loss came from",
+    "band_hz": "the band, low and high edge [Hz]",
+    "order": "how candidates are ranked, in words",
+    "rules_checked": "the form, fit and function rules applied",
+    "skipped": "rules not applied and why",
+    "notes": "remarks on the result",
+    "cautions": "safety and high-voltage cautions",
+    "passing": "number of candidates passing every rule",
+    "pass_form_and_fit": "number passing the form and fit rules",
+    "rows": "the result rows",
+    "rank": "position in the ranking",
+    "distance_db": "RMS difference of |Z| from the original over the band in dB",
+    "max_diff_db": "largest difference of |Z| from the original over the band in dB",
+    "f_max_diff_hz": "where that happens [Hz]",
+    "value_at_bias_f": "capacitance at the DC bias [F]",
+    "esr_ratio": "candidate ESR over the original's",
+    "rules": "each rule with its outcome",
+    "rule": "a rule's name",
+    "passed": "whether the rule passed",
+    "detail": "a rule's figures in words",
+    "near_misses": "candidates that failed exactly one rule",
+    "lines": "the parts list lines or the bank lines",
+    "line": "line number in the input file",
+    "quantity": "quantity on the parts list",
+    "working_voltage_v": "working voltage on the parts list [V]",
+    "status": "what happened to a line or a file",
+    "found_maker": "the maker the store holds the part under",
+    "needs_action": "true when a line needs a change",
+    "reasons": "why, in words",
+    "listed_on": "the date the stock figure was listed",
+    "error": "why a line could not be checked",
+    "note": "a remark on one entry",
+    "alternates": "replacements for a line",
+    "covers_quantity": "true when the stock covers the quantity",
+    "verdict": "pass, warn or fail",
+    "target_hz": "the frequency the part must stay inductive to [Hz]",
+    "srf_grade": "how far below self-resonance the target lies, in words",
+    "l_change": "inductance at the target over the DC value",
+    "q_at_target": "quality factor at the target frequency",
+    "i_peak_a": "peak current, DC plus half the ripple [A]",
+    "i_rms_a": "RMS current of DC plus triangular ripple [A]",
+    "mode": "plan or check",
+    "met": "true when the target holds over the band",
+    "target_ohm": "target impedance [ohm]",
+    "design_target_ohm": "target less the asked margin [ohm]",
+    "worst_case": "the worst point of the bank over the band",
+    "rail_v": "rail voltage [V]",
+    "f_max_z_hz": "frequency of the largest |Z| of the bank [Hz]",
+    "margin_ohm": "target less the largest |Z| [ohm]",
+    "margin_db": "target over the largest |Z| in dB",
+    "cost": "total price of the bank in the catalog's currency",
+    "bank": "the bank's lines",
+    "count": "parts on a line",
+    "bias_ratio": "capacitance at the DC bias over nominal",
+    "worst_case_ratio": "the bank's worst |Z| over the target",
+    "mount_l_h": "mounting inductance per part [H]",
+    "esl_total_h": "ESL plus mounting inductance per part [H]",
+    "measured_band_hz": "the band a sweep covers [Hz]",
+    "sweep_file": "the sweep a measured branch came from",
+    "board": "the board model (plane, regulator) in figures",
+    "measured_curves": "branches evaluated on measured sweeps",
+    "model_check": "the bank re-evaluated on the catalog model against the chosen models",
+    "peaks": "anti-resonance peaks of the bank",
+    "ratio": "a peak's |Z| over the target",
+    "failures": "where the target is not met",
+    "explanation": "why the target cannot be met, in words",
+    "bounds": "lower bounds on what any bank needs",
+    "c_min_f": "least total capacitance any bank needs [F]",
+    "l_max_h": "largest total inductance any bank may have [H]",
+    "bank_c_f": "the bank's total capacitance [F]",
+    "bank_l_h": "the bank's parallel inductance [H]",
+    "search": "how the plan was searched",
+    "considered": "parts considered",
+    "usable": "parts usable on this rail",
+    "candidates": "distinct candidates after pruning",
+    "greedy_parts": "parts in the greedy first bank",
+    "rounds": "rounds of the exact search",
+    "cuts": "cutting planes added",
+    "pruned": "parts pruned as dominated",
+    "seconds": "time the search took, in seconds",
+    "prefer": "count or cost",
+    "fixture": "how a two-port sweep was mounted",
+    "store": "the store file",
+    "schema_version": "the store's schema version",
+    "counts": "rows per table",
+    "meta": "rows in the meta table",
+    "models": "rows in the models table",
+    "model_history": "rows in the model history",
+    "capacitors": "capacitors stored",
+    "inductors": "inductors stored",
+    "sweeps": "the measured sweeps of a part, or rows in the sweeps table",
+    "digest": "content hash of the store (SHA-256)",
+    "ok": "true when no problem was found",
+    "problems": "what is wrong with the store",
+    "path": "the file or folder read",
+    "files": "files read",
+    "ignored_files": "files skipped (not a model format)",
+    "read": "models read",
+    "dry_run": "true when nothing was written",
+    "written": "models written",
+    "stored": "models stored with their parts",
+    "file": "the file an entry came from",
+    "name": "the model's name in its file",
+    "how": "how a model was matched to its part",
+    "replaces": "the model it replaces",
+    "refused": "models refused, with their line and element",
+    "reason": "why an entry was refused or left",
+    "element": "the refused element",
+    "unmatched": "models matching no stored part",
+    "unreadable": "files that could not be read",
+}
