@@ -21,7 +21,8 @@ from numpy.testing import assert_allclose
 
 from partsel.engine.models import lcp
 from partsel.errors import PartNotFound, QueryError
-from partsel.jobs.inductive import GRADES, Spec, check, check_rows, evaluate, plot
+from partsel.jobs.inductive import GRADES, Spec, check, check_rows, evaluate
+from partsel.jobs.inductive_plot import plot
 from partsel.store import open_store
 
 TWO_PI = 2 * np.pi

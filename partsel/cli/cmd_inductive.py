@@ -68,8 +68,9 @@ def inductive_cmd(
     --ripple-current 0.3A
     """
     from partsel import units
-    from partsel.jobs.inductive import Spec, check, plot_path
-    from partsel.jobs.inductive import plot as draw
+    from partsel.jobs.inductive import Spec, check
+    from partsel.jobs.inductive_plot import plot as draw
+    from partsel.jobs.inductive_plot import plot_path
 
     fmt = opt.check_format(fmt)
     flag_names(target="--inductive-to", ripple="--ripple-current")
