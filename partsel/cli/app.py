@@ -173,6 +173,12 @@ class _Group(TyperGroup):
         raise exc
 
 
+def written(what: str, path: Any, replaced: bool) -> None:
+    """The note after an output file is written, saying when it replaced one."""
+    note(f"{what} written to {path}" + (" (it replaced the file that was there)" if replaced
+                                         else ""))
+
+
 # A library keyword named in an error (PartselError.params) -> the option that sets it here;
 # by default the keyword with dashes (srf_ratio -> --srf-ratio). A command whose option is
 # spelled otherwise says so with flag_names() before it calls the library.

@@ -9,7 +9,7 @@ import typer
 
 from partsel.catalog import DEFAULT_LIFECYCLES
 from partsel.cli import options as opt
-from partsel.cli.app import app, echo, note, open_store_for
+from partsel.cli.app import app, echo, note, open_store_for, written
 from partsel.errors import FileFormatError
 from partsel.glossary import value_key
 from partsel.render import Col
@@ -254,12 +254,13 @@ def bom_cmd(
         report = check_bom(store, lines, alternates=alternates)
     text = _bom_text(report, fmt)
     if out is not None:
+        replaced = out.is_file()
         try:
             out.write_text(text + "\n", encoding="utf-8")
         except OSError as exc:
             raise FileFormatError(f"cannot write the report to {out}: {exc.strerror}; choose "
                                   "another --out path") from None
-        note(f"report written to {out}")
+        written("report", out, replaced)
     else:
         echo(text)
     for line in report.lines:

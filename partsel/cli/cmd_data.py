@@ -7,7 +7,7 @@ from pathlib import Path
 import typer
 
 from partsel.cli import options as opt
-from partsel.cli.app import app, echo, note, open_store_for
+from partsel.cli.app import app, echo, note, open_store_for, written
 from partsel.errors import QueryError
 from partsel.render import Col, to_json
 
@@ -307,8 +307,9 @@ def _write(text: str | bytes, out: str | None, what: str, dry_run: bool = False)
     if out is None:
         echo(text if isinstance(text, str) else text.decode())
         return
+    replaced = Path(out).is_file()
     path = write_atomic(Path(out), text)
-    note(f"{what} written to {path}")
+    written(what, path, replaced)
 
 
 @export_app.command("spice")
@@ -395,7 +396,9 @@ def export_parquet_cmd(
     """
     from partsel.jobs.export import write_parquet
 
+    replaced = Path(out).is_file()
     with open_store_for(ctx) as store:
         n, path = write_parquet(store, Path(out), dry_run=dry_run)
     echo(f"would write {n} parts to {path}; nothing was written" if dry_run else
-         f"{n} parts written to {path}")
+         f"{n} parts written to {path}" + (" (it replaced the file that was there)"
+                                           if replaced else ""))

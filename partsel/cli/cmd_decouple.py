@@ -11,7 +11,7 @@ import typer
 from partsel import units
 from partsel.catalog import DEFAULT_LIFECYCLES
 from partsel.cli import options as opt
-from partsel.cli.app import app, echo, note, open_store_for
+from partsel.cli.app import app, echo, note, open_store_for, written
 from partsel.errors import QueryError
 from partsel.render import Col
 
@@ -259,6 +259,7 @@ def decouple_cmd(
         for c in res.cautions:
             note(c)
     if plot is not None:
-        note(f"plot written to {dec.plot_bank(res, plot)}")
+        replaced = Path(plot).is_file()
+        written("plot", dec.plot_bank(res, plot), replaced)
     if not res.met:
         raise typer.Exit(1)

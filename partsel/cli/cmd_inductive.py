@@ -8,7 +8,7 @@ from typing import Annotated, Any
 import typer
 
 from partsel.cli import options as opt
-from partsel.cli.app import app, echo, flag_names, note, open_store_for
+from partsel.cli.app import app, echo, flag_names, note, open_store_for, written
 from partsel.glossary import inductive_row
 from partsel.render import Col
 
@@ -101,7 +101,8 @@ def inductive_cmd(
         echo(opt.emit(result.rows, [], fmt,
                       json_keys=inductive_row if fmt == "json" else _csv_row))
     if plot is not None:
-        note(f"plot written to {draw(result, plot)}")
+        replaced = Path(plot).is_file()
+        written("plot", draw(result, plot), replaced)
     counts = {v: sum(r["verdict"] == v for r in result.rows) for v in ("pass", "warn", "fail")}
     note(f"target {units.format_quantity(spec.target, 'Hz')}: " +
          ", ".join(f"{n} {v}" for v, n in counts.items()) + ". Model: " + "; ".join(result.effects))

@@ -7,7 +7,7 @@ from pathlib import Path
 import typer
 
 from partsel.cli import options as opt
-from partsel.cli.app import app, echo, note, open_store_for
+from partsel.cli.app import app, echo, note, open_store_for, written
 from partsel.glossary import CATALOG_KEYS, catalog_json, value_key
 from partsel.render import Col, to_json
 
@@ -147,6 +147,7 @@ def curve_cmd(
     else:
         echo(opt.emit(rows, cols, fmt))
     if plot is not None:
+        replaced = Path(plot).is_file()
         out = plotting.plot_curves(plot, dense.f, dense.labels, dense.z, limit=lim)
-        note(f"plot written to {out}")
+        written("plot", out, replaced)
     note("Model: " + "; ".join(res.effects))
