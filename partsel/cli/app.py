@@ -124,6 +124,8 @@ class _Group(TyperGroup):
         argv = kwargs.get("args", args[0] if args else None)
         if argv is None:
             argv = sys.argv[1:]
+        if any("\x00" in str(a) for a in argv):  # no file name nor value can hold one
+            _fail("an argument contains a NUL character: remove it", 2)
         moved = _store_first(list(argv))
         if args:
             args = (moved, *args[1:])
