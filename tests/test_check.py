@@ -1,4 +1,7 @@
-"""partsel check: a good store passes; a cut-short or foreign file is one Error line."""
+"""partsel check: a good store passes; a cut-short or foreign file is one Error line.
+
+Behaviour only: no physical check values.
+"""
 
 from pathlib import Path
 

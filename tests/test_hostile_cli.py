@@ -2,7 +2,10 @@
 own declared parameters. Every one ends with exit code 0, 1 or 2, prints no traceback, and a
 failed one leaves the store's content as it was (content digest of partsel check).
 
-PARTSEL_HOSTILE_EXAMPLES sets the number of cases (default 2000, the CI figure)."""
+PARTSEL_HOSTILE_EXAMPLES sets the number of cases (default 2000, the CI figure).
+
+Behaviour only: no physical check values.
+"""
 
 from __future__ import annotations
 

@@ -1,4 +1,7 @@
-"""Output files (--plot, --out): never a directory, and a replaced file is said to be replaced."""
+"""Output files (--plot, --out): never a directory, and a replaced file is said to be replaced.
+
+Behaviour only: no physical check values.
+"""
 
 from __future__ import annotations
 

@@ -7,6 +7,10 @@ that folder). This test runs the same commands and compares every number (rtol 1
 formulas, rounding aside), every part number in the same order, and every yes/no. Prose (notes,
 effects, reasons) may be reworded and is not compared. Keys renamed since are mapped by
 :data:`RENAMED`.
+
+Check values: the answers of the first release (commit 228e232), recorded by
+tests/data/regression/make_golden.py; the physics behind them is checked against its sources in
+the other tests.
 """
 
 from __future__ import annotations

@@ -1,5 +1,8 @@
 """The lazily loaded command table against the commands the modules really register, and the
-start-up promise that a command imports only what it uses."""
+start-up promise that a command imports only what it uses.
+
+Behaviour only: no physical check values.
+"""
 
 from __future__ import annotations
 
