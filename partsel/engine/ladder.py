@@ -201,7 +201,7 @@ class _Builder:
         return self.n
 
     def add(self, kind: str, a: int, b: int, value: float) -> None:
-        if kind != "C" and value == 0:
+        if value == 0:   # a zero R or L is a short (series() leaves it out), a zero C open
             return
         self.elements.append(Element(kind, f"{kind}{len(self.elements) + 1}", a, b,  # type: ignore[arg-type]
                                      float(value)))

@@ -1,8 +1,8 @@
 r"""Time domain of a lumped R-L-C network seen from its port: the pole-residue form of Z(s),
 the response to a current step with a rise time, and the guaranteed worst-case noise.
 
-State equations. Modified nodal analysis with every inductor and resistor as a branch current
-(KCL at the nodes, :math:`v_a - v_b = (R + sL) i` on each branch) gives
+State equations. Modified nodal analysis with every inductor as a branch current (KCL at
+the nodes with resistors as conductances, :math:`v_a - v_b = sL\,i` on each inductor) gives
 :math:`(G + sC)\,x = e_1 u`, :math:`Z(s) = e_1^T (G + sC)^{-1} e_1` (Ho, Ruehli & Brennan,
 IEEE Trans. Circuits Syst. 22(6), 1975). Its finite generalised eigenvalues p_i are the poles,
 with residues :math:`r_i = (e_1^T v_i)(w_i^H e_1) / (w_i^H C v_i)` (right and left
@@ -80,26 +80,25 @@ class PoleResidue:
 
 def _mna(c: Circuit) -> tuple[NDArray, NDArray, int]:
     """G and C of the nodal equations (module notes): unknowns the node voltages 1..n, then one
-    current per R and L element; C elements stamp the node block."""
+    current per L element; C elements stamp the node block of C, R elements (as 1/R) that of
+    G (fewer unknowns than a current per R: the eigenproblem is cubic in their number)."""
     n = c.n_nodes
-    branches = [e for e in c.elements if e.kind in ("R", "L")]
+    branches = [e for e in c.elements if e.kind == "L"]
     size = n + len(branches)
     g, cap = np.zeros((size, size)), np.zeros((size, size))
     for e in c.elements:
-        if e.kind == "C":
+        if e.kind in ("C", "R"):
+            m, v = (cap, e.value) if e.kind == "C" else (g, 1.0 / e.value)
             for i, j, s in ((e.a, e.a, 1), (e.b, e.b, 1), (e.a, e.b, -1), (e.b, e.a, -1)):
                 if i and j:
-                    cap[i - 1, j - 1] += s * e.value
+                    m[i - 1, j - 1] += s * v
     for k, e in enumerate(branches):
         row = n + k
         for node, s in ((e.a, 1.0), (e.b, -1.0)):
             if node:
                 g[node - 1, row] += s          # the branch current leaves node a
                 g[row, node - 1] += s          # v_a - v_b ...
-        if e.kind == "R":
-            g[row, row] = -e.value             # ... - R i = 0
-        else:
-            cap[row, row] = -e.value           # ... - s L i = 0
+        cap[row, row] = -e.value               # ... - s L i = 0
     return g, cap, n
 
 
@@ -143,6 +142,9 @@ def pole_residue(c: Circuit, check_f: ArrayLike = ()) -> PoleResidue:
     num = vr[0, :] * np.conj(vl[0, :])
     den = np.einsum("ij,ik,kj->j", np.conj(vl), cs, vr)
     r_hat = num / den
+    # a pole at 0 (no DC path) comes out as rounding of the largest rates: snap it to 0
+    rate = float(np.linalg.norm(gs)) / max(float(np.linalg.norm(cs)), 1e-300)
+    p_hat = np.where(np.abs(p_hat) < 1e-11 * rate, 0.0, p_hat)
     poles = p_hat * w0
     residues = r_hat * z0 * w0
     keep = np.abs(residues) > 0
@@ -270,6 +272,8 @@ def _grid(pr: PoleResidue, rise: float, t_end: float, max_points: int) -> NDArra
     p = pr.poles
     amp = np.abs(pr.residues / p) + 1e-300
     pieces = [np.linspace(0.0, rise, 65)]
+    if not len(p):   # Z = D + E s: g is the ramp, flat after it
+        return np.concatenate([pieces[0], np.linspace(rise, t_end, 9)[1:]])
     t = rise
     while t < t_end and sum(len(x) for x in pieces) < max_points:
         t_next = min(t * 10 ** 0.125, t_end)
@@ -342,17 +346,20 @@ def response(pr: PoleResidue, step: float, rise: float, max_points: int = 400_00
 
 
 def _slope_amp(pr: PoleResidue, rise: float) -> NDArray[np.float64]:
-    """|c_i| of g'(t) = sum c_i exp(p_i t) for t >= t_r (module notes)."""
+    """|c_i| of g'(t) = sum c_i exp(p_i (t - t_r)) for t >= t_r (module notes), referred to
+    t_r so that a fast pole's exp(-p_i t_r) never overflows: c_i = (r_i/p_i)(exp(p_i t_r) -
+    1)/t_r, |c_i| <= 2 |r_i/p_i| / t_r."""
     p = pr.poles
-    return np.abs(pr.residues / p) * np.abs(1.0 - np.exp(-p * rise)) / rise
+    return np.abs(pr.residues / p) * np.abs(np.expm1(p * rise)) / rise
 
 
 def _tail(pr: PoleResidue, rise: float, t_end: float) -> float:
-    """Bound on the variation of g after ``t_end``: sum |c_i| exp(Re p_i T) / |Re p_i|."""
+    """Bound on the variation of g after ``t_end``: sum |c_i| exp(Re p_i (T - t_r)) /
+    |Re p_i|."""
     p = pr.poles
     if not len(p):
         return 0.0
-    return float(np.sum(_slope_amp(pr, rise) * np.exp(p.real * t_end) / -p.real))
+    return float(np.sum(_slope_amp(pr, rise) * np.exp(p.real * (t_end - rise)) / -p.real))
 
 
 def _missed(pr: PoleResidue, rise: float, t: NDArray, s: NDArray) -> float:
