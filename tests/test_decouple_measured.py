@@ -261,7 +261,7 @@ def test_higher_esr_in_the_data_fails_the_model_bank_and_the_planner_adds_parts(
                                 str(n_data - 1))
     assert code == 1 and not limited["met"] and limited["failures"]
     text = " ".join(limited["explanation"])
-    assert f"No bank of at most {n_data - 1} parts holds" in text
+    assert f"No bank of at most {n_data - 1} parts on at most 4 lines holds" in text
     assert_worst_is_real_and_maximal(limited, sweeps)
 
 

@@ -33,6 +33,8 @@ COMMANDS = [
     ["bom", str(DEMO / "parts_list.csv")],
     ["inductive", IND, "--inductive-to", "10MHz", "--current", "0.1A"],
     ["decouple", *RAIL], ["decouple", *RAIL, "--check", str(DEMO / "decouple_check.csv")],
+    ["decouple", *RAIL, "--plane-area", "100cm2", "--plane-gap", "0.1mm", "--via-length",
+     "0.5mm", "--package-l", "20pH", "--die-c", "300nF"],
     ["sweep", "list", CAP], ["model", "list"], ["model", "show", VENDOR], ["check"],
     ["model", "import", str(DEMO / "vendor" / "quillmere_mlcc.lib"), "--dry-run"],
 ]

@@ -27,6 +27,19 @@ MODEL_COL = Col("model", "model")
 PEAK_COLS = [Col("f_hz", "f", "Hz"), Col("z_ohm", "|Z|", "ohm", 4),
              Col("ratio", "x target", "", 4)]
 
+ALT_COLS = [Col("lines", "lines", ""), Col("parts", "parts", ""), Col("cost", "cost", ""),
+            Col("margin_pct", "margin %", ""), Col("parts_list", "bank")]
+
+
+def _alt_row(a: dict[str, Any], res: Any) -> dict[str, Any]:
+    margin = 100.0 * (1.0 - a["worst_ratio"])
+    return {"lines": a["lines"], "parts": a["parts"],
+            "cost": None if a["cost"] is None else round(a["cost"], 4),
+            "margin_pct": round(margin, 2),
+            "parts_list": ", ".join(f"{b['count']} x {b['part_number']}" for b in a["bank"])
+            if a["lines"] <= 4 else f"{a['lines']} lines"}
+
+
 def _count(n: int, word: str) -> str:
     """'1 part', '3 parts'."""
     return f"{n} {word}" if n == 1 else f"{n} {word}s"
@@ -58,6 +71,23 @@ def line_cols(res: Any) -> list[Col]:
     return cols
 
 
+def board_text(b: dict[str, Any]) -> str:
+    """One line per board branch of the result."""
+    fq = units.format_quantity
+    name = b["name"]
+    if name == "plane":
+        return (f"+ plane pair {fq(b['c_eff_f'], 'F')} with {fq(b['esl_total_h'], 'H')} "
+                "spreading inductance")
+    if name == "regulator":
+        return f"+ regulator output {fq(b['esr_ohm'], 'ohm')} + {fq(b['esl_total_h'], 'H')}"
+    if name == "die":
+        return f"+ on-die capacitance {fq(b['c_eff_f'], 'F')} with {fq(b['esr_ohm'], 'ohm')}"
+    if name == "package":
+        return (f"+ package {fq(b['esr_ohm'], 'ohm')} + {fq(b['esl_total_h'], 'H')} in series "
+                "to the load")
+    return f"+ {name}: {fq(b['esl_total_h'], 'H')}"
+
+
 def render_text(res: Any) -> str:
     fq = units.format_quantity
     lines = _summary(res)
@@ -65,12 +95,7 @@ def render_text(res: Any) -> str:
     if res.lines:
         lines.append(opt.emit(res.lines, cols, "table"))
     for b in res.board:
-        if b["name"] == "plane":
-            lines.append(f"+ plane pair {fq(b['c_eff_f'], 'F')} with {fq(b['esl_total_h'], 'H')}"
-                         " spreading inductance")
-        else:
-            lines.append(f"+ regulator output {fq(b['esr_ohm'], 'ohm')} + "
-                         f"{fq(b['esl_total_h'], 'H')}")
+        lines.append(board_text(b))
     lines.append("")
     if math.isfinite(res.max_z):
         margin = 100.0 * (1.0 - res.max_z / res.rail.target)
@@ -84,6 +109,19 @@ def render_text(res: Any) -> str:
                      f">= {fq(b['c_min_f'], 'F')} at the low edge); mounted inductance in "
                      f"parallel {fq(b['bank_l_h'], 'H')} (an inductance alone needs <= "
                      f"{fq(b['l_max_h'], 'H')} at the high edge)")
+    if res.worst_ratio is not None:
+        lines.append(f"on the board, at the load: worst {res.worst_ratio:.4g} x the target")
+    if res.lower_bound is not None:
+        lb = res.lower_bound["parts_at_least"]
+        lines.append(f"no bank of the candidates searched holds with fewer than {lb} parts "
+                     f"(linear relaxation bound; this bank: {res.parts})")
+    if res.noise is not None:
+        from partsel.jobs.decouple.board_result import noise_summary
+
+        lines += ["", *noise_summary(res.noise)]
+    if res.alternatives:
+        lines += ["", "Banks found with other numbers of lines (pick by parts, cost, margin):",
+                  opt.emit([_alt_row(a, res) for a in res.alternatives], ALT_COLS, "table")]
     if res.peaks:
         lines += ["", "Anti-resonance peaks in the band:", opt.emit(res.peaks, PEAK_COLS, "table")]
     if res.explanation:
@@ -94,7 +132,38 @@ def render_text(res: Any) -> str:
 
 def _rail_spec(rail: str | None, target: str | None, ripple: str | None, step: str | None,
                band: str | None, board_text: tuple[Any, ...], worst_case: bool,
-               margin: str | None) -> Any:
+               margin: str | None, noise: str | None = None, rise: str | None = None,
+               mask_file: Path | None = None) -> Any:
+    """The Rail from the command's words (:func:`_rail_target`), with the noise spec, the
+    load step's rise time and a target mask."""
+    if noise is not None and target is None and ripple is None and step is not None \
+            and mask_file is None:
+        z_t = units.parse_quantity(noise, "V", what="--noise") / units.parse_quantity(
+            step, "A", what="--step")
+        target = f"{z_t!r}ohm"
+    mask = None
+    if mask_file is not None:
+        from partsel.io.board import read_mask
+
+        mask = read_mask(mask_file)
+        if target is None and ripple is None:
+            target = f"{float(mask.z.min())!r}ohm"
+    spec = _rail_target(rail, target, ripple, step, band, board_text, worst_case, margin)
+    if step is not None and spec.step is None:
+        spec.step = units.parse_quantity(step, "A", what="--step")
+    spec.mask = mask
+    if noise is not None:
+        if step is None:
+            raise QueryError("--noise needs the load step it is for: give --step, e.g. 10A")
+        spec.noise = units.parse_quantity(noise, "V", what="--noise")
+    if rise is not None:
+        spec.rise_time = units.parse_quantity(rise, "s", what="--rise")
+    return spec
+
+
+def _rail_target(rail: str | None, target: str | None, ripple: str | None, step: str | None,
+                 band: str | None, board_text: tuple[Any, ...], worst_case: bool,
+                 margin: str | None) -> Any:
     """The Rail from the command's words: a target, or a ripple with a current step, and the
     board (:func:`partsel.jobs.decouple.board_from_text` of ``board_text``)."""
     from partsel.jobs import decouple as dec
@@ -109,7 +178,7 @@ def _rail_spec(rail: str | None, target: str | None, ripple: str | None, step: s
     board = dec.board_from_text(*board_text)
     share = units.parse_percent(margin, "--margin") if margin is not None else 0.0
     if target is not None:
-        if ripple is not None or step is not None:
+        if ripple is not None:
             raise QueryError("give either --target or --ripple with --step, not both")
         return dec.Rail(voltage, units.parse_quantity(target, "ohm", what="--target"), f_band,
                         board, worst_case, share)
@@ -189,9 +258,10 @@ def decouple_cmd(
         "--in-stock", help="Only parts with stock > 0.")] = False,
     max_parts: Annotated[int, typer.Option(
         "--max-parts", min=1, metavar="N", help="At most this many parts in the bank.")] = 500,
-    max_lines: Annotated[int | None, typer.Option(
+    max_lines: Annotated[int, typer.Option(
         "--max-lines", min=1, metavar="N",
-        help="At most this many different part numbers (BOM lines); default no limit.")] = None,
+        help="At most this many different part numbers (BOM lines); the result also lists "
+             "the banks found with other numbers of lines.")] = 4,
     max_cost: Annotated[str | None, typer.Option(
         "--max-cost", metavar="X", help="At most this total price (parts without a price "
         "are then left out).")] = None,
@@ -200,6 +270,62 @@ def decouple_cmd(
         "lowest cost), or lowest cost (then fewest parts).")] = "count",
     model: str = opt.model_option(),
     model_only: bool = opt.model_only_option(),
+    board_file: Annotated[Path | None, typer.Option(
+        "--board", metavar="FILE.toml", help="Board file: any of the board options below as "
+        "TOML keys (plane_gap = \"0.1mm\", ...); an option given as well wins.")] = None,
+    plane_area: Annotated[str | None, typer.Option(
+        "--plane-area", metavar="AREA", help="Plane pair area, e.g. 100cm2 or 50mm x 80mm "
+        "(with --plane-gap): C = eps0 eps_r A / d.")] = None,
+    plane_gap: Annotated[str | None, typer.Option(
+        "--plane-gap", metavar="D", help="Dielectric thickness of the plane pair, e.g. 0.1mm "
+        "or 4mil: sets the spreading inductance between the capacitors and the load.")] = None,
+    er: Annotated[str | None, typer.Option(
+        "--er", metavar="EPS_R", help="Relative permittivity of the plane dielectric "
+        "(default 4.3).")] = None,
+    plane_tan_delta: Annotated[str | None, typer.Option(
+        "--plane-tan-delta", metavar="TD", help="Loss tangent of the plane dielectric "
+        "(default 0.02 with a plane geometry).")] = None,
+    via_length: Annotated[str | None, typer.Option(
+        "--via-length", metavar="H", help="Via length from a capacitor's pads to the plane "
+        "pair, e.g. 0.5mm: mounting inductance from the via pair (instead of the per-case "
+        "defaults).")] = None,
+    via_pitch: Annotated[str | None, typer.Option(
+        "--via-pitch", metavar="P", help="Centre distance of a capacitor's via pair "
+        "(default: case length + 0.6 mm).")] = None,
+    via_radius: Annotated[str | None, typer.Option(
+        "--via-radius", metavar="R", help="Via radius (default 0.15mm).")] = None,
+    via_pairs: Annotated[str | None, typer.Option(
+        "--via-pairs", metavar="N", help="Via pairs per capacitor (default 1).")] = None,
+    distance: Annotated[str | None, typer.Option(
+        "--distance", metavar="R", help="Distance of the planned capacitors from the load's "
+        "centre (default 10mm; a bank file's distance column for --check).")] = None,
+    load_radius: Annotated[str | None, typer.Option(
+        "--load-radius", metavar="R", help="Radius of the load's via field (default 2mm).")]
+        = None,
+    cap_pitch: Annotated[str | None, typer.Option(
+        "--cap-pitch", metavar="P", help="Spacing of capacitors along their ring (default "
+        "2mm).")] = None,
+    package_r: Annotated[str | None, typer.Option(
+        "--package-r", metavar="R", help="Package resistance between the board and the die.")]
+        = None,
+    package_l: Annotated[str | None, typer.Option(
+        "--package-l", metavar="L", help="Package inductance, e.g. 20pH.")] = None,
+    die_c: Annotated[str | None, typer.Option(
+        "--die-c", metavar="C", help="On-die capacitance at the load, e.g. 300nF.")] = None,
+    die_r: Annotated[str | None, typer.Option(
+        "--die-r", metavar="R", help="Series resistance of the on-die capacitance.")] = None,
+    mask_file: Annotated[Path | None, typer.Option(
+        "--mask", metavar="FILE.csv", help="Target over frequency: CSV of f,z rows (log-log "
+        "between them, flat beyond), instead of a flat --target.")] = None,
+    noise: Annotated[str | None, typer.Option(
+        "--noise", metavar="V", help="Noise spec each side, e.g. 30mV (with --step): plans "
+        "until the worst-case noise of any step sequence stays within it.")] = None,
+    rise: Annotated[str | None, typer.Option(
+        "--rise", metavar="T", help="Rise time of the load step (default 0.35 / the band's "
+        "top frequency).")] = None,
+    spice: Annotated[Path | None, typer.Option(
+        "--spice", metavar="FILE.cir", help="Also write the network with the load step as a "
+        "SPICE transient deck (ngspice), for an independent check.")] = None,
     check_file: Annotated[Path | None, typer.Option(
         "--check", metavar="FILE", help="Evaluate this bank instead of planning one: CSV "
         "with part_number,count[,maker].")] = None,
@@ -230,8 +356,15 @@ def decouple_cmd(
     from partsel.jobs import decouple as dec
 
     fmt = opt.check_format(fmt)
-    spec = _rail_spec(rail, target, ripple, step, band, (mount_l, plane, plane_l, vrm_r, vrm_l),
-                      worst_case, margin)
+    geometry = {"plane_area": plane_area, "plane_gap": plane_gap, "er": er,
+                "plane_tan_delta": plane_tan_delta, "via_length": via_length,
+                "via_pitch": via_pitch, "via_radius": via_radius, "via_pairs": via_pairs,
+                "distance": distance, "load_radius": load_radius, "cap_pitch": cap_pitch,
+                "package_r": package_r, "package_l": package_l, "die_c": die_c,
+                "die_r": die_r}
+    spec = _rail_spec(rail, target, ripple, step, band,
+                      (mount_l, plane, plane_l, vrm_r, vrm_l, geometry, board_file),
+                      worst_case, margin, noise, rise, mask_file)
     with open_store_for(ctx) as store:
         if check_file is not None:
             res = dec.check(store, spec, dec.read_bank(check_file), model=model,
@@ -261,5 +394,10 @@ def decouple_cmd(
     if plot is not None:
         replaced = Path(plot).is_file()
         written("plot", dec.plot_bank(res, plot), replaced)
+    if spice is not None:
+        from partsel.jobs.decouple.spice_deck import write_deck
+
+        replaced = Path(spice).is_file()
+        written("SPICE transient deck", write_deck(res, spice), replaced)
     if not res.met:
         raise typer.Exit(1)

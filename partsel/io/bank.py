@@ -19,17 +19,19 @@ class BankEntry:
     count: int
     maker: str | None = None
     lines: tuple[int, ...] = field(default=(), compare=False)  # file lines, when listed twice
+    distance: float | None = None   # from the load's centre [m] (placement), None: the board's
 
 
 # header words read as the bank file's columns (spaces and hyphens read as '_')
 HEADERS = {"part_number": "part_number", "part": "part_number", "mpn": "part_number",
            "count": "count", "quantity": "count", "qty": "count",
-           "maker": "maker", "manufacturer": "maker"}
+           "maker": "maker", "manufacturer": "maker", "distance": "distance"}
 
 
 def read_bank(path: str | Path) -> list[BankEntry]:
     """Read a bank file: CSV with a header naming ``part_number`` and ``count`` (and
-    optionally ``maker``); blank lines and lines starting with '#' are skipped.
+    optionally ``maker`` and ``distance``, the placement from the load's centre with its unit,
+    e.g. 12mm); blank lines and lines starting with '#' are skipped.
 
     The separator is ',', ';' or tab, whichever the header line holds most; the header also
     reads part / part number / mpn, quantity / qty and manufacturer. A part listed on several
@@ -50,9 +52,10 @@ def read_bank(path: str | Path) -> list[BankEntry]:
                               f"count (and optionally maker), found {', '.join(header)}")
     ip, ic = header.index("part_number"), header.index("count")
     im = header.index("maker") if "maker" in header else None
+    idist = header.index("distance") if "distance" in header else None
     out: list[BankEntry] = []
-    seen: dict[tuple[str, str | None], int] = {}  # -> position in out
-    first_line: dict[tuple[str, str | None], int] = {}
+    seen: dict[tuple[str, str | None, float | None], int] = {}  # -> position in out
+    first_line: dict[tuple[str, str | None, float | None], int] = {}
     for (n, _), row in zip(lines[1:], rows[1:], strict=True):
         cells = [c.strip() for c in row] + [""] * len(header)
         pn, cnt = cells[ip], cells[ic]
@@ -65,7 +68,8 @@ def read_bank(path: str | Path) -> list[BankEntry]:
             value = math.nan
         if not (math.isfinite(value) and value == int(value) and value >= 1):
             raise FileFormatError(f"{p}, line {n}: count '{cnt}' must be a whole number >= 1")
-        key = (pn.lower(), maker.lower() if maker else None)
+        dist = _distance(p, n, cells[idist]) if idist is not None and cells[idist] else None
+        key = (pn.lower(), maker.lower() if maker else None, dist)
         if key in seen:
             first = out[seen[key]]
             out[seen[key]] = replace(first, count=first.count + int(value),
@@ -73,7 +77,7 @@ def read_bank(path: str | Path) -> list[BankEntry]:
             continue
         seen[key] = len(out)
         first_line[key] = n
-        out.append(BankEntry(pn, int(value), maker))
+        out.append(BankEntry(pn, int(value), maker, distance=dist))
     if not out:
         raise FileFormatError(f"the bank file {p} has a header but no parts")
     return out
@@ -81,3 +85,18 @@ def read_bank(path: str | Path) -> list[BankEntry]:
 
 def _word(header: str) -> str:
     return "_".join(header.strip().lower().replace("-", " ").split())
+
+
+def _distance(p: Path, n: int, text: str) -> float:
+    """A placement distance with its unit ('12mm', '0.5in', '400mil') [m]."""
+    from partsel.errors import PartselError
+    from partsel.jobs.decouple.board_options import parse_length
+
+    try:
+        d = parse_length(text, "distance")
+    except PartselError as exc:
+        raise FileFormatError(f"{p}, line {n}: {exc}") from None
+    if not (math.isfinite(d) and 0 < d < 1.0):
+        raise FileFormatError(f"{p}, line {n}: distance '{text}' must be a positive length "
+                              "below 1 m with its unit, e.g. 12mm")
+    return d

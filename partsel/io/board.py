@@ -40,3 +40,39 @@ def read_board(path: str | Path) -> dict[str, str]:
                                   "number, not a list or table")
         out[name] = value if isinstance(value, str) else repr(float(value))
     return out
+
+
+def read_mask(path: str | Path):
+    """Read a target mask: CSV rows of frequency and impedance (a header line is allowed;
+    quantities such as 1MHz, 3mohm or plain SI numbers), log-log linear between the rows and
+    flat beyond them (:class:`partsel.engine.ladder.Mask`)."""
+    import csv
+
+    from partsel import units
+    from partsel.engine.ladder import Mask
+    from partsel.errors import PartselError
+
+    p = Path(path)
+    text = read_text(p, "mask file", "give a CSV of f,z rows such as 1MHz,3mohm")
+    f, z = [], []
+    rows = [(n, r) for n, r in enumerate(csv.reader(text.splitlines()), 1)
+            if r and r[0].strip() and not r[0].lstrip().startswith("#")]
+    for k, (n, row) in enumerate(rows):
+        if len(row) < 2:
+            raise FileFormatError(f"{p}, line {n}: write two values, a frequency and an "
+                                  "impedance, e.g. 1MHz,3mohm")
+        try:
+            fv = units.parse_quantity(row[0].strip(), "Hz", what="frequency")
+            zv = units.parse_quantity(row[1].strip(), "ohm", what="impedance")
+        except PartselError as exc:
+            if k == 0:      # a header line
+                continue
+            raise FileFormatError(f"{p}, line {n}: {exc}") from None
+        f.append(fv)
+        z.append(zv)
+    if not f:
+        raise FileFormatError(f"{p}: no rows of f,z: write e.g. 1MHz,3mohm")
+    try:
+        return Mask.of(f, z)
+    except (PartselError, ValueError) as exc:
+        raise FileFormatError(f"{p}: {exc}") from None

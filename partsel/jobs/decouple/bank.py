@@ -71,7 +71,12 @@ def check(store: Store, rail: Rail, entries: Sequence[BankEntry], *, model: str 
     if model_only:
         _refuse_missing(parts, model, rail.band)
     counts = np.array([e.count for e in entries], dtype=float)
-    res = _result(rail, "check", parts, counts, notes, {}, None, "")
+    distances = [e.distance for e in entries]
+    if any(d is not None for d in distances) and not rail.board.has_cavity:
+        notes.append("the bank file places its parts at distances from the load, which only "
+                     "matter with the plane gap (the spreading between them): give "
+                     "--plane-gap to use them")
+    res = _result(rail, "check", parts, counts, notes, {}, None, "", distances=distances)
     if not parts.catalog_rlc:
         res.effects.insert(1, "models: " + "; ".join(
             f"{pn} {lab}" for pn, lab in zip(parts.part_number, parts.label, strict=True)))

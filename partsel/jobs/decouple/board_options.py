@@ -28,6 +28,9 @@ from partsel.engine import pdn
 from partsel.errors import QueryError, UnitError
 from partsel.jobs.decouple.inputs import Board
 
+# loss tangent of an FR-4 class laminate around 1 GHz (common practice, no source): damps the
+# plane pair's cavity resonance with the spreading inductance
+DEFAULT_PLANE_TAN_DELTA = 0.02
 _MIL = 25.4e-6          # 1 mil = 0.001 in [m]
 _INCH = 25.4e-3
 _AREA_UNITS = {"in2": _INCH**2, "in^2": _INCH**2, "sqin": _INCH**2, "mm2": 1e-6,
@@ -143,6 +146,8 @@ def geometry_from_text(texts: dict[str, str | None]) -> dict[str, Any]:
             out[key] = int(n)
         else:
             raise QueryError(f"unknown board quantity '{key}'")
+    if "plane_area" in out and "plane_tan_delta" not in out:
+        out["plane_tan_delta"] = DEFAULT_PLANE_TAN_DELTA
     return out
 
 

@@ -10,6 +10,7 @@ from numpy.typing import NDArray
 
 from partsel.engine import pdn
 from partsel.engine.bank import Bank
+from partsel.jobs.decouple.board_result import add_noise, evaluate_on_board, needs_network
 from partsel.jobs.decouple.candidates import Parts
 from partsel.jobs.decouple.diagnosis import diagnose
 from partsel.jobs.decouple.effects import _effects
@@ -22,7 +23,12 @@ PEAK_WINDOW_DECADES = 0.05   # measured curves: a listed peak tops |Z| within th
 
 def _result(rail: Rail, mode: Literal["plan", "check"], parts: Parts, counts: NDArray,
             notes: list[str], stats: dict[str, Any], pool: Parts | None,
-            limits: str) -> Result:
+            limits: str, distances: list[float | None] | None = None,
+            unreachable: list[tuple[float, float, float]] | None = None) -> Result:
+    """The bank ``counts`` of ``parts`` checked exactly: in parallel with the board branches,
+    then, when the board has a cavity or package or the target is a mask, on the ladder
+    (``distances`` per part: its ring radius, None for the board's), and its noise for the
+    load step (board_result.py)."""
     used = np.flatnonzero(counts > 0)
     order = used[np.argsort(-parts.c_eff[used], kind="stable")]
     lines = [_line(parts, int(i), int(counts[i]), rail.band) for i in order]
@@ -61,9 +67,14 @@ def _result(rail: Rail, mode: Literal["plan", "check"], parts: Parts, counts: ND
     with np.errstate(divide="ignore"):
         inv_l = float(np.sum(np.where(catalog.esl > 0, catalog.count / catalog.esl, 0.0)))
     bounds.update(bank_c_f=c_bank, bank_l_h=1.0 / inv_l if inv_l > 0 else math.inf)
-    return Result(rail, mode, bool(met), lines, _board_lines(rail.board), sc.max_z, sc.f_max,
-                  peaks, failures, explanation, effects, notes, bounds, stats, catalog, labels,
-                  network, model_check)
+    res = Result(rail, mode, bool(met), lines, _board_lines(rail.board), sc.max_z, sc.f_max,
+                 peaks, failures, explanation, effects, notes, bounds, stats, catalog, labels,
+                 network, model_check)
+    if needs_network(rail):
+        dist = None if distances is None else [distances[i] for i in order]
+        evaluate_on_board(rail, res, mine, counts[order], dist, unreachable)
+    add_noise(rail, res, mine, counts[order])
+    return res
 
 
 def _catalog_check(rail: Rail, catalog: pdn.Branches, sc: pdn.Scan, met: bool, limit: float,

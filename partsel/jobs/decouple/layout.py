@@ -37,7 +37,8 @@ from partsel.jobs.decouple.inputs import (
     Rail,
 )
 
-REACH = 0.8   # the share of the target the board's floor may take before it is unreachable
+REACH = 0.5   # where the board's floor exceeds this share of the target it is unreachable there;
+#               the bank then holds floor / REACH (its own share as large as the floor's)
 
 
 def ring_radii(board: Board, distances: list[float | None]) -> NDArray[np.float64]:

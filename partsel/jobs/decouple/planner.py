@@ -3,7 +3,12 @@
 from __future__ import annotations
 
 import time
+from dataclasses import replace
 
+import numpy as np
+
+from partsel.jobs.decouple.board_result import needs_network
+from partsel.jobs.decouple.bound import lower_bound
 from partsel.jobs.decouple.candidates import (
     load_candidates,
     reduce_candidates,
@@ -12,7 +17,8 @@ from partsel.jobs.decouple.candidates import (
 )
 from partsel.jobs.decouple.evaluate import _result
 from partsel.jobs.decouple.inputs import Choice, Rail
-from partsel.jobs.decouple.result import Result
+from partsel.jobs.decouple.layout import Layout
+from partsel.jobs.decouple.result import Result, _fq
 from partsel.jobs.decouple.solver import Limits, solve
 from partsel.store.db import Store
 
@@ -35,13 +41,10 @@ def plan(store: Store, rail: Rail, choice: Choice | None = None, *, measured: bo
     w = weights(parts, choice.prefer, choice.max_parts)
     idx = reduce_candidates(parts, w, rail.band, per_bin=1 if choice.prefer == "count" else 3)
     cands = parts.take(idx)
-    board, _ = rail.board.branches()
     limits = Limits(choice.max_parts, choice.max_cost, choice.max_lines)
-    out = solve(cands.network(), board, rail.design_target, rail.band, w[idx], cands.price,
-                limits)
-    stats = {"considered": considered, "usable": len(parts), **out.stats,
-             "prefer": choice.prefer}
-    res = _result(rail, "plan", cands, out.counts, notes, stats, parts, limits.text())
+    res = _plan_once(rail, cands, w[idx], limits, notes, considered, parts, choice.prefer)
+    if rail.noise is not None and rail.step is not None:
+        res = _hold_noise(rail, cands, w[idx], limits, notes, considered, parts, choice, res)
     res.effects.insert(2, voltage_rule_text(rail.voltage, choice.min_voltage))
     if not parts.catalog_rlc:
         res.effects.insert(1, _models_line(parts))
@@ -61,3 +64,75 @@ def _models_line(parts) -> str:
         counts[str(lab)] = counts.get(str(lab), 0) + 1
     return ("candidates planned on their chosen models: " + ", ".join(
         f"{lab} for {n}" for lab, n in sorted(counts.items(), key=lambda x: -x[1])))
+
+
+def _plan_once(rail: Rail, cands, w, limits: Limits, notes: list[str], considered: int,
+               parts, prefer: str) -> Result:
+    """One search for ``rail`` (on the ladder when the board needs one), gathered into a
+    Result with the alternatives per line count and the lower bound on the parts."""
+    layout = Layout.of(rail) if needs_network(rail) else None
+    board = layout if layout is not None else rail.board.branches()[0]
+    out = solve(cands.network(), board, rail.design_target, rail.band, w, cands.price,
+                limits)
+    stats = {"considered": considered, "usable": len(parts), **out.stats, "prefer": prefer}
+    res = _result(rail, "plan", cands, out.counts, list(notes), stats, parts, limits.text(),
+                  unreachable=layout.unreachable if layout is not None else None)
+    if out.search is not None:
+        res.lower_bound = lower_bound(out.search, limits.max_parts)
+    res.alternatives = _alternatives(cands, out.alternatives, rail.design_target / rail.target)
+    return res
+
+
+def _alternatives(cands, found, share: float) -> list[dict]:
+    """Banks the search passed on its way, one per line count, Pareto-filtered on (lines,
+    parts, cost): the fewest parts for each number of lines, and the cheapest."""
+    rows = []
+    for counts, worst in found:
+        used = np.flatnonzero(counts > 0)
+        price = cands.price[used]
+        cost = float(counts[used] @ price) if np.all(np.isfinite(price)) else None
+        rows.append({"lines": len(used), "parts": int(counts.sum()), "cost": cost,
+                     "worst_ratio": worst * share,
+                     "bank": [{"part_number": str(cands.part_number[i]),
+                               "count": int(counts[i])} for i in used]})
+    keep = []
+    for r in rows:
+        dominated = any(
+            o is not r and o["lines"] <= r["lines"] and o["parts"] <= r["parts"]
+            and (r["cost"] is None or (o["cost"] is not None and o["cost"] <= r["cost"]))
+            and (o["lines"], o["parts"], o["cost"]) != (r["lines"], r["parts"], r["cost"])
+            for o in rows)
+        if not dominated and all((k["lines"], k["parts"]) != (r["lines"], r["parts"])
+                                 for k in keep):
+            keep.append(r)
+    return sorted(keep, key=lambda r: (r["lines"], r["parts"]))[:ALTERNATIVES]
+
+
+ALTERNATIVES = 6    # rows of the alternatives table, fewest lines first
+
+
+NOISE_ROUNDS = 4    # replans with a lower target while the worst-case noise exceeds the spec
+
+
+def _hold_noise(rail: Rail, cands, w, limits: Limits, notes: list[str], considered: int,
+                parts, choice: Choice, res: Result) -> Result:
+    """Plan against the voltage spec: while the worst-case noise of the bank exceeds it,
+    lower the design target by the ratio (spec / worst case) and plan again."""
+    first = res
+    current = rail
+    for k in range(NOISE_ROUNDS):
+        n = res.noise
+        if n is None or n["met"] or not res.lines:
+            break
+        worst = max(n["worst_droop_v"], n["worst_overshoot_v"])
+        keep = (1.0 - current.margin) * 0.97 * rail.noise / worst
+        current = replace(current, margin=1.0 - keep)
+        res = _plan_once(current, cands, w, limits, notes, considered, parts, choice.prefer)
+        res.effects.append(
+            f"planned against the noise spec {_fq(rail.noise, 'V')}: the design target was "
+            f"lowered to {_fq(current.design_target, 'ohm')} (round {k + 1}) so that the "
+            "worst-case noise of any step sequence stays within it")
+    if res.noise is not None and not res.noise["met"] and first.noise is not None and \
+            len(first.lines) and not res.lines:
+        return first
+    return res

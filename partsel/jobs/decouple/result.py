@@ -5,7 +5,7 @@ and the rows it renders (bank lines and board branches).
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any, Literal
 
 import numpy as np
@@ -54,6 +54,13 @@ class Result:
     labels: list[str]
     network: Bank | None = None         # the same on the models used, when not all catalog
     model_check: dict[str, Any] | None = None   # the bank on its catalog models alone, then
+    ladder: Any = None                  # the whole network on the board (board_result.py)
+    radii: list[float] | None = None    # each line's ring radius on the board [m]
+    worst_ratio: float | None = None    # worst |Z| / Z_t(f) on the board
+    unreachable: list[dict[str, float]] = field(default_factory=list)
+    noise: dict[str, Any] | None = None             # noise.analyse
+    alternatives: list[dict[str, Any]] = field(default_factory=list)   # other line limits
+    lower_bound: dict[str, Any] | None = None       # planner.lower_bound
 
     @property
     def margin_ohm(self) -> float:
@@ -91,7 +98,9 @@ class Result:
         net = self.network or self.branches
         z = net.impedance(f) / np.maximum(self.branches.count, 1.0)[:, None]
         out = [(lab, z[i]) for i, lab in enumerate(self.labels)]
-        if len(self.branches.used()):
+        if self.ladder is not None:
+            out.append(("total", self.ladder.total(f)))
+        elif len(self.branches.used()):
             out.append(("total", net.total(f)))
         return out
 
@@ -122,6 +131,9 @@ class Result:
             "explanation": self.explanation, "cautions": self.cautions,
             "bounds": self.bounds, "effects": self.effects, "notes": self.notes,
             "search": self.stats,
+            "worst_ratio": self.worst_ratio, "ring_radius_m": self.radii,
+            "unreachable": self.unreachable, "noise": self.noise,
+            "alternatives": self.alternatives, "lower_bound": self.lower_bound,
         }
 
 
@@ -160,13 +172,22 @@ def _line(parts: Parts, i: int, count: int, band: tuple[float, float]) -> dict[s
 
 
 def _board_lines(board: Board) -> list[dict[str, Any]]:
+    """The board's own branches: the plane pair and the regulator at the port, the package in
+    series and the die at the load."""
     out = []
-    if board.plane_c:
-        out.append({"name": "plane", "count": 1, "c_eff_f": board.plane_c, "esr_ohm": 0.0,
-                    "tan_delta": board.plane_tan_delta, "esl_total_h": board.plane_l})
-    if board.vrm_r is not None and board.vrm_l is not None:
-        out.append({"name": "regulator", "count": 1, "c_eff_f": None, "esr_ohm": board.vrm_r,
-                    "tan_delta": 0.0, "esl_total_h": board.vrm_l})
+    port, labels = board.branches()
+    for i, name in enumerate(labels):
+        c = float(port.c[i])
+        out.append({"name": name, "count": 1, "c_eff_f": c if math.isfinite(c) else None,
+                    "esr_ohm": float(port.esr[i]), "tan_delta": float(port.tan_delta[i]),
+                    "esl_total_h": float(port.esl[i])})
+    if board.package_r is not None or board.package_l is not None:
+        out.append({"name": "package", "count": 1, "c_eff_f": None,
+                    "esr_ohm": board.package_r or 0.0, "tan_delta": 0.0,
+                    "esl_total_h": board.package_l or 0.0})
+    if board.die_c is not None:
+        out.append({"name": "die", "count": 1, "c_eff_f": board.die_c,
+                    "esr_ohm": board.die_r or 0.0, "tan_delta": 0.0, "esl_total_h": 0.0})
     return out
 
 

@@ -5,7 +5,7 @@
 from __future__ import annotations
 
 import time
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
@@ -163,6 +163,8 @@ class Outcome:
     counts: NDArray
     met: bool
     stats: dict[str, Any]
+    search: Search | None = None
+    alternatives: list[tuple[NDArray, float]] = field(default_factory=list)  # (counts, worst)
 
 
 class _Solver:
@@ -216,10 +218,21 @@ class _Solver:
     def holds(self, counts: NDArray) -> bool:
         if not counts.any() and (isinstance(self.board, Layout) or not len(self.board)):
             return False
+        # a bank that fails on a point of the search grid fails the exact check too (the
+        # grid's points are inside the band): only the others need the exact scan
+        y = self.search.admittance(counts)
+        if np.any(np.abs(y) * (1.0 + _GRID_SLACK) * (1.0 + _CHECK_SLACK)
+                  < self.search.y_target):
+            return False
         return self.scan(counts).max_z <= self.limit
 
     def allows(self, counts: NDArray) -> bool:
         return self.limits.allows(counts, self.price)
+
+    def allows_but_lines(self, counts: NDArray) -> bool:
+        """Within the part and cost limits (any number of lines): an alternative to show."""
+        return Limits(self.limits.max_parts, self.limits.max_cost, None).allows(counts,
+                                                                                self.price)
 
     def fill(self, start: NDArray | None = None, limits: Limits | None = None,
              allowed: NDArray | None = None) -> tuple[NDArray, NDArray, bool]:
@@ -241,12 +254,16 @@ class _Solver:
                                              limits, counts, allowed)
         return counts, best_within, False
 
-    def fewer_lines(self, counts: NDArray, max_lines: int) -> NDArray | None:
+    def fewer_lines(self, counts: NDArray, max_lines: int,
+                    record: list[NDArray] | None = None) -> NDArray | None:
         """Backward elimination of lines: drop the line whose removal, refilled from the
         remaining lines on the grid, costs least; check it exactly; repeat down to
-        ``max_lines``. None when it fails."""
+        ``max_lines``. None when it fails. Every bank passed on the way (each holds
+        exactly) is appended to ``record``."""
         free = Limits(self.cap, None, None)
         while np.count_nonzero(counts) > max_lines:
+            if record is not None:
+                record.append(counts.copy())
             trials = []
             for k in np.flatnonzero(counts):
                 allowed = counts > 0
@@ -264,7 +281,17 @@ class _Solver:
                     break
             else:
                 return None
+        if record is not None:
+            record.append(counts.copy())
         return counts
+
+    def worst(self, counts: NDArray) -> float:
+        """Worst |Z| / Z_t over the band, exactly (the strict check)."""
+        strict, self.strict = self.strict, True
+        try:
+            return float(self.scan(counts).max_z) / (self.limit / (1.0 + _CHECK_SLACK))
+        finally:
+            self.strict = strict
 
     def prune(self, counts: NDArray) -> NDArray:
         """Remove single parts, highest weight first, while the exact check holds (step 4)."""
@@ -298,10 +325,18 @@ def solve(cands: Network, board: Board, target: float,
     sv.stats["greedy_parts"] = int(counts.sum())
     best = sv.prune(counts) if ok and sv.allows(counts) else None
     around = counts
+    trail: list[NDArray] = []
     if limits.max_lines is not None:
         # Also from the bank without the line limit, by backward elimination of lines.
         free, _, ok_free = sv.fill(limits=Limits(limits.max_parts, limits.max_cost, None))
-        fewer = sv.fewer_lines(sv.prune(free), limits.max_lines) if ok_free else None
+        path: list[NDArray] = []
+        fewer = sv.fewer_lines(sv.prune(free), limits.max_lines, path) if ok_free else None
+        if fewer is not None and np.count_nonzero(fewer) > 1:
+            sv.fewer_lines(fewer.copy(), 1, path)     # on to one line, for the alternatives
+        trail = path
+        for c in trail:     # a bank on the way down with fewer lines may need fewer parts
+            if fewer is not None and sv.allows(c) and c @ w < fewer @ w:
+                fewer = c
         if fewer is not None and sv.allows(fewer) and (best is None or fewer @ w < best @ w):
             best = around = fewer
         elif not ok:
@@ -326,10 +361,18 @@ def solve(cands: Network, board: Board, target: float,
         sv.strict = True
         checked, _, ok = sv.fill(best)
         best_within, best = (best, None) if not (ok and sv.allows(checked)) else (best, checked)
+    alternatives = []
+    if limits.max_lines is not None:
+        seen: set[bytes] = set()
+        for c in [*trail, *([best] if best is not None else [])]:
+            key = c.tobytes()
+            if key not in seen and sv.allows_but_lines(c):
+                seen.add(key)
+                alternatives.append((c, sv.worst(c)))
     sv.stats["seconds"] = time.perf_counter() - t0
     if best is None:
-        return Outcome(best_within, False, sv.stats)
-    return Outcome(best, True, sv.stats)
+        return Outcome(best_within, False, sv.stats, sv.search, alternatives)
+    return Outcome(best, True, sv.stats, sv.search, alternatives)
 
 
 def _bank(cands: Network, counts: NDArray, board: pdn.Branches) -> Network:
