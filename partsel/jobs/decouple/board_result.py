@@ -103,13 +103,17 @@ def unreachable_text(rail: Rail, net: Network, spans: list[dict[str, float]]) ->
         floor = complex(net.ladder.floor(np.array([fa]))[0])
         l_eq = abs(floor) / (2 * math.pi * fa)
         zt = float(rail.design_mask()(np.array([fa]))[0])
+        grid = np.geomspace(fa, max(s["to_hz"], fa), 400)
+        ratio = np.abs(net.ladder.floor(grid)) / rail.design_mask()(grid)
+        f_top = float(grid[int(np.argmax(ratio))])
         who = "the package and the die must take over" if rail.board.has_package else \
             "on-package or on-die capacitance must take over (give the package and die)"
         out.append(
             f"From {_fq(fa, 'Hz')} to {_fq(s['to_hz'], 'Hz')} the board alone (spreading, "
             f"vias{', package' if rail.board.has_package else ''}: about {_fq(l_eq, 'H')} at "
-            f"{_fq(fa, 'Hz')}) reaches {s['floor_ratio']:.3g} x the target "
-            f"{_fq(zt, 'ohm')} (Z_t/(2 pi f) = {_fq(zt / (2 * math.pi * fa), 'H')}): no number "
+            f"{_fq(fa, 'Hz')}, where Z_t/(2 pi f) = {_fq(zt / (2 * math.pi * fa), 'H')}) "
+            f"exceeds half the target {_fq(zt, 'ohm')} and rises to {s['floor_ratio']:.3g} x "
+            f"it (at {_fq(f_top, 'Hz')}): no number "
             f"of board capacitors holds it there; {who}. The bank was planned to hold "
             f"{1 / REACH:.3g} x the board's floor there.")
     return out

@@ -1,0 +1,116 @@
+"""Benchmark: the decoupling planner with a board model, and the noise analysis of a bank.
+
+Prints figures; asserts nothing. Run:  python bench/bench_board.py [--parts 1000000]
+Stores are kept in bench/out/ between runs (delete it to rebuild).
+
+The rail: 1.0 V, 3 % ripple, 10 A step (Z_t = 3 mohm) over 10 kHz..100 MHz on a board: a
+100 cm2 plane pair 0.1 mm thick (eps_r 4.3), vias 0.5 mm to the planes, a 20 pH package and
+300 nF on the die.
+
+Measures
+- ``partsel decouple ...`` with the board as a whole command, process start included (best
+  of 3), with its peak memory (the child's maximum resident set) and the bank it returns;
+- the same with --noise 30mV (planning against the worst-case noise);
+- the noise analysis alone (step response and reverse-pulse worst case) of banks of 4, 10
+  and 30 lines, median of 5.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import resource
+import statistics
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))  # run from a checkout
+
+OUT = Path(__file__).parent / "out"
+BOARD = ["--plane-area", "100cm2", "--plane-gap", "0.1mm", "--er", "4.3", "--via-length",
+         "0.5mm", "--package-l", "20pH", "--die-c", "300nF"]
+RAIL = ["decouple", "--rail", "1.0V", "--ripple", "3%", "--step", "10A", "--band",
+        "10kHz..100MHz"]
+
+
+def run(store: Path, *args: str) -> tuple[float, str]:
+    t = time.perf_counter()
+    p = subprocess.run([sys.executable, "-m", "partsel", "--store", str(store), *args],
+                       stdout=subprocess.PIPE, stderr=subprocess.DEVNULL, text=True)
+    if p.returncode not in (0, 1):
+        raise SystemExit(f"partsel {' '.join(args)} failed with exit code {p.returncode}")
+    return time.perf_counter() - t, p.stdout
+
+
+def build(n: int) -> Path:
+    OUT.mkdir(exist_ok=True)
+    store = OUT / f"demo_{n}.duckdb"
+    if not store.exists():
+        t, _ = run(store, "demo", "--parts", str(n))
+        print(f"  built the {n}-part store in {t:.1f} s")
+    return store
+
+
+def whole(store: Path, label: str, *extra: str) -> None:
+    best, data = float("inf"), {}
+    for _ in range(3):
+        before = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
+        t, out = run(store, *RAIL, *BOARD, *extra, "--format", "json")
+        after = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
+        best, data = min(best, t), json.loads(out)
+    rss = max(before, after) / 1024          # kB on Linux
+    n = data.get("noise") or {}
+    print(f"  {label}: {best:.2f} s whole command (best of 3), peak memory {rss:.0f} MB; "
+          f"{data['parts']} parts on {data['lines']} lines, met {data['met']}, worst "
+          f"{data['worst_ratio']:.3g} x the target at the load; worst-case droop "
+          f"{n.get('worst_droop_v', float('nan')) * 1e3:.1f} mV; lower bound "
+          f"{(data['lower_bound'] or {}).get('parts_at_least')} parts")
+
+
+def noise_alone(store: Path) -> None:
+    from partsel.jobs import decouple as dec
+    from partsel.jobs.decouple.noise import analyse, parallel_network
+    from partsel.jobs.decouple.result import Result
+    from partsel.store import open_store
+
+    rail = dec.Rail.from_ripple(1.0, 0.03, 10.0, (1e4, 1e8))
+    with open_store(store) as s:
+        for lines in (4, 10, 30):
+            res: Result = dec.plan(s, rail, dec.Choice(max_lines=lines))
+            n = len(res.lines)
+            b = res.branches
+            from partsel.engine import pdn
+
+            bank = pdn.Branches(b.c[:n], b.esr[:n], b.esl[:n], b.tan_delta[:n], b.count[:n])
+            net = parallel_network(rail.board.branches()[0], bank)
+            times = []
+            for _ in range(5):
+                t = time.perf_counter()
+                out = analyse(rail, net)
+                times.append(time.perf_counter() - t)
+            print(f"  noise analysis of a {n}-line bank ({res.parts} parts, {out['poles']} "
+                  f"poles): {statistics.median(times):.3f} s median of 5; worst droop "
+                  f"{out['worst_droop_v'] * 1e3:.1f} mV, {out['factor']:.2f} x Z_t x step, "
+                  f"error bound {out['error_v'] * 1e6:.1f} uV")
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--parts", type=int, nargs="*", default=[],
+                    help="also measure stores of this many parts (e.g. 1000000)")
+    args = ap.parse_args()
+    print(f"python {sys.version.split()[0]}, {os.cpu_count()} CPUs")
+    for n in [6000, *args.parts]:
+        store = build(n)
+        print(f"{n}-part demo store:")
+        whole(store, "board model")
+        whole(store, "board model, --noise 30mV", "--noise", "30mV")
+        if n == 6000:
+            noise_alone(store)
+
+
+if __name__ == "__main__":
+    main()
