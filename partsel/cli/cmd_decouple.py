@@ -331,7 +331,7 @@ def decouple_cmd(
         "with part_number,count[,maker].")] = None,
     plot: Annotated[Path | None, typer.Option(
         "--plot", metavar="FILE.png", help="Also plot |Z| of each line, the total and the "
-        "target.")] = None,
+        "target; with --step also the step response, to FILE_step.png.")] = None,
     fmt: str = opt.format_option(),
 ) -> None:
     """Plan decoupling capacitors that keep a rail below its target impedance over a band.
@@ -394,6 +394,12 @@ def decouple_cmd(
     if plot is not None:
         replaced = Path(plot).is_file()
         written("plot", dec.plot_bank(res, plot), replaced)
+        if res.noise is not None:
+            from partsel.jobs.decouple.plot import plot_step
+
+            step_path = Path(plot).with_name(f"{Path(plot).stem}_step{Path(plot).suffix}")
+            replaced = step_path.is_file()
+            written("step response plot", plot_step(res, step_path), replaced)
     if spice is not None:
         from partsel.jobs.decouple.spice_deck import write_deck
 
