@@ -92,7 +92,7 @@ def render_text(res: Any) -> str:
     return "\n".join(lines)
 
 
-def _rail_spec(rail: str | None, target: str | None, ripple: str | None, step: str | None,
+def rail_spec(rail: str | None, target: str | None, ripple: str | None, step: str | None,
                band: str | None, board_text: tuple[Any, ...], worst_case: bool,
                margin: str | None) -> Any:
     """The Rail from the command's words: a target, or a ripple with a current step, and the
@@ -230,7 +230,7 @@ def decouple_cmd(
     from partsel.jobs import decouple as dec
 
     fmt = opt.check_format(fmt)
-    spec = _rail_spec(rail, target, ripple, step, band, (mount_l, plane, plane_l, vrm_r, vrm_l),
+    spec = rail_spec(rail, target, ripple, step, band, (mount_l, plane, plane_l, vrm_r, vrm_l),
                       worst_case, margin)
     with open_store_for(ctx) as store:
         if check_file is not None:
