@@ -55,7 +55,7 @@ class Answers:
         from partsel.jobs import find as find_job
 
         search = forms.search_from_query(q)
-        with forms.reading(None, forms.FIND_FLAGS):
+        with forms.reading(None, forms.FIND_FLAGS, q):
             result = find_job.find(self.store, search)
         return search, result, [find_row(r) for r in result.rows]
 
@@ -70,7 +70,7 @@ class Answers:
         from partsel.jobs.alternates import alternates
 
         part, maker, crit = forms.alternates_from_query(q)
-        with forms.reading("part"):
+        with forms.reading("part", {}, q):
             res = alternates(self.store, part, maker, crit)
         kind = res.original["kind"]
         rows = [alternates_row(i, c, kind) for i, c in enumerate(res.candidates, 1)]
@@ -81,7 +81,7 @@ class Answers:
         from partsel.jobs.inductive import check
 
         parts, spec = forms.inductive_from_query(q)
-        with forms.reading("parts", forms.INDUCTIVE_FLAGS):
+        with forms.reading("parts", forms.INDUCTIVE_FLAGS, q):
             res = check(self.store, parts, spec, q.get("maker") or None,
                         model=forms.model_of(q))
         return res, [inductive_row(r) for r in res.rows]

@@ -48,13 +48,27 @@ def field_of(exc: PartselError, default: str | None) -> str | None:
 
 
 @contextmanager
-def reading(field: str | None, flags: Mapping[str, str] = {}) -> Iterator[None]:  # noqa: B006
-    """Turn a PartselError raised inside into BadInput about ``field``."""
+def reading(field: str | None, flags: Mapping[str, str] = {},  # noqa: B006
+            query: Mapping[str, Any] | None = None) -> Iterator[None]:
+    """Turn a PartselError raised inside into BadInput about ``field``: the error's first
+    keyword when it names one, else (given the ``query``) the field whose value the message
+    quotes, else ``field``."""
     try:
         yield
     except PartselError as exc:
-        raise BadInput(worded(exc, flags), field_of(exc, field) if exc.params else field) \
-            from None
+        where = field_of(exc, field) if exc.params else quoted_field(str(exc), query, field)
+        raise BadInput(worded(exc, flags), where) from None
+
+
+def quoted_field(message: str, query: Mapping[str, Any] | None, default: str | None
+                 ) -> str | None:
+    """The query field one of whose values (or list items) the message quotes."""
+    for key, value in (query or {}).items():
+        text = str(value).strip()
+        items = [text, *(x.strip() for x in text.split(","))]
+        if text and any(x and f"'{x}'" in message for x in items):
+            return str(key)
+    return default
 
 
 def _text(q: Mapping[str, Any], key: str) -> str | None:
@@ -155,7 +169,7 @@ def search_from_query(q: Mapping[str, Any]) -> Any:
     kw["model"], kw["model_only"] = model_of(q), _flag(q, "model_only")
     kw["limit"] = _count(q, "limit", 20)
     search = Search(**kw)
-    with reading(None, FIND_FLAGS):
+    with reading(None, FIND_FLAGS, q):
         search.validate()
     return search
 
@@ -217,7 +231,7 @@ def inductive_from_query(q: Mapping[str, Any]) -> tuple[list[str], Any]:
                 ripple=_quantity(q, "ripple_current", "A"), **ratios,
                 min_q=q_at[0] if q_at else None,
                 min_q_hz=q_at[1] if q_at and q_at[1] != target else None)
-    with reading(None, INDUCTIVE_FLAGS):
+    with reading(None, INDUCTIVE_FLAGS, q):
         spec.validate()
     return parts, spec
 
