@@ -89,7 +89,7 @@ def table(rows: list[dict[str, Any]], cols: list[Col], link: Any = None,
 def plot(div: str, fig: dict[str, Any]) -> str:
     data = json.dumps(fig, allow_nan=False).replace("</", "<\\/")
     return (f'<div id="{div}" class="plot"></div><script>(function(){{var f={data};'
-            f'Plotly.newPlot("{div}",f.data,f.layout,{{displaylogo:false,responsive:true}});'
+            f'Plotly.newPlot("{div}",f.data,f.layout,{{displaylogo:false,responsive:true,showLink:false,showSendToCloud:false,showEditInChartStudio:false}});'
             "})();</script>")
 
 

@@ -75,7 +75,8 @@
         document.getElementById("bank-total").textContent = j.summary;
         document.getElementById("bank-table-box").innerHTML = j.table;
         Plotly.react("zplot", j.figure.data, j.figure.layout,
-                     {displaylogo: false, responsive: true});
+                     {displaylogo: false, responsive: true, showLink: false,
+                      showSendToCloud: false, showEditInChartStudio: false});
         history.replaceState(null, "", url(b));
       })
       .catch(function () {
