@@ -17,6 +17,9 @@ from partsel.units import format_quantity
 from partsel.web import plots
 from partsel.web.forms import BadInput
 
+# plotly's options: no logo, no link or button to a web service
+CONFIG = ("{displaylogo:false,responsive:true,showLink:false,showSendToCloud:false,"
+          "showEditInChartStudio:false}")
 PLOTTED = 8          # curves drawn on a search or substitutes view
 PER_DECADE = 60
 
@@ -89,7 +92,7 @@ def table(rows: list[dict[str, Any]], cols: list[Col], link: Any = None,
 def plot(div: str, fig: dict[str, Any]) -> str:
     data = json.dumps(fig, allow_nan=False).replace("</", "<\\/")
     return (f'<div id="{div}" class="plot"></div><script>(function(){{var f={data};'
-            f'Plotly.newPlot("{div}",f.data,f.layout,{{displaylogo:false,responsive:true,showLink:false,showSendToCloud:false,showEditInChartStudio:false}});'
+            f'Plotly.newPlot("{div}",f.data,f.layout,{CONFIG});'
             "})();</script>")
 
 
