@@ -87,6 +87,66 @@ def inductive_row(row: dict[str, Any]) -> dict[str, Any]:
     return {INDUCTIVE_KEYS[k]: v for k, v in row.items() if k in INDUCTIVE_KEYS}
 
 
+# Catalog fields carried into JSON/CSV rows, under names that say their SI unit.
+ALTERNATES_FIELDS = {
+    "part_number": "part_number", "maker": "maker", "kind": "kind", "technology": "technology",
+    "case": "case", "dielectric": "dielectric", "mounting": "mounting", "value": "value",
+    "tolerance": "tolerance", "rated_voltage": "rated_voltage_v", "esr": "esr_ohm",
+    "esl": "esl_h", "tan_delta": "tan_delta", "dcr": "dcr_ohm", "srf": "srf_hz",
+    "isat": "isat_a", "irms": "irms_a", "height": "height_m", "temp_min": "temp_min_degc",
+    "temp_max": "temp_max_degc", "safety_class": "safety_class",
+    "aec_q200_grade": "aec_q200_grade", "lifecycle": "lifecycle", "price": "price",
+    "stock": "stock",
+}
+
+
+def alternates_row(rank: int, cand: Any, kind: str) -> dict[str, Any]:
+    """A candidate as one output row: catalog fields, figures and the rule outcomes."""
+    out: dict[str, Any] = {"rank": rank}
+    for key, name in ALTERNATES_FIELDS.items():
+        if not (kind == "inductor" and key in ("esr", "esl", "tan_delta", "dielectric")) and \
+                not (kind == "capacitor" and key in ("dcr", "srf", "isat", "irms")):
+            out[value_key(kind) if key == "value" else name] = cand.part.get(key)
+    out.update(distance_db=cand.distance_db, max_diff_db=cand.max_diff_db,
+               f_max_diff_hz=cand.f_max_diff_hz)
+    if kind == "capacitor":
+        out.update(value_at_bias_f=cand.value_eff, bias_source=cand.bias_source)
+        if cand.esr_ratio is not None:
+            out["esr_ratio"] = cand.esr_ratio
+    out.update(model=cand.model, model_source=cand.model_source)
+    out["rules"] = [{"rule": r.rule, "passed": r.passed, "detail": r.detail}
+                    for r in cand.rules]
+    return out
+
+
+def alternates_json(res: Any, rows: list[dict[str, Any]],
+                    misses: list[dict[str, Any]] | None) -> dict[str, Any]:
+    """The alternates answer as the JSON object of ``--format json`` and the web API."""
+    o = res.original
+    payload = {
+        "original": {value_key(o.get("kind")) if key == "value" else name: o.get(key)
+                     for key, name in ALTERNATES_FIELDS.items()},
+        "original_value_at_bias_f": res.original_value_eff, "bias_v": res.bias,
+        "original_bias_source": res.original_bias_source,
+        "band_hz": list(res.band), "order": res.order,
+        "rules_checked": res.rules, "skipped": res.skipped, "effects": res.effects,
+        "notes": res.notes, "cautions": res.cautions,
+        "passing": res.passing, "pass_form_and_fit": res.fit, "rows": rows}
+    if misses is not None:
+        payload["near_misses"] = misses
+    return payload
+
+
+def show_json(rep: Any) -> dict[str, Any]:
+    """A part report (:func:`partsel.jobs.show.report`) as the JSON object of ``show``."""
+    p = rep.part
+    return {"part": catalog_json({k: v for k, v in p.items() if k not in ("bias_v", "bias_ratio")}),
+            "model": {value_key(p["kind"]) if k == "value" else CATALOG_KEYS.get(k, k):
+                      {"value": v, "source": s} for k, (v, s) in rep.model.items()},
+            "derived": rep.derived, "points": rep.points, "cautions": rep.cautions,
+            "sweeps": rep.sweeps, "model_used": rep.used}
+
+
 GLOSSARY: dict[str, str] = {
     "part_number": "the maker's part number",
     "maker": "the maker's name",

@@ -11,7 +11,7 @@ from partsel.catalog import DEFAULT_LIFECYCLES
 from partsel.cli import options as opt
 from partsel.cli.app import app, echo, note, open_store_for, written
 from partsel.errors import FileFormatError
-from partsel.glossary import value_key
+from partsel.glossary import alternates_json, alternates_row
 from partsel.render import Col
 
 _FIGURES = {
@@ -24,38 +24,6 @@ _FIGURES = {
 }
 _TAIL = [Col("distance_db", "dist. dB", ""), Col("max_diff_db", "max dB", ""),
          Col("price", "price", ""), Col("stock", "stock", "")]
-# Catalog fields carried into JSON/CSV rows, under names that say their SI unit.
-_JSON_FIELDS = {
-    "part_number": "part_number", "maker": "maker", "kind": "kind", "technology": "technology",
-    "case": "case", "dielectric": "dielectric", "mounting": "mounting", "value": "value",
-    "tolerance": "tolerance", "rated_voltage": "rated_voltage_v", "esr": "esr_ohm",
-    "esl": "esl_h", "tan_delta": "tan_delta", "dcr": "dcr_ohm", "srf": "srf_hz",
-    "isat": "isat_a", "irms": "irms_a", "height": "height_m", "temp_min": "temp_min_degc",
-    "temp_max": "temp_max_degc", "safety_class": "safety_class",
-    "aec_q200_grade": "aec_q200_grade", "lifecycle": "lifecycle", "price": "price",
-    "stock": "stock",
-}
-
-
-def _row(rank: int, cand: Any, kind: str) -> dict[str, Any]:
-    """A candidate as one output row: catalog fields, figures and the rule outcomes."""
-    out: dict[str, Any] = {"rank": rank}
-    for key, name in _JSON_FIELDS.items():
-        if not (kind == "inductor" and key in ("esr", "esl", "tan_delta", "dielectric")) and \
-                not (kind == "capacitor" and key in ("dcr", "srf", "isat", "irms")):
-            out[value_key(kind) if key == "value" else name] = cand.part.get(key)
-    out.update(distance_db=cand.distance_db, max_diff_db=cand.max_diff_db,
-               f_max_diff_hz=cand.f_max_diff_hz)
-    if kind == "capacitor":
-        out.update(value_at_bias_f=cand.value_eff, bias_source=cand.bias_source)
-        if cand.esr_ratio is not None:
-            out["esr_ratio"] = cand.esr_ratio
-    out.update(model=cand.model, model_source=cand.model_source)
-    out["rules"] = [{"rule": r.rule, "passed": r.passed, "detail": r.detail}
-                    for r in cand.rules]
-    return out
-
-
 def _passes(cand: Any) -> str:
     failed = cand.failed
     if not failed:
@@ -121,6 +89,7 @@ def alternates_cmd(
     """
     from partsel import units
     from partsel.jobs.alternates import Criteria, alternates
+    from partsel.render import to_json
 
     fmt = opt.check_format(fmt)
     within_db = None if within.strip().lower() == "off" else units.parse_db(within, "--within")
@@ -139,10 +108,10 @@ def alternates_cmd(
     with open_store_for(ctx) as store:
         res = alternates(store, part, maker, crit)
     kind = res.original["kind"]
-    rows = [_row(i, c, kind) for i, c in enumerate(res.candidates, 1)]
-    misses = [_row(i, c, kind) for i, c in enumerate(res.near_misses, 1)]
+    rows = [alternates_row(i, c, kind) for i, c in enumerate(res.candidates, 1)]
+    misses = [alternates_row(i, c, kind) for i, c in enumerate(res.near_misses, 1)]
     if fmt == "json":
-        echo(_json(res, rows, misses if explain else None))
+        echo(to_json(alternates_json(res, rows, misses if explain else None)))
     elif fmt == "csv":
         for r, c in zip(rows + misses, res.candidates + res.near_misses, strict=True):
             r["result"] = "candidate" if not c.failed else "near miss"
@@ -153,23 +122,6 @@ def alternates_cmd(
     else:
         echo(_table(res, kind))
     _notes(res, fmt)
-
-
-def _json(res: Any, rows: list[dict[str, Any]], misses: list[dict[str, Any]] | None) -> str:
-    from partsel.render import to_json
-    o = res.original
-    payload = {
-        "original": {value_key(o.get("kind")) if key == "value" else name: o.get(key)
-                     for key, name in _JSON_FIELDS.items()},
-        "original_value_at_bias_f": res.original_value_eff, "bias_v": res.bias,
-        "original_bias_source": res.original_bias_source,
-        "band_hz": list(res.band), "order": res.order,
-        "rules_checked": res.rules, "skipped": res.skipped, "effects": res.effects,
-        "notes": res.notes, "cautions": res.cautions,
-        "passing": res.passing, "pass_form_and_fit": res.fit, "rows": rows}
-    if misses is not None:
-        payload["near_misses"] = misses
-    return to_json(payload)
 
 
 def _table(res: Any, kind: str) -> str:

@@ -130,7 +130,7 @@ def render_text(res: Any) -> str:
     return "\n".join(lines)
 
 
-def _rail_spec(rail: str | None, target: str | None, ripple: str | None, step: str | None,
+def rail_spec(rail: str | None, target: str | None, ripple: str | None, step: str | None,
                band: str | None, board_text: tuple[Any, ...], worst_case: bool,
                margin: str | None, noise: str | None = None, rise: str | None = None,
                mask_file: Path | None = None) -> Any:
@@ -362,7 +362,7 @@ def decouple_cmd(
                 "distance": distance, "load_radius": load_radius, "cap_pitch": cap_pitch,
                 "package_r": package_r, "package_l": package_l, "die_c": die_c,
                 "die_r": die_r}
-    spec = _rail_spec(rail, target, ripple, step, band,
+    spec = rail_spec(rail, target, ripple, step, band,
                       (mount_l, plane, plane_l, vrm_r, vrm_l, geometry, board_file),
                       worst_case, margin, noise, rise, mask_file)
     with open_store_for(ctx) as store:

@@ -25,7 +25,7 @@ IND_COLS = [Col("part_number", "part"), Col("maker", "maker"), Col("value", "L",
             Col("isat", "Isat", "A"), Col("irms", "Irms", "A"),
             Col("lifecycle", "life"), Col("stock", "stock", "")]
 
-def _columns(search: Any) -> list[Col]:
+def table_columns(search: Any) -> list[Col]:
     """The table's columns for what the search computed."""
     from partsel import units
 
@@ -196,7 +196,7 @@ def find_cmd(
     search.validate()
     with open_store_for(ctx) as store:
         result = find(store, search)
-    cols = _columns(search)
+    cols = table_columns(search)
     if search.kind == "capacitor" and search.mount_l:
         for r in result.rows:
             r["esl_mounted"] = (r.get("esl") or 0.0) + search.mount_l

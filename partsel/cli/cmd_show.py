@@ -8,7 +8,7 @@ import typer
 
 from partsel.cli import options as opt
 from partsel.cli.app import app, echo, note, open_store_for, written
-from partsel.glossary import CATALOG_KEYS, catalog_json, value_key
+from partsel.glossary import show_json
 from partsel.render import Col, to_json
 
 _UNITS = {"value": None, "esr": "ohm", "esl": "H", "tan_delta": "", "dcr": "ohm", "srf": "Hz",
@@ -41,12 +41,7 @@ def show_cmd(
         rep = report(store, part, maker, model=model)
     p = rep.part
     if fmt == "json":
-        echo(to_json({"part": catalog_json({k: v for k, v in p.items()
-                                            if k not in ("bias_v", "bias_ratio")}),
-                      "model": {value_key(p["kind"]) if k == "value" else CATALOG_KEYS.get(k, k):
-                                {"value": v, "source": s} for k, (v, s) in rep.model.items()},
-                      "derived": rep.derived, "points": rep.points, "cautions": rep.cautions,
-                      "sweeps": rep.sweeps, "model_used": rep.used}))
+        echo(to_json(show_json(rep)))
         return
     if fmt == "csv":
         echo(opt.emit(rep.points, [], "csv"))

@@ -375,11 +375,11 @@ def _shown(search: Search, key: np.ndarray, ok: np.ndarray) -> tuple[np.ndarray,
     ok &= np.isfinite(key)
     idx = np.flatnonzero(ok)
     matches = len(idx)
-    idx = idx[np.argsort(key[idx], kind="stable")]
     if search.limit and matches > search.limit:
-        cut = key[idx[search.limit - 1]]
+        # the limit-th smallest key by selection, not a sort of every match
+        cut = np.partition(key[idx], search.limit - 1)[search.limit - 1]
         idx = idx[key[idx] <= cut]
-    return idx, matches
+    return idx[np.argsort(key[idx], kind="stable")], matches
 
 
 def _shown_metrics(search: Search, pool: _Pool, idx: np.ndarray) -> None:
@@ -427,7 +427,7 @@ def find(store: Store, search: Search) -> FindResult:
     idx, matches = _shown(search, key, pool.ok)
     _shown_metrics(search, pool, idx)
     parts = store.parts_by_id(pool.cols["id"][idx])
-    labels = pool.chosen.labels()
+    labels = dict(zip(idx.tolist(), pool.chosen.labels(idx), strict=True))
     rows = []
     for pos, part in zip(idx, parts, strict=True):
         row = {k: v for k, v in part.items() if k not in ("bias_v", "bias_ratio")}
@@ -439,7 +439,7 @@ def find(store: Store, search: Search) -> FindResult:
             row["bias_source"] = BIAS_SOURCES[pool.bias_src[pos]]
         row["model_source"] = str(pool.chosen.source[pos])
         row["model_family"] = str(pool.chosen.family[pos])
-        row["model"] = labels[pos]
+        row["model"] = labels[int(pos)]
         row["model_origin"] = str(pool.chosen.origin[pos])
         if pool.extra_rows is not None:
             row.update(pool.extra_rows(pos))

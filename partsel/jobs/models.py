@@ -197,8 +197,19 @@ class Chosen:
                     rest, src = rest[~hit], src[~hit]
         return out
 
-    def labels(self) -> list[str]:
-        """Per part, e.g. "vendor netlist", "catalog rlc" or "measured curve"."""
+    @cached_property
+    def _label_codes(self) -> NDArray[np.int16]:
+        codes = np.full(self.n, -1, dtype=np.int16)
+        for k, (_, pos) in enumerate(self._label_masks):
+            codes[pos] = k
+        return codes
+
+    def labels(self, at: NDArray[np.intp] | None = None) -> list[str]:
+        """Per part, e.g. "vendor netlist", "catalog rlc" or "measured curve"; with ``at``,
+        of those positions only (without a list of a million words)."""
+        if at is not None:
+            names = [lab for lab, _ in self._label_masks]
+            return [names[c] if c >= 0 else None for c in self._label_codes[np.asarray(at)]]
         out = np.empty(self.n, dtype=object)
         for label, pos in self._label_masks:
             out[pos] = label
