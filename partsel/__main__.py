@@ -1,9 +1,5 @@
-"""``python -m partsel``: Ctrl-C handling first, then the command line."""
+"""``python -m partsel``: the command line, Ctrl-C handling first (see :mod:`partsel.launch`)."""
 
-from partsel import interrupt
-
-interrupt.install()
-
-from partsel.cli import main  # noqa: E402  (after the handler, so Ctrl-C is never a traceback)
+from partsel.launch import main
 
 main()

@@ -5,27 +5,40 @@ The command line installs :func:`install`: the first SIGINT raises KeyboardInter
 :func:`held` (a COMMIT and the record of what it stored) an interrupt waits until the block has
 ended. :func:`changes` lists what was committed, so an interrupted command can say what it kept.
 Library users who do not call :func:`install` keep Python's own behaviour.
+
+DuckDB runs a query in C++ and swallows a KeyboardInterrupt raised meanwhile (the query runs
+to its end and the Ctrl-C is lost), so the handler also interrupts every connection given to
+:func:`watch`: a running query stops at once and raises, and its transaction rolls back.
 """
 
 from __future__ import annotations
 
 import signal
 import threading
+import weakref
 from collections.abc import Iterator
 from contextlib import contextmanager
 from types import FrameType
 
-_state = {"installed": False, "hold": 0, "pending": False, "requested": False}
+_state = {"installed": False, "hold": 0, "pending": False, "requested": False, "done": False}
 _changes: list[str] = []
+_connections: weakref.WeakSet = weakref.WeakSet()
 
 
 def _on_sigint(signum: int, frame: FrameType | None) -> None:
+    if _state["done"]:
+        return  # the command has ended and said so: a Ctrl-C now changes nothing
     if _state["requested"]:
         return  # a second Ctrl-C while the first unwinds: let the clean-up finish
     _state["requested"] = True
     if _state["hold"]:
         _state["pending"] = True
         return
+    for con in list(_connections):
+        try:
+            con.interrupt()
+        except Exception:  # noqa: BLE001  (closed meanwhile: nothing to stop)
+            pass
     raise KeyboardInterrupt
 
 
@@ -37,8 +50,19 @@ def install() -> None:
     if signal.getsignal(signal.SIGINT) is signal.SIG_IGN:
         return
     signal.signal(signal.SIGINT, _on_sigint)
-    _state.update(installed=True, hold=0, pending=False, requested=False)
+    _state.update(installed=True, hold=0, pending=False, requested=False, done=False)
     _changes.clear()
+
+
+def watch(con: object) -> None:
+    """Interrupt DuckDB connection ``con`` on Ctrl-C (held only weakly)."""
+    _connections.add(con)
+
+
+def finished() -> None:
+    """The command has ended (its result or its error is being said): ignore Ctrl-C from now
+    until the next :func:`install`."""
+    _state["done"] = True
 
 
 def interrupted() -> bool:

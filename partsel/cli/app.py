@@ -143,6 +143,7 @@ class _Group(TyperGroup):
             self._report(exc)
         if interrupt.interrupted():  # typer turns KeyboardInterrupt into exit code 130
             _fail(interrupt.message(), 130)
+        interrupt.finished()
         sys.exit(rc if isinstance(rc, int) else 0)
 
     @staticmethod
@@ -262,6 +263,7 @@ def _store_first(argv: list[str]) -> list[str]:
 
 
 def _fail(message: str, code: int) -> None:
+    interrupt.finished()  # one line, whatever Ctrl-C comes now
     first = message.strip().splitlines()[0] if message.strip() else "failed"
     typer.echo(f"Error: {first}", err=True)
     sys.exit(code)

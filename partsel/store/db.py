@@ -158,7 +158,9 @@ def _decode_row(row: dict[str, Any]) -> dict[str, Any]:
 
 def _connect(path: Path, read_only: bool) -> duckdb.DuckDBPyConnection:
     try:
-        return duckdb.connect(str(path), read_only=read_only)
+        con = duckdb.connect(str(path), read_only=read_only)
+        interrupt.watch(con)
+        return con
     except duckdb.Error as exc:
         text = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
         if "lock" in text.lower():

@@ -17,6 +17,7 @@ from pathlib import Path
 
 import duckdb
 
+from partsel import interrupt
 from partsel.errors import StoreError
 from partsel.store import schema
 
@@ -98,7 +99,9 @@ def _open(p: Path) -> duckdb.DuckDBPyConnection:
     if problem:
         raise StoreError(problem)
     try:
-        return duckdb.connect(str(p), read_only=True)
+        con = duckdb.connect(str(p), read_only=True)
+        interrupt.watch(con)
+        return con
     except duckdb.Error as exc:
         text = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
         if "lock" in text.lower():

@@ -1,0 +1,48 @@
+"""The process entry (``partsel`` and ``python -m partsel``): Ctrl-C handling before anything
+else is imported, then the command line.
+
+A Ctrl-C while the command line loads (typer and the rest) ends the process with the one
+line and exit code 130, like one during the command. After an interrupted command the
+process ends at once (``os._exit``) with that code, its output flushed and its stores
+already closed by the unwinding: CPython remembers a KeyboardInterrupt raised inside code
+built by ``exec`` (dataclasses and namedtuples build their methods so, and DuckDB's Python
+modules define dataclasses on import) and would otherwise end the process by SIGINT instead of
+the exit code asked for.
+"""
+
+from __future__ import annotations
+
+import os
+import signal
+import sys
+
+from partsel import interrupt
+
+
+def _end(code: int) -> None:
+    for stream in (sys.stdout, sys.stderr):
+        try:
+            stream.flush()
+        except (OSError, ValueError):
+            pass
+    os._exit(code)
+
+
+def main() -> None:
+    interrupt.install()
+    try:
+        from partsel.cli import main as run
+        run()
+    except KeyboardInterrupt:
+        print("Error: " + interrupt.message(), file=sys.stderr)
+        _end(130)
+    except SystemExit as exc:
+        # the command has ended: a Ctrl-C from now on (Python's own shutdown included, which
+        # puts the default handler back) changes nothing and must not end the process by SIGINT
+        signal.signal(signal.SIGINT, signal.SIG_IGN)
+        if interrupt.interrupted():
+            _end(exc.code if isinstance(exc.code, int) else 130)
+        raise
+
+
+__all__ = ["main"]

@@ -1,0 +1,267 @@
+"""Crash consistency: the writing commands run in a child process (``python -m partsel``) and
+are killed with SIGINT (Ctrl-C) or SIGKILL (power cut, OOM killer) after a random delay spread
+over the command's measured run time. After every kill the store opens, ``partsel check``
+passes, and its content (a hash over the sorted rows of every table, read with DuckDB
+read-only, leaving out the dates and ids the store sets itself) is that of the store before
+the command or after an uninterrupted run, never a mix. ``sweep import --fit`` is two steps
+by design (the sweep, then the fit; the sweep stays when the fit is refused), so the state
+after its first step is allowed too, and a Ctrl-C there must say that the sweep was kept.
+After SIGINT the process exits 130 and its last line on stderr is the one ``Error:`` line
+saying nothing was changed, or what was kept; never a traceback.
+
+PARTSEL_KILLS sets the kills per command (default 8: the module runs in about a minute on two
+cores); PARTSEL_KILL_SEED the seed of the delays. The counts of every outcome are printed, and
+written as JSON to $PARTSEL_CRASH_REPORT when it is set.
+
+Behaviour only: no physical check values.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import os
+import random
+import re
+import shutil
+import signal
+import statistics
+import subprocess
+import sys
+import time
+from collections import Counter
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import duckdb
+import pytest
+
+from partsel.store import open_store
+from tests.conftest import Cli
+
+KILLS = int(os.environ.get("PARTSEL_KILLS", "8"))
+SEED = int(os.environ.get("PARTSEL_KILL_SEED", "13"))
+DATA = Path(__file__).parent / "data"
+SWEEP = DATA / "sweeps" / "cap_10u_noisy.csv"
+SWEEP_PART = "KSC0603-106X5R010K-0004A3"    # a 10 uF part of the bundled demo catalog
+INTERRUPTED = re.compile(r"^Error: interrupted; (nothing was changed|kept: .+; nothing else "
+                         r"was changed)$")
+# minutes in text the store writes itself (the reason a model was replaced quotes its sweep's
+# import time): a rerun in another minute must not count as other content
+_MINUTE = r"\d{4}-\d\d-\d\d[ T]\d\d:\d\d(:\d\d(\.\d+)?)?"
+RESULTS: dict[str, Counter] = {}
+
+
+def content(store: Path) -> str | None:
+    """Hash of every table's rows, sorted, without the store's own dates and part ids; None
+    when there is no store file. (Each row as DuckDB writes it as text, minutes in it masked,
+    hashed with md5; the sorted row hashes hashed again.)"""
+    if not store.exists():
+        return None
+    con = duckdb.connect(str(store), read_only=True)
+    try:
+        h = hashlib.sha256()
+        columns: dict[str, list[str]] = {}
+        for table, c, kind in con.execute(
+                "SELECT table_name, column_name, data_type FROM duckdb_columns() WHERE "
+                "schema_name = 'main' ORDER BY table_name, column_index").fetchall():
+            if not kind.startswith("TIMESTAMP") and not (table == "parts" and c == "id"):
+                columns.setdefault(table, []).append(c)
+        for table, cols in columns.items():
+            row = "CAST(ROW(" + ", ".join(f'"{c}"' for c in cols) + ") AS VARCHAR)"
+            n, digest = con.execute(
+                f"SELECT count(*), md5(coalesce(string_agg(h, ',' ORDER BY h), '')) FROM "
+                f"(SELECT md5(regexp_replace({row}, ?, '<time>', 'g')) AS h FROM \"{table}\")",
+                [_MINUTE]).fetchone()
+            h.update(f"{table}:{cols}:{n}:{digest}\n".encode())
+        return h.hexdigest()
+    finally:
+        con.close()
+
+
+ROOT = Path(__file__).resolve().parents[1]
+
+
+def _env(home: Path) -> dict[str, str]:
+    """The child's environment: this checkout's partsel first (not an installed copy), its own
+    XDG_DATA_HOME, no PARTSEL_STORE."""
+    env = {k: v for k, v in os.environ.items() if k != "PARTSEL_STORE"}
+    env["XDG_DATA_HOME"] = str(home)
+    env["PYTHONPATH"] = os.pathsep.join([str(ROOT), *filter(None, [env.get("PYTHONPATH")])])
+    return env
+
+
+def _clear(store: Path) -> None:
+    for f in store.parent.glob(f"*{store.name}*"):
+        f.unlink()
+
+
+@dataclass
+class Scenario:
+    name: str
+    args: list[str]
+    base: Path | None                 # the store before the command (None: no store yet)
+    steps: list[list[str]] = field(default_factory=list)  # commands whose end states are
+    # allowed too (the first steps of a command of several transactions)
+
+
+@pytest.fixture(scope="module")
+def world(tmp_path_factory: pytest.TempPathFactory) -> dict:
+    root = tmp_path_factory.mktemp("crash")
+    cli = Cli()
+    base = root / "base.duckdb"
+    assert cli("--store", base, "demo").exit_code == 0
+    other = root / "other.duckdb"
+    assert cli("--store", other, "demo", "--parts", "3000", "--seed", "7").exit_code == 0
+    catalog = root / "catalog.parquet"
+    assert cli("--store", other, "export", "parquet", "--out", catalog).exit_code == 0
+    con = duckdb.connect(str(base), read_only=True)
+    parts = [r[0] for r in con.execute(
+        "SELECT part_number FROM parts WHERE kind = 'capacitor' ORDER BY part_number LIMIT 400"
+    ).fetchall()]
+    con.close()
+    library = root / "models.lib"
+    res = cli("--store", base, "export", "spice", *parts, "--model", "catalog", "--out", library)
+    assert res.exit_code == 0, res.output
+    with_sweep = root / "with_sweep.duckdb"
+    shutil.copy(base, with_sweep)
+    assert cli("--store", with_sweep, "sweep", "import", SWEEP, "--part", SWEEP_PART
+               ).exit_code == 0
+    scenarios = {
+        "import": Scenario("import", ["import", str(catalog)], base),
+        "demo": Scenario("demo", ["demo", "--parts", "3000", "--seed", "11"], base),
+        "demo (new store)": Scenario("demo (new store)", ["demo"], None),
+        "sweep import --fit": Scenario(
+            "sweep import --fit", ["sweep", "import", str(SWEEP), "--part", SWEEP_PART, "--fit"],
+            base, steps=[["sweep", "import", str(SWEEP), "--part", SWEEP_PART]]),
+        "model import": Scenario("model import", ["model", "import", str(library)], base),
+        "fit": Scenario("fit", ["fit", SWEEP_PART, "--tan-delta"], with_sweep),
+    }
+    home = root / "home"
+    home.mkdir()
+    # Python's own start-up runs before partsel can take Ctrl-C over (a Ctrl-C there is
+    # Python's, as for any program): no SIGINT before a bare interpreter has imported the
+    # handler and exited
+    t = []
+    for _ in range(3):
+        t0 = time.perf_counter()
+        subprocess.run([sys.executable, "-c", "import partsel.interrupt"], check=True,
+                       env=_env(home))
+        t.append(time.perf_counter() - t0)
+    yield {"root": root, "scenarios": scenarios, "home": home,
+           "sigint_after": statistics.median(t)}
+    _summary()
+
+
+def _run(store: Path, args: list[str], home: Path, sig: int | None = None,
+         delay: float = 0.0) -> tuple[int, str, bool, float]:
+    """Run partsel on ``store``; with ``sig``, send it after ``delay`` seconds unless the
+    command has ended. (exit code, stderr, whether the signal was sent, seconds taken)"""
+    t0 = time.perf_counter()
+    p = subprocess.Popen([sys.executable, "-m", "partsel", "--store", str(store), *args],
+                         stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, env=_env(home),
+                         cwd=home)
+    sent = False
+    if sig is not None:
+        try:
+            p.wait(timeout=delay)
+        except subprocess.TimeoutExpired:
+            p.send_signal(sig)
+            sent = True
+    _, err = p.communicate(timeout=120)
+    return p.returncode, err.decode("utf-8", "replace"), sent, time.perf_counter() - t0
+
+
+def _states(sc: Scenario, work: Path, home: Path) -> tuple[dict[str | None, str], float]:
+    """Content hash -> name of every allowed state, and the longer of two uninterrupted runs
+    of the whole command (in seconds)."""
+    store = work / "ref.duckdb"
+
+    def fresh() -> Path:
+        _clear(store)
+        if sc.base is not None:
+            shutil.copy(sc.base, store)
+        return store
+
+    states: dict[str | None, str] = {content(fresh()): "before"}
+    for i, args in enumerate(sc.steps, 1):
+        rc, err, _, _ = _run(fresh(), args, home)
+        assert rc == 0, err
+        states.setdefault(content(store), f"after step {i}")
+    afters, seconds = [], []
+    for _ in range(2):
+        rc, err, _, took = _run(fresh(), sc.args, home)
+        assert rc == 0, err
+        afters.append(content(store))
+        seconds.append(took)
+    assert afters[0] == afters[1], "two uninterrupted runs left different content"
+    assert states.get(afters[0]) is None, "the command changed nothing"
+    states[afters[0]] = "after"
+    _clear(store)
+    return states, max(seconds)
+
+
+@pytest.mark.parametrize("name", ["import", "demo", "demo (new store)", "sweep import --fit",
+                                  "model import", "fit"])
+def test_killed_command_leaves_old_or_new_content(world, name: str) -> None:
+    sc: Scenario = world["scenarios"][name]
+    home = world["home"]
+    work = world["root"] / re.sub(r"\W+", "_", name)
+    work.mkdir()
+    states, seconds = _states(sc, work, home)
+    rng = random.Random(f"{SEED}:{name}")
+    tally = RESULTS.setdefault(name, Counter())
+    cli = Cli()
+    store = work / "s.duckdb"
+    for k in range(KILLS):
+        sig = signal.SIGINT if k % 2 == 0 else signal.SIGKILL
+        lo = world["sigint_after"] if sig == signal.SIGINT else 0.0
+        delay = rng.uniform(lo, max(lo, seconds) * 1.1)
+        _clear(store)
+        if sc.base is not None:
+            shutil.copy(sc.base, store)
+        rc, err, sent, _ = _run(store, sc.args, home, sig, delay)
+        where = f"{name}: {sig.name} after {delay:.3f} s (exit {rc})"
+        assert "Traceback" not in err, f"{where}:\n{err[-1500:]}"
+        lines = err.strip().splitlines()
+        if not sent or rc == 0:
+            assert rc == 0, f"{where}: {err[-500:]}"
+            outcome = "finished"
+        elif sig == signal.SIGKILL:
+            assert rc == -signal.SIGKILL, f"{where}: {err[-500:]}"
+            outcome = "killed"
+        else:
+            assert rc == 130, f"{where}: {err[-800:]}"
+            assert lines and INTERRUPTED.match(lines[-1]), f"{where}: {err[-800:]}"
+            assert sum(ln.startswith("Error:") for ln in lines) == 1, f"{where}: {err}"
+            outcome = "interrupted"
+        before_open = content(store)
+        if sc.base is None and before_open is None:
+            state = "before"
+        else:
+            res = cli("check", store)
+            assert res.exit_code == 0, f"{where}: partsel check failed:\n{res.output}"
+            if store.with_name(store.name + ".wal").exists():
+                tally["left a .wal"] += 1
+                with open_store(store, write=True) as s:      # replays what the WAL holds
+                    s.count()
+                assert content(store) == before_open, f"{where}: replaying the WAL changed it"
+            assert before_open in states, f"{where}: the store holds a mix of old and new"
+            state = states[before_open]
+        if outcome == "interrupted":
+            said_kept = "kept:" in lines[-1]
+            assert said_kept == (state != "before"), f"{where}: {state} but said {lines[-1]}"
+        tally[f"{sig.name} {outcome}: {state}"] += 1
+        tally["kills"] += 1
+    assert tally["kills"] == KILLS
+    if KILLS >= 4:   # with delays spread over the run, some kill must land before the end
+        assert any(k.endswith(": before") or "step" in k for k in tally), dict(tally)
+
+
+def _summary() -> None:
+    report = {name: dict(sorted(c.items())) for name, c in RESULTS.items()}
+    text = json.dumps({"kills_per_command": KILLS, "seed": SEED, "results": report}, indent=1)
+    print("\ncrash consistency:", text)
+    out = os.environ.get("PARTSEL_CRASH_REPORT")
+    if out:
+        Path(out).write_text(text + "\n", encoding="utf-8")
