@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 import time
 from dataclasses import replace
 
@@ -120,11 +121,19 @@ def _hold_noise(rail: Rail, cands, w, limits: Limits, notes: list[str], consider
     lower the design target by the ratio (spec / worst case) and plan again."""
     first = res
     current = rail
+    before = math.inf
     for k in range(NOISE_ROUNDS):
         n = res.noise
         if n is None or n["met"] or not res.lines:
             break
         worst = max(n["worst_droop_v"], n["worst_overshoot_v"])
+        if worst > 0.9 * before:
+            # a lower target no longer lowers the noise: the board or the package sets it
+            res.explanation.append(
+                "Lowering the target further no longer lowers the worst-case noise (the "
+                "board's floor or the package sets it), so the planner stopped.")
+            break
+        before = worst
         keep = (1.0 - current.margin) * 0.97 * rail.noise / worst
         current = replace(current, margin=1.0 - keep)
         res = _plan_once(current, cands, w, limits, notes, considered, parts, choice.prefer)
