@@ -246,8 +246,22 @@ class Response:
     model_error: float                # pole-residue against the nodal solve, relative
 
 
+_CHUNK = 1 << 21     # times x poles evaluated at once (bounds the memory to some 100 MB)
+
+
 def _g_and_slope(pr: PoleResidue, t: NDArray, rise: float) -> tuple[NDArray, NDArray]:
-    """g(t) and g'(t) of a unit ramp-step (module notes), for t >= 0 (t = 0 taken as 0+)."""
+    """g(t) and g'(t) of a unit ramp-step (module notes), for t >= 0 (t = 0 taken as 0+),
+    in chunks of times so that memory stays bounded on long grids."""
+    t = np.asarray(t, dtype=float)
+    step = max(1, _CHUNK // max(len(pr.poles), 1))
+    if t.ndim == 1 and t.size > step:
+        parts = [_g_and_slope_chunk(pr, t[k:k + step], rise) for k in range(0, t.size, step)]
+        return (np.concatenate([g for g, _ in parts]),
+                np.concatenate([s for _, s in parts]))
+    return _g_and_slope_chunk(pr, t, rise)
+
+
+def _g_and_slope_chunk(pr: PoleResidue, t: NDArray, rise: float) -> tuple[NDArray, NDArray]:
     p, r = pr.poles, pr.residues
 
     def r1(x: NDArray) -> NDArray:
