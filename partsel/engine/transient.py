@@ -249,36 +249,55 @@ class Response:
 _CHUNK = 1 << 21     # times x poles evaluated at once (bounds the memory to some 100 MB)
 
 
-def _g_and_slope(pr: PoleResidue, t: NDArray, rise: float) -> tuple[NDArray, NDArray]:
+def _half(pr: PoleResidue) -> tuple[NDArray, NDArray]:
+    """The poles with Im p >= 0 and their residues, those with Im p > 0 doubled: the response
+    of a real network is the real part of the sum, and its complex poles come in conjugate
+    pairs with conjugate residues (half the exponentials). Falls back to all poles when they
+    do not pair."""
+    p, r = pr.poles, pr.residues
+    up, down = p.imag > 0, p.imag < 0
+    if up.sum() != down.sum():
+        return p, r
+    keep = ~down
+    return p[keep], np.where(up[keep], 2.0, 1.0) * r[keep]
+
+
+def _g_and_slope(pr: PoleResidue, t: NDArray, rise: float,
+                 slope_only: bool = False) -> tuple[NDArray, NDArray]:
     """g(t) and g'(t) of a unit ramp-step (module notes), for t >= 0 (t = 0 taken as 0+),
-    in chunks of times so that memory stays bounded on long grids."""
+    in chunks of times so that memory stays bounded on long grids (``slope_only``: g' alone,
+    g returned as zeros)."""
     t = np.asarray(t, dtype=float)
-    step = max(1, _CHUNK // max(len(pr.poles), 1))
+    p, r = _half(pr)
+    step = max(1, _CHUNK // max(len(p), 1))
     if t.ndim == 1 and t.size > step:
-        parts = [_g_and_slope_chunk(pr, t[k:k + step], rise) for k in range(0, t.size, step)]
+        parts = [_g_and_slope_chunk(pr, p, r, t[k:k + step], rise, slope_only)
+                 for k in range(0, t.size, step)]
         return (np.concatenate([g for g, _ in parts]),
                 np.concatenate([s for _, s in parts]))
-    return _g_and_slope_chunk(pr, t, rise)
+    return _g_and_slope_chunk(pr, p, r, t, rise, slope_only)
 
 
-def _g_and_slope_chunk(pr: PoleResidue, t: NDArray, rise: float) -> tuple[NDArray, NDArray]:
-    p, r = pr.poles, pr.residues
+def _g_and_slope_chunk(pr: PoleResidue, p: NDArray, r: NDArray, t: NDArray, rise: float,
+                       slope_only: bool) -> tuple[NDArray, NDArray]:
+    rp = r / p
 
-    def r1(x: NDArray) -> NDArray:
-        pos = x > 0
-        xe = np.where(pos, x, 0.0)[..., None]
-        with np.errstate(over="ignore", invalid="ignore"):
-            val = pr.d * xe[..., 0] + pr.e + np.sum(
-                (r / p) * (np.expm1(p * xe) / p - xe), axis=-1).real
-        return np.where(pos | (x == 0), val, 0.0)
-
-    def h1(x: NDArray) -> NDArray:
+    def both(x: NDArray) -> tuple[NDArray, NDArray]:
+        """R_1(x) (the unit-ramp response) and its derivative h_1(x), for x >= 0."""
         xe = np.maximum(x, 0.0)[..., None]
-        val = pr.d + np.sum((r / p) * np.expm1(p * xe), axis=-1).real
-        return np.where(x >= 0, val, 0.0)
+        with np.errstate(over="ignore", invalid="ignore"):
+            em = np.expm1(p * xe)
+            h = pr.d + np.sum(rp * em, axis=-1).real
+            if slope_only:
+                return np.zeros_like(h), h
+            r1 = pr.d * xe[..., 0] + pr.e + np.sum(rp * (em / p - xe), axis=-1).real
+        return r1, h
 
-    g = (r1(t) - np.where(t > rise, r1(t - rise), 0.0)) / rise
-    slope = (h1(t) - np.where(t > rise, h1(t - rise), 0.0)) / rise
+    r_now, h_now = both(t)
+    late = t > rise
+    r_old, h_old = both(np.where(late, t - rise, 0.0))
+    g = (np.where(t >= 0, r_now, 0.0) - np.where(late, r_old, 0.0)) / rise
+    slope = (np.where(t >= 0, h_now, 0.0) - np.where(late, h_old, 0.0)) / rise
     return g, slope
 
 
@@ -305,9 +324,9 @@ def _extrema(pr: PoleResidue, t: NDArray, g: NDArray, s: NDArray, rise: float
     sign = np.sign(s)
     k = np.flatnonzero(sign[:-1] * sign[1:] < 0)
     a, b = t[k], t[k + 1]
-    for _ in range(60):
+    for _ in range(32):   # to 2^-32 of a grid step: g is flat there to far below rounding
         m = 0.5 * (a + b)
-        _, sm = _g_and_slope(pr, m, rise)
+        _, sm = _g_and_slope(pr, m, rise, slope_only=True)
         left = np.sign(sm) == sign[k]
         a, b = np.where(left, m, a), np.where(left, b, m)
     tm = 0.5 * (a + b)
