@@ -419,3 +419,24 @@ def test_serve_caution_off_loopback_and_open(cli, demo, monkeypatch):
     assert [is_loopback(h) for h in ("127.0.0.1", "127.5.0.1", "::1", "localhost",
                                      "0.0.0.0", "192.168.1.2", "::", "example")] == \
         [True, True, True, True, False, False, False, False]
+
+
+def test_warm_store_hands_out_copies(demo):
+    """What the page keeps warm (parts by number and id, search columns) is handed out as
+    copies: a job changing its rows or arrays cannot change the next answer."""
+    app = make_app(demo)
+    store = app.state.store
+    client = TestClient(app)
+    first = client.get("/api/search", params=QUERY).json()
+    pn, maker = first[0]["part_number"], first[0]["maker"]
+    row = store.find_part(pn, maker)
+    row["esr"] = -1.0
+    assert store.find_part(pn, maker)["esr"] != -1.0
+    by_id = store.parts_by_id([row["id"]])[0]
+    by_id["value"] = 0.0
+    assert store.parts_by_id([row["id"]])[0]["value"] == row["value"]
+    cols = store.arrays("SELECT id, esr FROM parts WHERE kind = ?", ["capacitor"])
+    cols["esr"][:] = 1e9
+    assert store.arrays("SELECT id, esr FROM parts WHERE kind = ?", ["capacitor"])["esr"].max() \
+        < 1e9
+    assert client.get("/api/search", params=QUERY).json() == first
