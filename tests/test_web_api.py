@@ -440,3 +440,31 @@ def test_warm_store_hands_out_copies(demo):
     assert store.arrays("SELECT id, esr FROM parts WHERE kind = ?", ["capacitor"])["esr"].max() \
         < 1e9
     assert client.get("/api/search", params=QUERY).json() == first
+
+
+def test_part_view_overlays_the_measured_sweep(demo, cli, tmp_path):
+    """A part with a stored sweep (the invented demo sweep): its |Z| plot holds the model and
+    the measured curve, whichever model the view is asked for."""
+    import re
+    import shutil
+
+    store = tmp_path / "with_sweep.duckdb"
+    shutil.copy(demo, store)
+    pn = "KSC0603-105X7R025M-0001SY"
+    res = cli("--store", store, "sweep", "import", DEMO / "measured" / f"{pn}.s2p", "--part", pn,
+              "--fixture", "shunt-thru")
+    assert res.exit_code == 0, res.output
+    client = TestClient(make_app(str(store)))
+    assert client.get(f"/api/part/{pn}").json()["sweeps"] == 1
+    figs = {}
+    for model, first, second in (("best", "measured", "catalog model"),
+                                 ("catalog", "catalog rlc", "measured")):
+        page = client.get(f"/part/{pn}", params={"model": model}).text
+        fig = json.loads(re.search(r'var f=(\{.*?\});Plotly', page).group(1))
+        assert [t["name"] for t in fig["data"]] == [f"{pn} ({first}" +
+                                                    (" curve)" if first == "measured" else ")"),
+                                                    f"{pn} ({second})"]
+        assert fig["data"][0]["x"] == fig["data"][1]["x"]   # one grid (the chosen model's band)
+        figs[model] = [t["y"] for t in fig["data"]]
+    for a, b in figs.values():   # the sweep is not the catalog model
+        assert sum(1 for x, y in zip(a, b, strict=True) if x and y and abs(x / y - 1) > 0.01) > 10
