@@ -468,3 +468,19 @@ def test_part_view_overlays_the_measured_sweep(demo, cli, tmp_path):
         figs[model] = [t["y"] for t in fig["data"]]
     for a, b in figs.values():   # the sweep is not the catalog model
         assert sum(1 for x, y in zip(a, b, strict=True) if x and y and abs(x / y - 1) > 0.01) > 10
+
+
+@pytest.mark.parametrize(("query", "flags"), [
+    ({"in_stock": "1"}, ["--in-stock"]),
+    ({"include_obsolete": "1", "lifecycle": "active"}, ["--include-obsolete", "--lifecycle",
+                                                        "active"]),
+    ({"technology": "polymer,tantalum", "min_voltage": "10V"}, ["--technology",
+                                                                "polymer,tantalum",
+                                                                "--min-voltage", "10V"]),
+])
+def test_search_switches_equal_the_cli(client, demo, cli, query, flags):
+    q = {"kind": "capacitor", "below": "0.5ohm", "band": "100kHz..10MHz", "limit": "0", **query}
+    got = client.get("/api/search", params=q).json()
+    want = cli_json(cli, demo, "find", "capacitor", "--below", "0.5ohm", "--band",
+                    "100kHz..10MHz", "--limit", "0", *flags)
+    assert got == want and got

@@ -140,7 +140,9 @@ def _search_form(q: dict[str, str], err: BadInput | None) -> str:
               field("maker", "maker", q, err),
               field("model", "model", q, err, kind="select",
                     options=("best", "catalog", "vendor", "measured")),
-              field("limit", "rows", q, err, "20")]
+              field("limit", "rows", q, err, "20"),
+              field("in_stock", "in stock", q, err, kind="checkbox"),
+              field("include_obsolete", "obsolete too", q, err, kind="checkbox")]
     return form("/search", fields, err)
 
 
