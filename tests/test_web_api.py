@@ -419,3 +419,68 @@ def test_serve_caution_off_loopback_and_open(cli, demo, monkeypatch):
     assert [is_loopback(h) for h in ("127.0.0.1", "127.5.0.1", "::1", "localhost",
                                      "0.0.0.0", "192.168.1.2", "::", "example")] == \
         [True, True, True, True, False, False, False, False]
+
+
+def test_warm_store_hands_out_copies(demo):
+    """What the page keeps warm (parts by number and id, search columns) is handed out as
+    copies: a job changing its rows or arrays cannot change the next answer."""
+    app = make_app(demo)
+    store = app.state.store
+    client = TestClient(app)
+    first = client.get("/api/search", params=QUERY).json()
+    pn, maker = first[0]["part_number"], first[0]["maker"]
+    row = store.find_part(pn, maker)
+    row["esr"] = -1.0
+    assert store.find_part(pn, maker)["esr"] != -1.0
+    by_id = store.parts_by_id([row["id"]])[0]
+    by_id["value"] = 0.0
+    assert store.parts_by_id([row["id"]])[0]["value"] == row["value"]
+    cols = store.arrays("SELECT id, esr FROM parts WHERE kind = ?", ["capacitor"])
+    cols["esr"][:] = 1e9
+    assert store.arrays("SELECT id, esr FROM parts WHERE kind = ?", ["capacitor"])["esr"].max() \
+        < 1e9
+    assert client.get("/api/search", params=QUERY).json() == first
+
+
+def test_part_view_overlays_the_measured_sweep(demo, cli, tmp_path):
+    """A part with a stored sweep (the invented demo sweep): its |Z| plot holds the model and
+    the measured curve, whichever model the view is asked for."""
+    import re
+    import shutil
+
+    store = tmp_path / "with_sweep.duckdb"
+    shutil.copy(demo, store)
+    pn = "KSC0603-105X7R025M-0001SY"
+    res = cli("--store", store, "sweep", "import", DEMO / "measured" / f"{pn}.s2p", "--part", pn,
+              "--fixture", "shunt-thru")
+    assert res.exit_code == 0, res.output
+    client = TestClient(make_app(str(store)))
+    assert client.get(f"/api/part/{pn}").json()["sweeps"] == 1
+    figs = {}
+    for model, first, second in (("best", "measured", "catalog model"),
+                                 ("catalog", "catalog rlc", "measured")):
+        page = client.get(f"/part/{pn}", params={"model": model}).text
+        fig = json.loads(re.search(r'var f=(\{.*?\});Plotly', page).group(1))
+        assert [t["name"] for t in fig["data"]] == [f"{pn} ({first}" +
+                                                    (" curve)" if first == "measured" else ")"),
+                                                    f"{pn} ({second})"]
+        assert fig["data"][0]["x"] == fig["data"][1]["x"]   # one grid (the chosen model's band)
+        figs[model] = [t["y"] for t in fig["data"]]
+    for a, b in figs.values():   # the sweep is not the catalog model
+        assert sum(1 for x, y in zip(a, b, strict=True) if x and y and abs(x / y - 1) > 0.01) > 10
+
+
+@pytest.mark.parametrize(("query", "flags"), [
+    ({"in_stock": "1"}, ["--in-stock"]),
+    ({"include_obsolete": "1", "lifecycle": "active"}, ["--include-obsolete", "--lifecycle",
+                                                        "active"]),
+    ({"technology": "polymer,tantalum", "min_voltage": "10V"}, ["--technology",
+                                                                "polymer,tantalum",
+                                                                "--min-voltage", "10V"]),
+])
+def test_search_switches_equal_the_cli(client, demo, cli, query, flags):
+    q = {"kind": "capacitor", "below": "0.5ohm", "band": "100kHz..10MHz", "limit": "0", **query}
+    got = client.get("/api/search", params=q).json()
+    want = cli_json(cli, demo, "find", "capacitor", "--below", "0.5ohm", "--band",
+                    "100kHz..10MHz", "--limit", "0", *flags)
+    assert got == want and got

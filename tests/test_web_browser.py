@@ -77,10 +77,17 @@ def server(demo):
 
 
 @pytest.fixture(scope="module")
-def browser(tmp_path_factory):
+def downloads(tmp_path_factory) -> Path:
+    return tmp_path_factory.mktemp("downloads")
+
+
+@pytest.fixture(scope="module")
+def browser(tmp_path_factory, downloads):
     profile = tmp_path_factory.mktemp("chromium_profile")
     options = webdriver.ChromeOptions()
     options.binary_location = CHROMIUM
+    options.add_experimental_option("prefs", {"download.default_directory": str(downloads),
+                                              "download.prompt_for_download": False})
     for flag in ("--headless=new", "--no-sandbox", "--disable-gpu", "--disable-quic",
                  "--no-first-run", "--disable-background-networking",
                  "--disable-component-update", "--disable-sync",
@@ -227,6 +234,31 @@ def test_bank_edit_moves_the_total(server, browser, shots):
         lambda d: "must be a whole number" in row.find_element(By.CSS_SELECTOR,
                                                                ".line-error").text)
     snap(browser, shots, "bank_error")
+
+
+def _downloaded(folder: Path, name: str) -> Path:
+    path = folder / name
+    deadline = time.monotonic() + 20
+    while not path.exists() or any(folder.glob("*.crdownload")):
+        assert time.monotonic() < deadline, f"{name} was not downloaded"
+        time.sleep(0.1)
+    return path
+
+
+def test_bank_downloads(server, browser, downloads):
+    """The bank file reads back as the bank shown, and the JSON is the API's answer."""
+    from partsel.io.bank import read_bank
+
+    browser.get(_bank_url(server))
+    traces(browser)
+    browser.find_element(By.ID, "download-bank").click()
+    got = read_bank(_downloaded(downloads, "bank.csv"))
+    assert [(e.part_number, e.count) for e in got] == \
+        [(e.part_number, e.count) for e in read_bank(DEMO / "decouple_check.csv")]
+    browser.find_element(By.ID, "download-json").click()
+    data = json.loads(_downloaded(downloads, "bank.json").read_text(encoding="utf-8"))
+    assert data == browser.execute_script("return window.BANK_RESULT;")
+    assert [x["count"] for x in data["bank"]] == [e.count for e in got]
 
 
 def test_no_request_leaves_the_machine(server, browser):

@@ -86,7 +86,7 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "check": ("cmd_check", "Verify a store: file header, schema version, tables and columns, "
                            "row counts, keys, and that every model and sweep belongs to a "
                            "stored part."),
-    "serve": ("cmd_serve", "Serve the JSON API on this machine, the store opened read-only."),
+    "serve": ("cmd_serve", "Serve the local page and its JSON API, the store opened read-only."),
 }
 ORDER = tuple(COMMANDS)
 

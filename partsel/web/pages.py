@@ -140,7 +140,9 @@ def _search_form(q: dict[str, str], err: BadInput | None) -> str:
               field("maker", "maker", q, err),
               field("model", "model", q, err, kind="select",
                     options=("best", "catalog", "vendor", "measured")),
-              field("limit", "rows", q, err, "20")]
+              field("limit", "rows", q, err, "20"),
+              field("in_stock", "in stock", q, err, kind="checkbox"),
+              field("include_obsolete", "obsolete too", q, err, kind="checkbox")]
     return form("/search", fields, err)
 
 
@@ -222,10 +224,12 @@ def part(answers: Any, request: Any) -> str:
         cv = curves(answers.store, [p["part_number"]], None, PER_DECADE, maker=p["maker"],
                     model=q.get("model") or "best")
         labels, z, dash = [f"{p['part_number']} ({rep.used['label']})"], cv.z, [False]
-        if rep.sweeps and rep.used["source"] != "measured":
+        if rep.sweeps:   # the measured sweep beside the model (or the model beside it)
+            other = "catalog" if rep.used["source"] == "measured" else "measured"
             m = curves(answers.store, [p["part_number"]], (cv.f[0], cv.f[-1]), PER_DECADE,
-                       maker=p["maker"], model="measured")
-            labels, z, dash = labels + [f"{p['part_number']} (measured)"], \
+                       maker=p["maker"], model=other)
+            word = "catalog model" if other == "catalog" else "measured"
+            labels, z, dash = labels + [f"{p['part_number']} ({word})"], \
                 np.vstack([z, m.z]), [False, True]
         body += [plot("zplot", plots.z_figure(cv.f, labels, z, dash=dash)),
                  plot("phaseplot", plots.phase_figure(cv.f, labels, z)),

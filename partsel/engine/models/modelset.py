@@ -84,6 +84,10 @@ class ModelSet:
         one = self._identity()
         if one is not None and len(idx) == self.n and np.array_equal(idx, one.index):
             return self
+        if one is not None:   # one family in order: no scatter of every part's position
+            return ModelSet(len(idx), (Group(one.family, np.arange(len(idx)),
+                                             one.family.take(one.batch, idx)),) if len(idx)
+                            else ())
         gid = np.empty(self.n, dtype=np.intp)
         pos = np.empty(self.n, dtype=np.intp)
         for k, g in enumerate(self.groups):
