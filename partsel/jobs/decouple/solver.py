@@ -18,6 +18,7 @@ from partsel.jobs.decouple.layout import Layout
 Network = pdn.Branches | Bank
 Board = pdn.Branches | Layout     # branches in parallel, or a ladder to one ring
 
+TRY_LINES = 8        # lines tried for removal per step of the backward elimination
 _CHECK_SLACK = 1e-9   # relative slack of the exact check (rounding of |Z| near the target)
 _GRID_SLACK = 1e-6    # the search grid asks this much more, so refinement rarely fails
 
@@ -265,7 +266,10 @@ class _Solver:
             if record is not None:
                 record.append(counts.copy())
             trials = []
-            for k in np.flatnonzero(counts):
+            # the lines carrying the least weight are the likeliest to go: try those first
+            lines = np.flatnonzero(counts)
+            lines = lines[np.argsort((counts * self.w)[lines], kind="stable")[:TRY_LINES]]
+            for k in lines:
                 allowed = counts > 0
                 allowed[k] = False
                 new, _, ok = greedy(self.search, self.w, self.price, self.cap, free,
