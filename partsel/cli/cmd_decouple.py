@@ -259,9 +259,9 @@ def decouple_cmd(
     max_parts: Annotated[int, typer.Option(
         "--max-parts", min=1, metavar="N", help="At most this many parts in the bank.")] = 500,
     max_lines: Annotated[int, typer.Option(
-        "--max-lines", min=1, metavar="N",
-        help="At most this many different part numbers (BOM lines); the result also lists "
-             "the banks found with other numbers of lines.")] = 4,
+        "--max-lines", min=0, metavar="N",
+        help="At most this many different part numbers (BOM lines), 0 for no limit; the "
+             "result also lists the banks found with other numbers of lines.")] = 4,
     max_cost: Annotated[str | None, typer.Option(
         "--max-cost", metavar="X", help="At most this total price (parts without a price "
         "are then left out).")] = None,
@@ -375,7 +375,7 @@ def decouple_cmd(
                 cases=opt.split_list(case), technologies=opt.split_list(technology),
                 dielectrics=opt.split_list(dielectric), makers=opt.split_list(maker),
                 lifecycles=life, min_voltage=opt.quantity(min_voltage, "V", "--min-voltage"),
-                in_stock=in_stock, max_parts=max_parts, max_lines=max_lines,
+                in_stock=in_stock, max_parts=max_parts, max_lines=max_lines or None,
                 max_cost=units.parse_number(max_cost, "--max-cost") if max_cost else None,
                 prefer=prefer.strip().lower(), model=model, model_only=model_only)
             res = dec.plan(store, spec, choice)
