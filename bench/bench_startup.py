@@ -8,7 +8,7 @@ floor and of the command alternate; the figure is the median of ``--runs`` (defa
 the ratio is to the floor's median measured in the same run. Option names are looked up in the
 commands' own declarations, so the script follows renamed options.
 
-    python bench/bench_startup.py [--runs 10] [--big]
+    python bench/bench_startup.py [--runs 10] [--big] [--only find --only decouple ...]
 """
 
 from __future__ import annotations
@@ -90,7 +90,14 @@ def cases(small: Path, work: Path, big: Path | None) -> list[tuple[str, list[str
                         option("sweep import", "part"), MEASURED,
                         option("sweep import", "fixture"), "shunt-thru"],
                        cwd=ROOT, check=True, stdout=subprocess.DEVNULL)
+    with_models = OUT / "startup_models.duckdb"
+    if not with_models.exists():
+        shutil.copyfile(small, with_models)
+        subprocess.run([sys.executable, "-m", "partsel", "--store", str(with_models), "model",
+                        "import", str(DEMO / "vendor" / "quillmere_mlcc.lib")],
+                       cwd=ROOT, check=True, stdout=subprocess.DEVNULL)
     s, w = ["--store", str(small)], ["--store", str(work)]
+    m = ["--store", str(with_models)]
     band = option("find", "band")
     out = [
         ("--version", ["--version"], None),
@@ -98,7 +105,11 @@ def cases(small: Path, work: Path, big: Path | None) -> list[tuple[str, list[str
         ("find --help", ["find", "--help"], None),
         ("find capacitor (6,000 parts)", [*s, "find", "capacitor", option("find", "below"),
                                           "0.5ohm", band, "1MHz..30MHz"], None),
+        ("find capacitor (with makers' models)", [*m, "find", "capacitor",
+                                                   option("find", "below"), "0.5ohm", band,
+                                                   "1MHz..30MHz"], None),
         ("show", [*s, "show", CAP], None),
+        ("show (with makers' models)", [*m, "show", CAP], None),
         ("curve", [*s, "curve", CAP, option("curve", "band"), "100kHz..1GHz"], None),
         ("alternates", [*s, "alternates", CAP], None),
         ("bom (demo parts list)", [*s, "bom", str(DEMO / "parts_list.csv")], None),
@@ -133,6 +144,8 @@ def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--runs", type=int, default=10)
     ap.add_argument("--big", action="store_true", help="also the 1,000,000-part band search")
+    ap.add_argument("--only", action="append", default=[], metavar="WORD",
+                    help="run only the cases whose label starts with WORD (repeatable)")
     args = ap.parse_args()
     OUT.mkdir(parents=True, exist_ok=True)
     env = {**os.environ, "PYTHONPATH": str(ROOT)}
@@ -145,6 +158,8 @@ def main() -> None:
     rows = []
     floors: list[float] = []
     for label, argv, before in cases(small, work, big):
+        if args.only and not any(label.startswith(w) for w in args.only):
+            continue
         cmd = [sys.executable, "-m", "partsel", *argv]
         timed(cmd, env, before)  # warm the file cache
         times, local = [], []

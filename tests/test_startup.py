@@ -46,3 +46,25 @@ def test_help_and_version_import_no_command_module_nor_pandas():
 def test_a_command_imports_its_own_module_only(tmp_path):
     assert _loaded_after(["find", "--help"]) == "['partsel.cli.cmd_find']"
     assert _loaded_after(["check", str(tmp_path / "none.duckdb")]) == "['partsel.cli.cmd_check']"
+
+
+def test_commands_on_a_store_with_makers_models_do_not_import_pandas(tmp_path):
+    """Reading stored models goes through Arrow; DuckDB's register and pyarrow's conversions
+    to and from numpy would import pandas (half a second)."""
+    from pathlib import Path
+
+    from typer.testing import CliRunner
+
+    store = tmp_path / "s.duckdb"
+    runner = CliRunner()
+    assert runner.invoke(app_module.app, ["--store", str(store), "demo"]).exit_code == 0
+    lib = Path(__file__).resolve().parents[1] / "data_demo" / "vendor" / "quillmere_mlcc.lib"
+    res = runner.invoke(app_module.app, ["--store", str(store), "model", "import", str(lib)])
+    assert res.exit_code == 0 and "0 stored" not in res.output, res.output
+    s = ["--store", str(store)]
+    for argv, module in (
+            ([*s, "find", "capacitor", "--below", "0.5ohm", "--band", "1MHz..30MHz"], "find"),
+            ([*s, "show", "KSC0402-224X7R016K-0003HG"], "show"),
+            ([*s, "decouple", "--rail", "1.0V", "--target", "3mohm", "--band",
+              "10kHz..100MHz"], "decouple")):
+        assert _loaded_after(argv) == f"['partsel.cli.cmd_{module}']", argv

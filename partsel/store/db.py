@@ -166,9 +166,9 @@ def _connect(path: Path, read_only: bool) -> duckdb.DuckDBPyConnection:
         if "lock" in text.lower():
             raise StoreError(f"the store {path} is in use by another process ({text}); "
                              "close it there or open a copy") from None
-        from partsel.store.integrity import header_problem
+        from partsel.store.integrity import header_problem, wal_problem
         try:
-            problem = header_problem(path)
+            problem = header_problem(path) or wal_problem(path, text)
         except OSError as err:
             problem = f"cannot read {path}: {err.strerror}; check its permissions"
         raise StoreError(problem or f"{path} cannot be opened as a store ({text}): the file is "

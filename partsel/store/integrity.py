@@ -87,6 +87,20 @@ def header_problem(p: Path) -> str | None:
     return None
 
 
+def wal_problem(p: Path, text: str) -> str | None:
+    """The line for a store whose write-ahead log (``<store>.wal``, the changes committed since
+    the last checkpoint) DuckDB refuses to replay, from DuckDB's message ``text`` (None: not
+    that). A log cut short is no problem: DuckDB drops its incomplete end by itself."""
+    if "wal" not in text.lower():
+        return None
+    wal = p.with_name(p.name + ".wal")
+    why = ("belongs to another database" if "does not match database" in text.lower() else
+           "is damaged")
+    return (f"the store's write-ahead log {wal} {why} ({text}): the store {p} itself is "
+            f"readable as of its last checkpoint; move {wal} aside to open it so (the changes "
+            "in the log are lost), or restore the store and its log from a copy")
+
+
 def _open(p: Path) -> duckdb.DuckDBPyConnection:
     if not p.exists():
         raise StoreError(f"no store at {p}: give the path of a store file")
@@ -107,8 +121,8 @@ def _open(p: Path) -> duckdb.DuckDBPyConnection:
         if "lock" in text.lower():
             raise StoreError(f"the store {p} is in use by another process ({text}): check it "
                              "when that process has finished, or check a copy") from None
-        raise StoreError(f"{p} cannot be opened as a store ({text}): the file is damaged or "
-                         "cut short; restore it from a copy") from None
+        raise StoreError(wal_problem(p, text) or f"{p} cannot be opened as a store ({text}): "
+                         "the file is damaged or cut short; restore it from a copy") from None
 
 
 def check_store(path: str | os.PathLike[str]) -> StoreReport:
@@ -230,4 +244,5 @@ def content_digest(con: duckdb.DuckDBPyConnection) -> str:
     return h.hexdigest()
 
 
-__all__ = ["StoreReport", "check_store", "content_digest", "expected_columns", "header_problem"]
+__all__ = ["StoreReport", "check_store", "content_digest", "expected_columns", "header_problem",
+           "wal_problem"]

@@ -8,6 +8,7 @@ as flat arrays with offsets (no Python object per model); writing is one transac
 from __future__ import annotations
 
 import re
+import sys
 from collections.abc import Sequence
 from dataclasses import dataclass
 from datetime import datetime
@@ -40,16 +41,41 @@ class StoredModels:
     note: list[str | None]
 
 
+_NUMPY = {"int64": np.int64, "int32": np.int32, "uint64": np.uint64, "uint32": np.uint32,
+          "double": np.float64, "timestamp[us]": np.int64}
+
+
+def _np(values: Any) -> NDArray:
+    """A pyarrow array of numbers as a numpy view of its data buffer. pyarrow's own
+    ``to_numpy`` imports pandas (half a second of a command's start-up); arrays with NULLs and
+    other types still go through it."""
+    arr = values.combine_chunks() if hasattr(values, "combine_chunks") else values
+    kind = _NUMPY.get(str(arr.type))
+    if kind is None or arr.null_count:
+        return np.asarray(arr.to_numpy(zero_copy_only=False))
+    size = np.dtype(kind).itemsize
+    return np.frombuffer(arr.buffers()[1], dtype=kind, count=len(arr), offset=arr.offset * size)
+
+
+def _pa(values: NDArray) -> Any:
+    """Integers as a pyarrow int64 array over their buffer (``pa.array`` imports pandas)."""
+    import pyarrow as pa
+
+    data = np.ascontiguousarray(values, dtype=np.int64)
+    return pa.Array.from_buffers(pa.int64(), len(data), [None, pa.py_buffer(data)])
+
+
 def _flat(column: Any) -> tuple[NDArray, NDArray]:
     """(values, offsets) of an Arrow list column; a NULL list counts as empty."""
     import pyarrow as pa
     import pyarrow.compute as pc
 
     arr = column.combine_chunks() if isinstance(column, pa.ChunkedArray) else column
-    arr = pc.fill_null(arr, pa.scalar([], type=arr.type))
-    offsets = np.asarray(arr.offsets, dtype=np.int64)
+    if arr.null_count:
+        arr = pc.fill_null(arr, pa.scalar([], type=arr.type))
+    offsets = np.asarray(_np(arr.offsets), dtype=np.int64)
     # flatten() holds the values of this (possibly sliced) array only, as the offsets below
-    values = np.asarray(arr.flatten().to_numpy(zero_copy_only=False))
+    values = _np(arr.flatten())
     return values, offsets - offsets[0] if len(offsets) else offsets
 
 
@@ -89,10 +115,16 @@ def stored_models(store: Store, *, kind: str | None = None,
         params.append(kind)
     wanted = None if ids is None else np.asarray(ids, dtype=np.int64)
     joined = wanted is not None and len(wanted) <= _JOIN_IDS
-    if joined:
-        # a semi join on a registered column (a bound list would be searched once per model)
+    registered = joined and "pandas" in sys.modules
+    if registered:
+        # a semi join on a registered column (zero copy)
         conds.append("p.id IN (SELECT id FROM partsel_model_ids)")
         _register(store, "partsel_model_ids", pa.table({"id": pa.array(wanted)}))
+    elif joined:
+        # the same semi join on a bound list: DuckDB imports pandas on the first register
+        # (half a second of a command's start-up), the list costs tens of ms at 20,000 ids
+        conds.append("p.id IN (SELECT unnest(?::BIGINT[]))")
+        params.append(wanted.tolist())
     try:
         # two reads: which part each model row belongs to (a join of two small columns), and
         # the rows themselves; joining the packed lists inside the query costs twice as much
@@ -105,7 +137,7 @@ def stored_models(store: Store, *, kind: str | None = None,
             "imported_at, note FROM models WHERE list_contains(?, source)",
             params=[list(sources)]))
     finally:
-        if joined:
+        if registered:
             store.con.unregister("partsel_model_ids")
     row, part_id = (np.asarray(keys[k], dtype=np.int64) for k in ("row", "part_id"))
     if wanted is not None and not joined:
@@ -114,15 +146,15 @@ def stored_models(store: Store, *, kind: str | None = None,
         row, part_id = row[keep], part_id[keep]
     if not len(row) or table.num_rows == 0:
         return []
-    rowids = np.asarray(table.column("row").to_numpy(), dtype=np.int64)
+    rowids = np.asarray(_np(table.column("row")), dtype=np.int64)
     by_row = np.argsort(rowids)
     at = by_row[np.searchsorted(rowids[by_row], row)]
-    meta = table.select(["row", "source", "family", "imported_at"]).take(at)
-    meta = meta.append_column("part_id", pa.array(part_id))
+    meta = table.select(["row", "source", "family", "imported_at"]).take(_pa(at))
+    meta = meta.append_column("part_id", _pa(part_id))
     order = _newest_in_order(meta)
     sel = at[order]
     info = table.select(["source", "family", "source_file", "subckt", "imported_at",
-                         "note"]).take(sel)
+                         "note"]).take(_pa(sel))
     ints, int_off = _flat(table.column("ints"))
     reals, real_off = _flat(table.column("reals"))
     part_id = part_id[order]
@@ -155,14 +187,14 @@ def _gather(values: NDArray, offsets: NDArray[np.int64],
 
 def _datetimes(column: Any) -> list[datetime | None]:
     """A timestamp column as datetimes (None for NULL), converted in numpy, not per value."""
-    values = column.combine_chunks().to_numpy(zero_copy_only=False)
+    values = _np(column)
     return values.astype("datetime64[us]").astype(object).tolist()
 
 
 def _codes(column: Any) -> NDArray[np.int64]:
     """Integer codes of a string column (equal strings, equal codes)."""
     import pyarrow.compute as pc
-    return np.asarray(pc.dictionary_encode(column).combine_chunks().indices, dtype=np.int64)
+    return np.asarray(_np(pc.dictionary_encode(column).combine_chunks().indices), dtype=np.int64)
 
 
 def _newest_in_order(meta: Any) -> NDArray[np.int64]:
@@ -172,16 +204,16 @@ def _newest_in_order(meta: Any) -> NDArray[np.int64]:
     than the rest of the read)."""
     import pyarrow.compute as pc
 
-    newest = np.asarray(pc.sort_indices(meta, sort_keys=[
+    newest = np.asarray(_np(pc.sort_indices(meta, sort_keys=[
         ("source", "ascending"), ("part_id", "ascending"), ("imported_at", "descending"),
-        ("row", "descending")]), dtype=np.int64)
-    ordered = meta.take(newest)
-    pid = np.asarray(ordered.column("part_id").to_numpy(), dtype=np.int64)
+        ("row", "descending")])), dtype=np.int64)
+    ordered = meta.take(_pa(newest))
+    pid = np.asarray(_np(ordered.column("part_id")), dtype=np.int64)
     src = _codes(ordered.column("source"))
     first = np.r_[True, (pid[1:] != pid[:-1]) | (src[1:] != src[:-1])]
     kept = newest[first]
-    order = np.asarray(pc.sort_indices(meta.take(kept), sort_keys=[
-        ("source", "ascending"), ("family", "ascending"), ("part_id", "ascending")]),
+    order = np.asarray(_np(pc.sort_indices(meta.take(_pa(kept)), sort_keys=[
+        ("source", "ascending"), ("family", "ascending"), ("part_id", "ascending")])),
         dtype=np.int64)
     return kept[order]
 

@@ -4,13 +4,15 @@ a user typed bound as a parameter."""
 from __future__ import annotations
 
 from collections.abc import Sequence
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
-import pandas as pd
 
 from partsel.store.db import Store
 from partsel.store.query import ELECTROLYTE_SQL, membership
+
+if TYPE_CHECKING:  # pandas only for a reader of the whole catalog (half a second to import)
+    import pandas as pd
 
 # What the decoupling planner reads of a capacitor (``electrolyte`` from the extra columns).
 CAPACITOR_COLUMNS = ("id", "part_number", "maker", "value", "tolerance", "esr", "esl",
