@@ -206,7 +206,8 @@ def decouple_cmd(
         "--ripple", metavar="PCT", help="Allowed ripple as a share of the rail, e.g. 3% "
         "(or 0.03): Z_t = V x ripple / step.")] = None,
     step: Annotated[str | None, typer.Option(
-        "--step", metavar="I", help="Load current step, e.g. 10A.")] = None,
+        "--step", metavar="I", help="Load current step, e.g. 10A: with --ripple it sets the "
+        "target; with it the result gives the step response and the worst-case noise.")] = None,
     band: Annotated[str | None, typer.Option(
         "--band", metavar="F1..F2", help="Band where |Z| must stay below the target, e.g. "
         "10kHz..100MHz (required).")] = None,
@@ -328,7 +329,8 @@ def decouple_cmd(
         "SPICE transient deck (ngspice), for an independent check.")] = None,
     check_file: Annotated[Path | None, typer.Option(
         "--check", metavar="FILE", help="Evaluate this bank instead of planning one: CSV "
-        "with part_number,count[,maker].")] = None,
+        "with part_number,count[,maker][,distance] (distance from the load, e.g. 12mm, with "
+        "--plane-gap).")] = None,
     plot: Annotated[Path | None, typer.Option(
         "--plot", metavar="FILE.png", help="Also plot |Z| of each line, the total and the "
         "target; with --step also the step response, to FILE_step.png.")] = None,
@@ -352,6 +354,11 @@ def decouple_cmd(
       partsel decouple --rail 1.0V --target 3mohm --band 10kHz..100MHz --check bank.csv
 
       partsel decouple --rail 1.8V --target 10mohm --band 1MHz..50MHz --model measured
+
+      partsel decouple --rail 1.0V --ripple 3% --step 10A --band 10kHz..100MHz
+      --plane-area 100cm2 --plane-gap 0.1mm --via-length 0.5mm --package-l 20pH --die-c 300nF
+
+      partsel decouple --rail 1.0V --noise 30mV --step 10A --band 100kHz..100MHz
     """
     from partsel.jobs import decouple as dec
 
