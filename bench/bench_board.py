@@ -22,27 +22,17 @@ import json
 import os
 import resource
 import statistics
-import subprocess
 import sys
 import time
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))  # run from a checkout
+sys.path.insert(0, str(Path(__file__).resolve().parent))
 
-OUT = Path(__file__).parent / "out"
+from bench_decouple import OUT, RAIL, run  # noqa: E402  (same rail, same runner)
+
 BOARD = ["--plane-area", "100cm2", "--plane-gap", "0.1mm", "--er", "4.3", "--via-length",
          "0.5mm", "--package-l", "20pH", "--die-c", "300nF"]
-RAIL = ["decouple", "--rail", "1.0V", "--ripple", "3%", "--step", "10A", "--band",
-        "10kHz..100MHz"]
-
-
-def run(store: Path, *args: str) -> tuple[float, str]:
-    t = time.perf_counter()
-    p = subprocess.run([sys.executable, "-m", "partsel", "--store", str(store), *args],
-                       stdout=subprocess.PIPE, stderr=subprocess.DEVNULL, text=True)
-    if p.returncode not in (0, 1):
-        raise SystemExit(f"partsel {' '.join(args)} failed with exit code {p.returncode}")
-    return time.perf_counter() - t, p.stdout
 
 
 def build(n: int) -> Path:

@@ -491,3 +491,18 @@ def format_quantity(x: float, unit: str, digits: int = 3) -> str:
     whole = digit_string[:point].ljust(point, "0")
     frac = digit_string[point:].rstrip("0")
     return f"{sign}{whole}{'.' + frac if frac else ''} {_FORMAT_PREFIXES[power]}{unit}"
+
+
+_MIL = 25.4e-6          # 1 mil = 0.001 in [m] (exact by definition of the inch)
+_INCH = 25.4e-3
+
+
+def parse_length(text: str, what: str) -> float:
+    """A length [m]: '4mil', '0.1mm', '100um', '1e-4', '0.5in' (mil = 25.4 um, no SI
+    prefix)."""
+    t = text.strip()
+    if t.lower().endswith("mil"):
+        return parse_number(t[:-3].strip(), what) * _MIL
+    if t.lower().endswith("in"):
+        return parse_number(t[:-2].strip(), what) * _INCH
+    return parse_quantity(t, "m", what=what)

@@ -90,7 +90,7 @@ def _word(header: str) -> str:
 def _distance(p: Path, n: int, text: str) -> float:
     """A placement distance with its unit ('12mm', '0.5in', '400mil') [m]."""
     from partsel.errors import PartselError
-    from partsel.jobs.decouple.board_options import parse_length
+    from partsel.units import parse_length
 
     try:
         d = parse_length(text, "distance")

@@ -27,6 +27,7 @@ from partsel import units
 from partsel.engine import pdn
 from partsel.errors import QueryError, UnitError
 from partsel.jobs.decouple.inputs import Board
+from partsel.units import parse_length
 
 # loss tangent of an FR-4 class laminate around 1 GHz (common practice, no source): damps the
 # plane pair's cavity resonance with the spreading inductance
@@ -36,16 +37,6 @@ _INCH = 25.4e-3
 _AREA_UNITS = {"in2": _INCH**2, "in^2": _INCH**2, "sqin": _INCH**2, "mm2": 1e-6,
                "mm^2": 1e-6, "cm2": 1e-4, "cm^2": 1e-4, "m2": 1.0, "m^2": 1.0}
 _AREA_RE = re.compile(r"^\s*([0-9.eE+-]+)\s*([a-zA-Z^0-9]*)\s*$")
-
-
-def parse_length(text: str, what: str) -> float:
-    """A length [m]: '4mil', '0.1mm', '100um', '1e-4' (mil = 25.4 um, no SI prefix)."""
-    t = text.strip()
-    if t.lower().endswith("mil"):
-        return units.parse_number(t[:-3].strip(), what) * _MIL
-    if t.lower().endswith("in"):
-        return units.parse_number(t[:-2].strip(), what) * _INCH
-    return units.parse_quantity(t, "m", what=what)
 
 
 def parse_area(text: str) -> float:
