@@ -55,6 +55,10 @@ def _summary(res: Any) -> list[str]:
     if rail.margin:
         spec += f", held to {fq(rail.design_target, 'ohm', 4)} ({100 * rail.margin:g} % margin)"
     verdict = "target met" if res.met else "TARGET NOT MET"
+    if res.corners is not None:
+        verdict += " at every corner" if res.met else (
+            " at its worst corner (met at nominal values)"
+            if res.corners["nominal_worst_ratio"] <= 1.0 + 1e-9 else "")
     return [f"Rail {fq(rail.voltage, 'V')}, {spec}, band {fq(rail.band[0], 'Hz')}.."
             f"{fq(rail.band[1], 'Hz')}: {verdict}", ""]
 
@@ -119,6 +123,13 @@ def render_text(res: Any) -> str:
         from partsel.jobs.decouple.board_result import noise_summary
 
         lines += ["", *noise_summary(res.noise)]
+    if res.corners is not None or res.builds is not None:
+        from partsel.jobs.decouple.spread import corner_text, yield_text
+
+        if res.corners is not None:
+            lines += ["", *corner_text(res.corners)]
+        if res.builds is not None:
+            lines += ["", *yield_text(res.builds)]
     if res.alternatives:
         lines += ["", "Banks found with other numbers of lines (pick by parts, cost, margin):",
                   opt.emit([_alt_row(a, res) for a in res.alternatives], ALT_COLS, "table")]
@@ -127,6 +138,8 @@ def render_text(res: Any) -> str:
     if res.explanation:
         lines += ["", *res.explanation]
     lines += ["", "Effects applied:", *(f"  - {e}" for e in res.effects)]
+    if res.corners is not None:
+        lines += [f"  - {e}" for e in res.corners["effects"]]
     return "\n".join(lines)
 
 
@@ -188,6 +201,27 @@ def _rail_target(rail: str | None, target: str | None, ripple: str | None, step:
                                     board, worst_case, share)
     raise QueryError("give the target impedance: --target Z, or --ripple PCT with "
                      "--step I (Z_t = V x ripple / step)")
+
+
+def spread_spec(corners: bool, temp: str | None, age: str | None, builds: int | None,
+                seed: int | None, distribution: str | None) -> Any:
+    """The corners and yield asked for (None when neither)."""
+    if not corners and builds is None:
+        for name, v in (("--temp", temp), ("--age", age), ("--seed", seed),
+                        ("--distribution", distribution)):
+            if v is not None:
+                raise QueryError(f"{name} applies to --corners or --yield: give one of them "
+                                 "as well")
+        return None
+    if builds is None:
+        for name, v in (("--seed", seed), ("--distribution", distribution)):
+            if v is not None:
+                raise QueryError(f"{name} applies to --yield N: give it as well")
+    from partsel.jobs.corners import Conditions
+    from partsel.jobs.decouple.inputs import Spread
+
+    return Spread(Conditions.read(temp, age), corners, builds, 0 if seed is None else seed,
+                  (distribution or "normal").strip().lower())
 
 
 Texts = list[str] | None
@@ -334,6 +368,27 @@ def decouple_cmd(
     plot: Annotated[Path | None, typer.Option(
         "--plot", metavar="FILE.png", help="Also plot |Z| of each line, the total and the "
         "target; with --step also the step response, to FILE_step.png.")] = None,
+    corners: Annotated[bool, typer.Option(
+        "--corners", help="Judge the bank at the worst corner of its parts' spread: each "
+        "line's tolerance (both sides), temperature (--temp), aging (--age), ESR vs "
+        "temperature; a plan holds the target at every corner.")] = False,
+    temp: Annotated[str | None, typer.Option(
+        "--temp", metavar="T1..T2", help="With --corners or --yield: temperature range, "
+        "e.g. -40C..85C (default 25 degC only).")] = None,
+    age: Annotated[str | None, typer.Option(
+        "--age", metavar="LIFE", help="With --corners or --yield: class II aging after this "
+        "life, e.g. 10y (default new).")] = None,
+    builds: Annotated[int | None, typer.Option(
+        "--yield", metavar="N", help="Also draw N builds of the bank, each part from its "
+        "tolerance, and report the share that holds the target, with its 95 % interval "
+        "and where the failures lie.")] = None,
+    seed: Annotated[int | None, typer.Option(
+        "--seed", metavar="S", help="With --yield: seed of the draws (default 0; same seed, "
+        "same result).")] = None,
+    distribution: Annotated[str | None, typer.Option(
+        "--distribution", metavar="normal|uniform", help="With --yield: tolerance as a "
+        "normal distribution with the limit at 3 sigma, truncated (default), or uniform "
+        "between the limits.")] = None,
     fmt: str = opt.format_option(),
 ) -> None:
     """Plan decoupling capacitors that keep a rail below its target impedance over a band.
@@ -359,6 +414,9 @@ def decouple_cmd(
       --plane-area 100cm2 --plane-gap 0.1mm --via-length 0.5mm --package-l 20pH --die-c 300nF
 
       partsel decouple --rail 1.0V --noise 30mV --step 10A --band 100kHz..100MHz
+
+      partsel decouple --rail 1.0V --target 3mohm --band 10kHz..100MHz --check bank.csv
+      --corners --temp -40C..85C --age 10y --yield 10000
     """
     from partsel.jobs import decouple as dec
 
@@ -372,6 +430,7 @@ def decouple_cmd(
     spec = rail_spec(rail, target, ripple, step, band,
                       (mount_l, plane, plane_l, vrm_r, vrm_l, geometry, board_file),
                       worst_case, margin, noise, rise, mask_file)
+    spec.spread = spread_spec(corners, temp, age, builds, seed, distribution)
     with open_store_for(ctx) as store:
         if check_file is not None:
             res = dec.check(store, spec, dec.read_bank(check_file), model=model,

@@ -22,6 +22,7 @@ from partsel.jobs.decouple.candidates import (
 from partsel.jobs.decouple.evaluate import _result
 from partsel.jobs.decouple.inputs import Rail
 from partsel.jobs.decouple.result import Result, _fq
+from partsel.jobs.decouple.spread import apply as apply_spread
 from partsel.store.db import Store
 
 
@@ -77,6 +78,7 @@ def check(store: Store, rail: Rail, entries: Sequence[BankEntry], *, model: str 
                      "matter with the plane gap (the spreading between them): give "
                      "--plane-gap to use them")
     res = _result(rail, "check", parts, counts, notes, {}, None, "", distances=distances)
+    apply_spread(store, rail, res)
     if not parts.catalog_rlc:
         res.effects.insert(1, "models: " + "; ".join(
             f"{pn} {lab}" for pn, lab in zip(parts.part_number, parts.label, strict=True)))

@@ -32,7 +32,7 @@ def _effects(rail: Rail, parts: Parts, counts: NDArray) -> list[str]:
                    "temperature range, class II aging from 1 h to 10 years (2.5 %/decade X7R/X5R,"
                    " 7 %/decade Y5V/Z5U; rule of thumb)")
     if rail.margin:
-        eff.append(f"design margin {100 * rail.margin:g} %: the bank must stay below "
+        eff.append(f"design margin {100 * rail.margin:.3g} %: the bank must stay below "
                    f"{_fq(rail.design_target, 'ohm')}")
     mounts: dict[str, float] = {}
     for i in np.flatnonzero(counts):

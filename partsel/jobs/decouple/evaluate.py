@@ -17,6 +17,7 @@ from partsel.jobs.decouple.effects import _effects
 from partsel.jobs.decouple.inputs import Rail
 from partsel.jobs.decouple.result import Result, _board_lines, _fq, _line
 from partsel.jobs.decouple.solver import _CHECK_SLACK
+from partsel.jobs.decouple.spread import BankParts
 
 PEAK_WINDOW_DECADES = 0.05   # measured curves: a listed peak tops |Z| within this either side
 
@@ -70,8 +71,9 @@ def _result(rail: Rail, mode: Literal["plan", "check"], parts: Parts, counts: ND
     res = Result(rail, mode, bool(met), lines, _board_lines(rail.board), sc.max_z, sc.f_max,
                  peaks, failures, explanation, effects, notes, bounds, stats, catalog, labels,
                  network, model_check)
+    dist = [None] * len(order) if distances is None else [distances[i] for i in order]
+    res.bank_parts = BankParts(mine, counts[order].astype(float), dist)
     if needs_network(rail):
-        dist = None if distances is None else [distances[i] for i in order]
         evaluate_on_board(rail, res, mine, counts[order], dist, unreachable)
     add_noise(rail, res, mine, counts[order])
     return res

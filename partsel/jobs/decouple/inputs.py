@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
-from typing import Literal
+from typing import Any, Literal
 
 import numpy as np
 from numpy.typing import NDArray
@@ -206,6 +206,30 @@ class Board:
         return pdn.Branches.concat(*parts), labels
 
 
+MAX_BUILDS = 1_000_000      # yield runs: builds at most
+
+
+@dataclass
+class Spread:
+    """What the spread analysis is asked to do: the corners and/or a yield run."""
+
+    conditions: Any             # partsel.jobs.corners.Conditions
+    corners: bool = False
+    builds: int | None = None
+    seed: int = 0
+    distribution: str = "normal"
+
+    def validate(self) -> None:
+        from partsel.engine.spread import DISTRIBUTIONS
+
+        if self.builds is not None and not (1 <= self.builds <= MAX_BUILDS):
+            raise QueryError(f"the number of builds must lie between 1 and {MAX_BUILDS:,}, "
+                             f"got {self.builds}: give e.g. --yield 10000")
+        if self.distribution not in DISTRIBUTIONS:
+            raise QueryError(f"unknown distribution '{self.distribution}': use "
+                             + " or ".join(DISTRIBUTIONS))
+
+
 @dataclass
 class Rail:
     """The rail: its DC voltage, target impedance, band and board."""
@@ -221,6 +245,7 @@ class Rail:
     mask: Mask | None = None                # a target over frequency (else flat ``target``)
     noise: float | None = None              # the voltage spec, each side [V]
     rise_time: float | None = None          # of the load step [s] (default 0.35 / f2)
+    spread: Spread | None = None            # corners and yield of the bank (spread.py)
 
     def design_mask(self) -> Mask:
         """The target over frequency less the design margin."""
@@ -275,6 +300,11 @@ class Rail:
         if self.rise_time is not None and not (math.isfinite(self.rise_time)
                                                and self.rise_time > 0):
             raise QueryError("the rise time must be a positive time")
+        if self.spread is not None:
+            if self.worst_case and self.spread.corners:
+                raise QueryError("give either --worst-case or --corners: the corners hold the "
+                                 "low side --worst-case takes, and the high side too")
+            self.spread.validate()
         self.board.validate()
 
 

@@ -21,6 +21,7 @@ from partsel.jobs.decouple.inputs import Choice, Rail
 from partsel.jobs.decouple.layout import Layout
 from partsel.jobs.decouple.result import Result, _fq
 from partsel.jobs.decouple.solver import Limits, solve
+from partsel.jobs.decouple.spread import apply as apply_spread
 from partsel.store.db import Store
 
 
@@ -46,6 +47,9 @@ def plan(store: Store, rail: Rail, choice: Choice | None = None, *, measured: bo
     res = _plan_once(rail, cands, w[idx], limits, notes, considered, parts, choice.prefer)
     if rail.noise is not None and rail.step is not None:
         res = _hold_noise(rail, cands, w[idx], limits, notes, considered, parts, choice, res)
+    if rail.spread is not None:
+        res = _hold_corners(store, rail, res, lambda r: _plan_once(
+            r, cands, w[idx], limits, notes, considered, parts, choice.prefer))
     res.effects.insert(2, voltage_rule_text(rail.voltage, choice.min_voltage))
     if not parts.catalog_rlc:
         res.effects.insert(1, _models_line(parts))
@@ -144,4 +148,35 @@ def _hold_noise(rail: Rail, cands, w, limits: Limits, notes: list[str], consider
     if res.noise is not None and not res.noise["met"] and first.noise is not None and \
             len(first.lines) and not res.lines:
         return first
+    return res
+
+
+CORNER_ROUNDS = 4   # replans with a lower target while the bank fails at its worst corner
+
+
+def _hold_corners(store: Store, rail: Rail, res: Result, replan) -> Result:
+    """Plan against the worst corner (``--corners``): while the bank fails there, lower the
+    design target by the ratio it reaches and plan again; then the yield, when asked, on the
+    bank kept. Every round is judged against the rail asked for."""
+    current = res.rail
+    apply_spread(store, replace(current, spread=replace(rail.spread, builds=None)), res, rail)
+    first = res
+    for k in range(CORNER_ROUNDS if rail.spread.corners else 0):
+        c = res.corners
+        if c is None or c["met"] or not res.lines:
+            break
+        keep = (1.0 - current.margin) * 0.97 / c["worst_ratio"]
+        current = replace(current, margin=1.0 - keep)
+        res = replan(current)
+        apply_spread(store, replace(current, spread=replace(rail.spread, builds=None)), res,
+                     rail)
+        res.effects.append(
+            f"planned against the worst corner: the design target was lowered to "
+            f"{_fq(current.design_target, 'ohm')} (round {k + 1}) so that the bank holds "
+            "the target at every corner of its parts' spread")
+    if res.corners is not None and not res.corners["met"] and first.lines and not res.lines:
+        res = first
+    if rail.spread.builds:
+        apply_spread(store, replace(current, spread=replace(rail.spread, corners=False)),
+                     res, rail)
     return res

@@ -61,6 +61,9 @@ class Result:
     noise: dict[str, Any] | None = None             # noise.analyse
     alternatives: list[dict[str, Any]] = field(default_factory=list)   # other line limits
     lower_bound: dict[str, Any] | None = None       # planner.lower_bound
+    bank_parts: Any = None                          # the lines as evaluated (spread.BankParts)
+    corners: dict[str, Any] | None = None           # spread.corners
+    builds: dict[str, Any] | None = None            # spread.builds_yield
 
     @property
     def margin_ohm(self) -> float:
@@ -134,6 +137,7 @@ class Result:
             "worst_ratio": self.worst_ratio, "ring_radius_m": self.radii,
             "unreachable": self.unreachable, "noise": self.noise,
             "alternatives": self.alternatives, "lower_bound": self.lower_bound,
+            "corners": self.corners, "yield": self.builds,
         }
 
 
