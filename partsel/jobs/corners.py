@@ -390,8 +390,9 @@ def effects_lines(basis: Basis, kind: str, bias: float | None = None,
         else:
             lines.append(f"DCR vs temperature: {effects.COPPER_SOURCE} for {r[2]}; not "
                          f"applied to {r[4]} on models without a DCR layer")
-        lines.append("capacitance and ESR ranges over temperature taken independently (the "
-                     "box holds every real temperature; conservative)")
+        if kind == "capacitor":
+            lines.append("capacitance and ESR ranges over temperature taken independently "
+                         "(the box holds every real temperature; conservative)")
     if int(basis.unrated.sum()):
         lines.append(f"{int(basis.unrated.sum())} of {n} parts are rated for a narrower "
                      "temperature range than asked")
