@@ -193,6 +193,7 @@ def inductive_cmd(
         written("plot", draw(result, plot), replaced)
     counts = {v: sum(r["verdict"] == v for r in result.rows) for v in ("pass", "warn", "fail")}
     note(f"target {units.format_quantity(spec.target, 'Hz')}: " +
-         ", ".join(f"{n} {v}" for v, n in counts.items()) + ". Model: " + "; ".join(nominal_effects))
+         ", ".join(f"{n} {v}" for v, n in counts.items()) + ". Model: "
+         + "; ".join(nominal_effects))
     if result.any_fail:
         raise typer.Exit(code=1)

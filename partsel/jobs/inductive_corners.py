@@ -114,7 +114,6 @@ def apply_corners(result: CheckResult, cond: Conditions) -> None:
 
     wq = engine.q_at(models, box, np.full(n, spec.target))
     q_t = np.where(lossy & ~capacitive, wq.value, np.nan)
-    at_target = spec.min_q is not None and spec.min_q_hz is None
     wqq = engine.q_at(models, box, np.full(n, spec.q_hz)) if spec.min_q_hz is not None else wq
     q_check = np.where(lossy, wqq.value, np.nan) if spec.min_q_hz is not None else q_t
     q_level = q_levels(spec, q_check)
@@ -143,7 +142,7 @@ def apply_corners(result: CheckResult, cond: Conditions) -> None:
                if spec.min_q_hz is not None else {}),
             "corner_l_range": [float(box.l_lo[i]), float(box.l_hi[i])],
             "corner_dcr_range": [float(box.r_lo[i]), float(box.r_hi[i])],
-            "corner_exact": bool(exact[i]), "corner_estimates": basis.estimated(i),
+            "corner_exact": bool(exact[i]), "corner_estimates": basis.estimated(i, "inductor"),
         })
         extra = _corner_reasons(spec, basis, i, grade[i], float(f0[i]), float(ratio_c[i]),
                                 f0_at, srf_at, float(q_t[i]), q_at, float(q_check[i]), qq_at,
@@ -231,12 +230,12 @@ class YieldSpec:
     def validate(self) -> None:
         if isinstance(self.samples, bool) or not isinstance(self.samples, (int, np.integer)) \
                 or not 0 < self.samples <= MAX_SAMPLES:
-            raise QueryError(f"the number of builds must be a whole number from 1 to "
+            raise QueryError(f"the number of builds (samples) must be a whole number from 1 to "
                              f"{MAX_SAMPLES}, got {self.samples!r}: give e.g. 10000",
                              params=("samples",))
         if isinstance(self.seed, bool) or not isinstance(self.seed, (int, np.integer)) \
                 or self.seed < 0:
-            raise QueryError(f"the seed must be a whole number of 0 or more, got "
+            raise QueryError(f"seed must be a whole number of 0 or more, got "
                              f"{self.seed!r}", params=("seed",))
         if self.distribution not in spread.DISTRIBUTIONS:
             raise QueryError(f"unknown distribution {self.distribution!r}: use "
@@ -372,6 +371,7 @@ def apply_yield(result: CheckResult, cond: Conditions, ys: YieldSpec) -> None:
     for i, row in enumerate(result.rows):
         passed = int(tally.passed[i])
         lo, hi = spread.wilson_interval(passed, n_total)
+        lo, hi = (0.0 if passed == 0 else lo), (1.0 if passed == n_total else hi)
         fails = _failures(spec, tally, i, n_total)
         row.update({
             "yield_builds": n_total, "yield_passed": passed, "yield_share": passed / n_total,
@@ -380,7 +380,7 @@ def apply_yield(result: CheckResult, cond: Conditions, ys: YieldSpec) -> None:
         })
         words = "; ".join(f["detail"] for f in fails) if fails else "no build fails"
         row["yield_text"] = (f"{100 * passed / n_total:.3g} % of {n_total} builds meet the "
-                             f"check (95 % Wilson interval {100 * lo:.3g}..{100 * hi:.3g} %); "
+                             f"check (95 % Wilson interval {100 * lo:.4g}..{100 * hi:.4g} %); "
                              f"{words}")
     dist = ("a normal distribution with 3 sigma at each limit (split where the limits differ),"
             " truncated at the limits" if ys.distribution == "normal" else
