@@ -323,3 +323,29 @@ def test_help_states_the_limits_the_job_uses(cli):
     assert f"(default {inductive_corners.DEFAULT_SEED})" in text
     for flag in ("--corners", "--temp", "--yield", "--seed", "--distribution"):
         assert flag in text
+
+
+def test_l_curve_sets_the_l_range_and_is_no_estimate():
+    # derived: linear between the curve's points: L(1.2 A) = 0.9 - 0.2 x 0.2 = 0.86,
+    # L(0.8 A) = 1 - 0.8 x 0.1 = 0.92; times the tolerance ends 0.9 and 1.1
+    part = ind("LK1", 1e-6, 300e6, 0.2, tolerance=0.1, l_curve="0A:1, 1A:0.9, 2A:0.7",
+               isat=1.5, isat_drop=0.3)
+    res = check_rows([part], Spec(target=10e6, current=CURRENT, ripple=RIPPLE))
+    apply_corners(res, Conditions())
+    row = res.rows[0]
+    assert_allclose(row["corner_l_range"], [0.9 * 0.86, 1.1 * 0.92], rtol=1e-12)
+    assert_allclose(row["corner_dcr_range"], [1.0, 1.0])      # no temperature range given
+    assert row["corner_estimates"] == []
+    assert any("the part's l_curve for 1" in e for e in res.effects)
+
+
+def test_a_part_that_passes_every_corner_passes_every_build():
+    # the builds lie inside the box, so none can be worse than its worst corner (derived)
+    part = ind("OK1", 1e-6, 300e6, 0.2, tolerance=0.2, isat=3.0, isat_drop=0.3, irms=3.0)
+    spec = Spec(target=20e6, current=CURRENT, ripple=RIPPLE, min_q=10.0)
+    res = check_rows([part], spec)
+    apply_corners(res, Conditions((-40.0, 85.0)))
+    assert res.rows[0]["corner_verdict"] != "fail"
+    for dist in ("normal", "uniform"):
+        apply_yield(res, Conditions((-40.0, 85.0)), YieldSpec(20000, 5, dist))
+        assert res.rows[0]["yield_passed"] == 20000 and res.rows[0]["yield_failures"] == []
