@@ -32,6 +32,8 @@ COMMANDS = [
     ["alternates", CAP, *BAND, "--explain", "--esr-window", "0.5..2"], ["alternates", IND],
     ["bom", str(DEMO / "parts_list.csv")],
     ["inductive", IND, "--inductive-to", "10MHz", "--current", "0.1A"],
+    ["inductive", IND, "--inductive-to", "10MHz", "--current", "0.3A", "--min-q", "5@1MHz",
+     "--corners", "--temp", "-40C..85C", "--yield", "200"],
     ["decouple", *RAIL], ["decouple", *RAIL, "--check", str(DEMO / "decouple_check.csv")],
     ["decouple", *RAIL, "--plane-area", "100cm2", "--plane-gap", "0.1mm", "--via-length",
      "0.5mm", "--package-l", "20pH", "--die-c", "300nF"],

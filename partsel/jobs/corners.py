@@ -161,8 +161,9 @@ class Basis:
                        (1.0 + self.tol_hi) * self.l_hi)
         return Box(c_lo, c_hi, self.r_lo, self.r_hi, one, one)
 
-    def estimated(self, i: int) -> list[str]:
-        """The estimates behind part ``i``'s ranges."""
+    def estimated(self, i: int, kind: str = "capacitor") -> list[str]:
+        """The estimates behind part ``i``'s ranges (an inductor's DCR follows copper, a
+        standard figure, not an estimate)."""
         out = []
         if self.tol_src[i] == 2:
             out.append(f"tolerance ±{100 * DEFAULT_TOLERANCE:g} % (none in the catalog)")
@@ -173,7 +174,7 @@ class Basis:
             out.append("temp_curve held beyond its last point")
         if self.age_src[i] == 1 and self.age[i] < 1:
             out.append(f"aging {self.age_rate[i]:g} %/decade-hour (rule of thumb)")
-        if self.r_src[i] == 2:
+        if self.r_src[i] == 2 and kind == "capacitor":
             out.append("ESR vs temperature: rule of thumb by technology")
         if self.l_src[i] == 2:
             out.append("L at the current: estimated from Isat and its drop")
@@ -390,8 +391,9 @@ def effects_lines(basis: Basis, kind: str, bias: float | None = None,
         else:
             lines.append(f"DCR vs temperature: {effects.COPPER_SOURCE} for {r[2]}; not "
                          f"applied to {r[4]} on models without a DCR layer")
-        lines.append("capacitance and ESR ranges over temperature taken independently (the "
-                     "box holds every real temperature; conservative)")
+        if kind == "capacitor":
+            lines.append("capacitance and ESR ranges over temperature taken independently "
+                         "(the box holds every real temperature; conservative)")
     if int(basis.unrated.sum()):
         lines.append(f"{int(basis.unrated.sum())} of {n} parts are rated for a narrower "
                      "temperature range than asked")

@@ -219,11 +219,8 @@ def evaluate_models(spec: Spec, models: ModelSet, srf: ArrayLike, lossy: ArrayLi
     ratio = np.where(has_srf, f_srf / t, np.nan)
 
     inductive = f0 > t
-    grade = np.full(n, GRADES.index("unknown"), dtype=np.int8)
-    grade[has_srf] = np.select(
-        [~inductive, ratio < spec.warn_below, ratio < spec.predictable_at],
-        [0, 1, 2], 3)[has_srf]
-    srf_level = np.array([FAIL, WARN, NOTE, OK, WARN], dtype=np.int8)[grade]
+    grade = grades(spec, f0, ratio, has_srf)
+    srf_level = SRF_LEVELS[grade]
 
     # a lossless part evaluated exactly at its SRF has Y = 0: Z is infinite there, not an error
     with np.errstate(all="ignore"):
@@ -239,15 +236,33 @@ def evaluate_models(spec: Spec, models: ModelSet, srf: ArrayLike, lossy: ArrayLi
         with np.errstate(all="ignore"):
             zq = models.impedance_each(np.full(n, spec.min_q_hz))
             q_check = np.where(np.asarray(lossy, dtype=bool), zq.imag / zq.real, np.nan)
-    q_level = np.full(n, OK, dtype=np.int8)
-    if spec.min_q is not None:
-        q_level = np.where(np.isnan(q_check), WARN,
-                           np.where(q_check >= spec.min_q, OK, FAIL)).astype(np.int8)
+    q_level = q_levels(spec, q_check)
 
     isat_m, isat_level = _margin(isat, spec.i_peak, spec.current_margin, n)
     irms_m, irms_level = _margin(irms, spec.i_rms, spec.current_margin, n)
     return Metrics(f0, ratio, grade, l_eff, l_eff / lval - 1.0, q, q_check, isat_m, irms_m,
                    srf_level, q_level, isat_level, irms_level)
+
+
+SRF_LEVELS = np.array([FAIL, WARN, NOTE, OK, WARN], dtype=np.int8)   # by grade
+
+
+def grades(spec: Spec, f0: NDArray[np.float64], ratio: NDArray[np.float64],
+           has_srf: NDArray[np.bool_]) -> NDArray[np.int8]:
+    """The SRF grade (index into GRADES) from the zero-phase frequency and SRF / target."""
+    grade = np.full(len(f0), GRADES.index("unknown"), dtype=np.int8)
+    grade[has_srf] = np.select(
+        [~(f0 > spec.target), ratio < spec.warn_below, ratio < spec.predictable_at],
+        [0, 1, 2], 3)[has_srf]
+    return grade
+
+
+def q_levels(spec: Spec, q_check: NDArray[np.float64]) -> NDArray[np.int8]:
+    """The level of the minimum-Q check (OK when none is asked; WARN where Q is unknown)."""
+    if spec.min_q is None:
+        return np.full(len(q_check), OK, dtype=np.int8)
+    return np.where(np.isnan(q_check), WARN,
+                    np.where(q_check >= spec.min_q, OK, FAIL)).astype(np.int8)
 
 
 def _margin(rating: ArrayLike, need: float | None, warn_under: float,
@@ -270,6 +285,14 @@ class CheckResult:
     rows: list[dict[str, Any]]
     models: ModelSet
     effects: list[str] = field(default_factory=list)
+    # what the worst case and the yield run (:mod:`partsel.jobs.inductive_corners`) start from
+    parts: list[dict[str, Any]] = field(default_factory=list)
+    srf: NDArray[np.float64] | None = None       # the SRF the grades use, per part [Hz]
+    lossy: NDArray[np.bool_] | None = None       # the model holds the part's loss
+    isat: NDArray[np.float64] | None = None
+    irms: NDArray[np.float64] | None = None
+    metrics: Metrics | None = None                # the nominal figures
+    notes: list[str] = field(default_factory=list)
 
     @property
     def any_fail(self) -> bool:
@@ -425,7 +448,8 @@ def check_rows(parts: Sequence[dict[str, Any]], spec: Spec,
     if spec.current is not None:
         effects.append("currents: Isat against I_dc + I_pp/2; Irms against "
                        "sqrt(I_dc^2 + I_pp^2/12) (DC plus triangular ripple)")
-    return CheckResult(spec, rows, models, effects)
+    return CheckResult(spec, rows, models, effects, list(parts), srf, lossy, col("isat"),
+                       col("irms"), m)
 
 
 def check(store: Store, part_numbers: Sequence[str], spec: Spec,
