@@ -114,6 +114,8 @@ def alternates_row(rank: int, cand: Any, kind: str) -> dict[str, Any]:
         if cand.esr_ratio is not None:
             out["esr_ratio"] = cand.esr_ratio
     out.update(model=cand.model, model_source=cand.model_source)
+    if cand.corner is not None:
+        out.update(cand.corner)
     out["rules"] = [{"rule": r.rule, "passed": r.passed, "detail": r.detail}
                     for r in cand.rules]
     return out
@@ -132,6 +134,9 @@ def alternates_json(res: Any, rows: list[dict[str, Any]],
         "rules_checked": res.rules, "skipped": res.skipped, "effects": res.effects,
         "notes": res.notes, "cautions": res.cautions,
         "passing": res.passing, "pass_form_and_fit": res.fit, "rows": rows}
+    if res.original_corner is not None:
+        payload["corner_conditions"] = res.conditions
+        payload["original_corner"] = res.original_corner
     if misses is not None:
         payload["near_misses"] = misses
     return payload
@@ -245,6 +250,10 @@ GLOSSARY: dict[str, str] = {
     "corner_l_ratio": "inductance at the worst corner over nominal",
     "corner_exact": "true when the worst corner is exact (not sampled)",
     "corner_estimates": "effects at the corner that are rule-of-thumb estimates",
+    "corner_srf_window_hz": "lowest and highest SRF over the part's box [Hz] (alternates)",
+    "corner_srf": "the corner that gives the lowest SRF, in words (alternates)",
+    "original_corner": "the original's worst-case figures over its box (alternates)",
+    "corner_conditions": "the worst case asked for: temperature range and life, in words",
     "original": "the part being replaced",
     "original_value_at_bias_f": "the original's capacitance at the DC bias [F]",
     "original_bias_source": "where the original's DC-bias loss came from",
