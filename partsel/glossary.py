@@ -252,6 +252,8 @@ GLOSSARY: dict[str, str] = {
     "corner_estimates": "effects at the corner that are rule-of-thumb estimates",
     "corner_srf_window_hz": "lowest and highest SRF over the part's box [Hz] (alternates)",
     "corner_srf": "the corner that gives the lowest SRF, in words (alternates)",
+    "corner_l_h": "inductance at the worst corner (low end of the box) [H] (alternates)",
+    "corner_dcr_ohm": "DCR at the hot end of the temperature range [ohm] (alternates)",
     "original_corner": "the original's worst-case figures over its box (alternates)",
     "corner_conditions": "the worst case asked for: temperature range and life, in words",
     "original": "the part being replaced",

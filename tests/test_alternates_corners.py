@@ -103,27 +103,42 @@ def _ind(pn, value, dcr, srf, tol="10%"):
 
 def test_nominal_pass_corner_fail_inductor(make_store, cli):
     # SHORT: 0.97 x the L and 0.97 x the DCR, the same SRF, so its zero-phase frequency is
-    # the original's at every corner; its smallest |Z| at L low is below the original's.
-    store = make_store([_ind("ORIGL", 10e-6, 0.1, 50e6), _ind("SHORT", 9.7e-6, 0.097, 50e6)])
+    # the original's at every corner and its DCR lower at every temperature; at the low end of
+    # its tolerance its L is below the original's at the low end: it fails corner_l alone.
+    store = make_store([_ind("ORIGL", 10e-6, 0.1, 50e6), _ind("SHORT", 9.7e-6, 0.097, 50e6),
+                        _ind("LOSSY", 10e-6, 0.1, 50e6, tol="5%")])
+    nominal = cli("--store", store, "alternates", "ORIGL", "--band", "500kHz..10MHz",
+                  "--format", "json")
+    assert {r["part_number"] for r in json.loads(nominal.stdout)["rows"]} == {"SHORT", "LOSSY"}
     res = cli("--store", store, "alternates", "ORIGL", "--band", "500kHz..10MHz", "--corners",
               "--temp", "-40C..85C", "--explain", "--format", "json")
     assert res.exit_code == 0, res.output
     out = json.loads(res.stdout)
-    assert out["rows"] == []
+    assert [r["part_number"] for r in out["rows"]] == ["LOSSY"]
     miss = out["near_misses"][0]
     assert miss["part_number"] == "SHORT"
-    assert [r["rule"] for r in miss["rules"] if not r["passed"]] == ["corner_z"]
+    failed = [r for r in miss["rules"] if not r["passed"]]
+    assert [r["rule"] for r in failed] == ["corner_l"]
+    assert "L low (tolerance -10 %)" in failed[0]["detail"]
+    assert miss["corner_l_h"] == pytest.approx(9.7e-6 * 0.9, rel=1e-12)
+    assert out["original_corner"]["corner_l_h"] == pytest.approx(10e-6 * 0.9, rel=1e-12)
+    assert out["rows"][0]["corner_l_h"] == pytest.approx(10e-6 * 0.95, rel=1e-12)
+    # Copper: R(T)/R(25) = (1 + 0.00393 (T - 20))/(1 + 0.00393 x 5) (IEC 60028).
+    r_hot = (1 + 0.00393 * (85 - 20)) / (1 + 0.00393 * 5)
+    r_cold = (1 + 0.00393 * (-40 - 20)) / (1 + 0.00393 * 5)
+    assert miss["corner_dcr_ohm"] == pytest.approx(0.097 * r_hot, rel=1e-12)
     # (L + R) || C_p, C_p = 1/((2 pi SRF)^2 L); below the peak |Z| rises with f, with L and
     # with R (d|Z|^2/dR^2 has the sign of 1 - 2 w^2 L C_p): smallest at the low edge, L low,
-    # DCR low. Copper: R(T)/R(25) = (1 + 0.00393 (T - 20))/(1 + 0.00393 x 5) (IEC 60028).
-    r_cold = (1 + 0.00393 * (-40 - 20)) / (1 + 0.00393 * 5)
+    # DCR low. Reported, not judged.
     w = 2 * math.pi * 500e3
     cp = 1 / ((2 * math.pi * 50e6) ** 2 * 9.7e-6)
     zl = complex(0.097 * r_cold, w * 9.7e-6 * 0.9)
-    z = abs(zl / (1 + 1j * w * cp * zl))
-    assert miss["corner_min_z_ohm"] == pytest.approx(z, rel=1e-9)
+    assert miss["corner_min_z_ohm"] == pytest.approx(abs(zl / (1 + 1j * w * cp * zl)), rel=1e-9)
     assert miss["corner_sides"] == "0--"
     assert miss["corner"].startswith("L low (tolerance -10 %)")
+    table = cli("--store", store, "alternates", "ORIGL", "--band", "500kHz..10MHz",
+                "--corners", "--temp", "-40C..85C")
+    assert "LOSSY" in table.stdout and "SHORT: corner_l" in table.stderr
 
 
 @pytest.mark.parametrize("args, words", [

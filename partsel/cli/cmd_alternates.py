@@ -79,8 +79,8 @@ def alternates_cmd(
                                       "worst corners (tolerance both sides, temperature "
                                       "--temp, aging --age, ESR/DCR vs temperature, the DC "
                                       "bias), exact over the band: capacitors' largest |Z| no "
-                                      "higher and SRF window inside the original's, inductors' "
-                                      "smallest |Z| and lowest SRF no lower."),
+                                      "higher and SRF window inside the original's; inductors' "
+                                      "lowest L and SRF no lower, hottest DCR no higher."),
     temp: str = typer.Option(None, "--temp", metavar="T1..T2",
                              help="With --corners: temperature range, e.g. -40C..85C "
                                   "(default 25 degC only); candidates must be rated over it."),
@@ -150,9 +150,12 @@ def _table(res: Any, kind: str) -> str:
         cols[4:4] = [Col("value_eff", "C at bias", "F"), Col("bias_source", "from")]
     corner = res.original_corner is not None
     if corner:
-        z = "corner_max_z_ohm" if kind == "capacitor" else "corner_min_z_ohm"
-        cols += [Col(z, "corner max |Z|" if kind == "capacitor" else "corner min |Z|", "ohm"),
-                 Col("corner", "worst corner")]
+        if kind == "capacitor":
+            cols += [Col("corner_max_z_ohm", "corner max |Z|", "ohm"),
+                     Col("corner", "worst corner")]
+        else:
+            cols += [Col("corner_l_h", "corner L", "H"), Col("corner_dcr_ohm", "hot DCR", "ohm"),
+                     Col("corner_zero_phase_hz", "corner f(phase=0)", "Hz")]
     cols += [*_TAIL, Col("passes", "passes")]
     unit = "F" if kind == "capacitor" else "H"
     o = res.original
@@ -191,10 +194,12 @@ def _original_corner(res: Any, kind: str) -> str:
         return (f"Original at its worst corner ({res.conditions}): max |Z| "
                 f"{fq(oc['corner_max_z_ohm'], 'ohm')} at {fq(oc['corner_f_max_hz'], 'Hz')} "
                 f"({oc['corner']}); SRF window {fq(lo, 'Hz')}..{fq(hi, 'Hz')}")
-    return (f"Original at its worst corner ({res.conditions}): min |Z| "
-            f"{fq(oc['corner_min_z_ohm'], 'ohm')} at {fq(oc['corner_f_min_hz'], 'Hz')} "
-            f"({oc['corner']}); lowest zero-phase frequency "
-            f"{fq(oc['corner_zero_phase_hz'], 'Hz')} ({oc['corner_srf']})")
+    dcr = oc["corner_dcr_ohm"]
+    return (f"Original at its worst corner ({res.conditions}): L {fq(oc['corner_l_h'], 'H')}; "
+            f"DCR at the hot end {fq(dcr, 'ohm') if dcr == dcr else 'unknown'}; lowest "
+            f"zero-phase frequency {fq(oc['corner_zero_phase_hz'], 'Hz')} ({oc['corner_srf']}); "
+            f"min |Z| over the band {fq(oc['corner_min_z_ohm'], 'ohm')} at "
+            f"{fq(oc['corner_f_min_hz'], 'Hz')} ({oc['corner']})")
 
 
 def _notes(res: Any, fmt: str) -> None:

@@ -10,8 +10,12 @@ works with the candidate at its worst.
 
 ``corner_z``
     Capacitors: the largest |Z| over the band and the candidate's box no higher than the
-    largest over the band and the original's box. Inductors: the smallest |Z| over the band
-    and the box no lower (an inductor is there for its impedance).
+    largest over the band and the original's box.
+``corner_l`` and ``corner_dcr``
+    Inductors: the inductance at the low end of the box (tolerance, the current's drop) no
+    lower than the original's at its low end, and the DCR at the hot end no higher than the
+    original's at its hot end. (The smallest |Z| over the band and the box is reported, not
+    judged: it sits at the *lowest* DCR, so it would fail a candidate for a lower DCR.)
 ``corner_srf``
     Capacitors: the SRF window over the box, lowest..highest, inside the original's (the
     resonance lands nowhere the original's could not). Inductors: the lowest zero-phase
@@ -64,6 +68,8 @@ class Figures:
     z: engine.Worst            # capacitors: band maximum; inductors: band minimum
     srf_lo: engine.Worst       # lowest zero-phase frequency over the box
     srf_hi: engine.Worst | None  # capacitors: the highest
+    l_low: NDArray[np.float64] | None = None     # inductors: L at the box's low end [H]
+    dcr_hot: NDArray[np.float64] | None = None   # inductors: DCR at the hot end [ohm]
 
     def where(self, w: engine.Worst, i: int) -> str:
         """The corner of part ``i`` that gives ``w``, in words."""
@@ -95,7 +101,10 @@ class Figures:
             out["corner_srf_window_hz"] = [float(self.srf_lo.value[i]),
                                            float(self.srf_hi.value[i])]
         else:
+            assert self.l_low is not None and self.dcr_hot is not None
             out["corner_zero_phase_hz"] = float(self.srf_lo.value[i])
+            out["corner_l_h"] = float(self.l_low[i])
+            out["corner_dcr_ohm"] = float(self.dcr_hot[i])
         out["corner_srf"] = self.where(self.srf_lo, i)
         out["corner_exact"] = self.exact(i)
         out["corner_estimates"] = self.basis.estimated(i)
@@ -112,8 +121,10 @@ def figures(models: ModelSet, cols: dict[str, Any], kind: str, cond: Conditions,
     f1, f2 = band
     z = engine.band_max(models, box, f1, f2) if cap else engine.band_min(models, box, f1, f2)
     lo = engine.zero_phase(models, box)
-    hi = engine.zero_phase_max(models, box) if cap else None
-    return Figures(kind, basis, box, z, lo, hi)
+    if cap:
+        return Figures(kind, basis, box, z, lo, engine.zero_phase_max(models, box))
+    dcr = np.asarray(cols.get("dcr", np.full(len(models), np.nan)), dtype=float)
+    return Figures(kind, basis, box, z, lo, None, models.value() * box.l_lo, dcr * box.r_hi)
 
 
 @dataclass
@@ -127,14 +138,30 @@ class CornerRules:
     def details(self, i: int) -> dict[str, str]:
         o, c, cap = self.original, self.cands, self.cands.kind == "capacitor"
         q = format_quantity
-        word = "largest" if cap else "smallest"
-        cmp = ("<=" if self.ok["corner_z"][i] else ">") if cap else \
-            (">=" if self.ok["corner_z"][i] else "<")
-        out = {"corner_z": (
-            f"{word} |Z| over the band at the worst corner {q(float(c.z.value[i]), 'ohm')} at "
-            f"{q(float(c.z.f[i]), 'Hz')} ({c.where(c.z, i)}) {cmp} original's "
-            f"{q(float(o.z.value[0]), 'ohm')} at {q(float(o.z.f[0]), 'Hz')} "
-            f"({o.where(o.z, 0)})")}
+        out: dict[str, str] = {}
+        if cap:
+            cmp = "<=" if self.ok["corner_z"][i] else ">"
+            out["corner_z"] = (
+                f"largest |Z| over the band at the worst corner {q(float(c.z.value[i]), 'ohm')} "
+                f"at {q(float(c.z.f[i]), 'Hz')} ({c.where(c.z, i)}) {cmp} original's "
+                f"{q(float(o.z.value[0]), 'ohm')} at {q(float(o.z.f[0]), 'Hz')} "
+                f"({o.where(o.z, 0)})")
+        else:
+            assert c.l_low is not None and o.l_low is not None
+            assert c.dcr_hot is not None and o.dcr_hot is not None
+            cmp = ">=" if self.ok["corner_l"][i] else "<"
+            out["corner_l"] = (
+                f"L at the worst corner {q(float(c.l_low[i]), 'H')} "
+                f"({c.basis.side_text(i, '00-', 'inductor')}) {cmp} original's "
+                f"{q(float(o.l_low[0]), 'H')} ({o.basis.side_text(0, '00-', 'inductor')})")
+            cmp = "<=" if self.ok["corner_dcr"][i] else ">"
+            hot = "" if c.box.r_hi[i] == 1 else f" ({c.basis.side_text(i, '0+0', 'inductor')})"
+            o_hot = "" if o.box.r_hi[0] == 1 else \
+                f" ({o.basis.side_text(0, '0+0', 'inductor')})"
+            out["corner_dcr"] = (
+                f"DCR at the hot end {_ohm(c.dcr_hot[i])}{hot} {cmp} original's "
+                f"{_ohm(o.dcr_hot[0])}{o_hot}" if np.isfinite(o.dcr_hot[0]) else
+                "the original states no DCR: not compared")
         if cap:
             assert c.srf_hi is not None and o.srf_hi is not None
             inside = "inside" if self.ok["corner_srf"][i] else "not inside"
@@ -155,6 +182,10 @@ class CornerRules:
         return out
 
 
+def _ohm(x: float) -> str:
+    return format_quantity(float(x), "ohm") if np.isfinite(x) else "unknown"
+
+
 def _window(f: Figures, i: int) -> str:
     assert f.srf_hi is not None
     return (f"{format_quantity(float(f.srf_lo.value[i]), 'Hz')}.."
@@ -173,7 +204,11 @@ def corner_rules(mo: ModelSet, ocols: dict[str, Any], mc: ModelSet, ccols: dict[
         ok["corner_srf"] = (c.srf_lo.value >= o.srf_lo.value[0] * (1 - _EPS)) & \
             (c.srf_hi.value <= o.srf_hi.value[0] * (1 + _EPS))
     else:
-        ok["corner_z"] = c.z.value >= o.z.value[0] * (1 - _EPS)
+        assert c.l_low is not None and o.l_low is not None
+        assert c.dcr_hot is not None and o.dcr_hot is not None
+        ok["corner_l"] = c.l_low >= o.l_low[0] * (1 - _EPS)
+        ok["corner_dcr"] = (c.dcr_hot <= o.dcr_hot[0] * (1 + _EPS)) | \
+            ~np.isfinite(o.dcr_hot[0])
         ok["corner_srf"] = c.srf_lo.value >= o.srf_lo.value[0] * (1 - _EPS)
     if cond.temp is not None:
         ok["corner_temp"] = ~c.basis.unrated
@@ -189,7 +224,7 @@ def effect_lines(rules: CornerRules, bias: float | None, shown: NDArray[np.bool_
     lines.append("corners: the exact band extrema and SRF at every corner of each part's box, "
                  "the original's as the candidates', over the same band; a candidate passes "
                  "only if at its worst corner it is no worse than the original at its worst "
-                 "corner (rules corner_z, corner_srf)")
+                 "corner (rules " + ", ".join(rules.ok) + ")")
     exact = np.array([c.exact(i) for i in range(len(c.box))], dtype=bool)
     if (~exact & shown).any():
         lines.append(f"{int((~exact & shown).sum())} candidates on models the corner proof "

@@ -44,10 +44,13 @@ RULES: dict[str, str] = {
     "value": "value (capacitors: at the DC bias) within the window around the original's",
     "curve": "|Z| within the limit of the original's at every frequency of the band",
     "esr": "ESR at the original's SRF within the window of ratios",
-    "corner_z": "at its worst corner no worse than the original at the original's worst corner: "
-                "capacitors the largest |Z| over the band no higher, inductors the smallest |Z| "
-                "over the band no lower (corners: tolerance, temperature, aging, DC bias, "
-                "ESR/DCR vs temperature)",
+    "corner_z": "capacitors: the largest |Z| over the band at the worst corner no higher than "
+                "the original's at its worst corner (corners: tolerance, temperature, aging, "
+                "ESR vs temperature, at the DC bias)",
+    "corner_l": "inductors: L at the worst corner (tolerance low side) no lower than the "
+                "original's at its worst corner",
+    "corner_dcr": "inductors: DCR at the hot end of the temperature range no higher than the "
+                  "original's at its hot end",
     "corner_srf": "SRF over the box no worse than the original's over its box: capacitors the "
                   "SRF window (lowest..highest) inside the original's, inductors the lowest "
                   "zero-phase frequency no lower",
@@ -92,7 +95,8 @@ class Criteria:
         (see :func:`partsel.jobs.models.choose_models`).
     corners : bool
         Judge the original and every candidate at their worst corners too (rules
-        ``corner_z``, ``corner_srf`` and, with ``temp``, ``corner_temp``; see
+        ``corner_z`` or ``corner_l`` and ``corner_dcr``, ``corner_srf`` and, with ``temp``,
+        ``corner_temp``; see
         :mod:`partsel.jobs.alternates.corners`).
     temp : (float, float) or str, optional
         With ``corners``: temperature range [degC], or text '-40C..85C' (default 25 degC only).
