@@ -90,6 +90,9 @@ def test_nominal_pass_corner_fail_capacitor_table(cap_store, cli):
     assert f"{z_low:.3g} ohm" in note[0]
     assert "Original at its worst corner" in res.stdout
     assert "aging from 1 h after the last heat" in res.stderr
+    # the EIA-198 envelope and the aging rate are estimates: marked in the table and named
+    assert "est. *: a worst-corner figure rests on an estimate" in res.stderr
+    assert "estimated: capacitance vs temperature: the EIA-198 envelope" in res.stdout
     explained = cli("--store", cap_store, "alternates", "ORIG", *BAND, *CORNERS, "--explain")
     assert "corner_z" in explained.stdout and "LOW" in explained.stdout
 
@@ -136,6 +139,8 @@ def test_nominal_pass_corner_fail_inductor(make_store, cli):
     assert miss["corner_min_z_ohm"] == pytest.approx(abs(zl / (1 + 1j * w * cp * zl)), rel=1e-9)
     assert miss["corner_sides"] == "0--"
     assert miss["corner"].startswith("L low (tolerance -10 %)")
+    # catalog tolerance, copper's coefficient (a property of the metal): nothing estimated
+    assert miss["corner_estimates"] == [] and out["original_corner"]["corner_estimates"] == []
     table = cli("--store", store, "alternates", "ORIGL", "--band", "500kHz..10MHz",
                 "--corners", "--temp", "-40C..85C")
     assert "LOSSY" in table.stdout and "SHORT: corner_l" in table.stderr

@@ -156,6 +156,7 @@ def _table(res: Any, kind: str) -> str:
         else:
             cols += [Col("corner_l_h", "corner L", "H"), Col("corner_dcr_ohm", "hot DCR", "ohm"),
                      Col("corner_zero_phase_hz", "corner f(phase=0)", "Hz")]
+        cols.append(Col("corner_estimated", "est."))
     cols += [*_TAIL, Col("passes", "passes")]
     unit = "F" if kind == "capacitor" else "H"
     o = res.original
@@ -169,12 +170,15 @@ def _table(res: Any, kind: str) -> str:
             f"{o.get('lifecycle') or 'active'}")
 
     def flat(i: int, c: Any, extra: dict[str, Any]) -> dict[str, Any]:
+        est = "*" if c.corner and c.corner["corner_estimates"] else ""
         return {**c.part, "rank": i, "value_eff": c.value_eff, "bias_source": c.bias_source,
                 "distance_db": c.distance_db, "max_diff_db": c.max_diff_db,
-                **(c.corner or {}), **extra}
+                **(c.corner or {}), "corner_estimated": est, **extra}
     rows = [flat(i, c, {"passes": _passes(c)}) for i, c in enumerate(res.candidates, 1)]
     if corner:
         head += "\n" + _original_corner(res, kind)
+        if res.original_corner["corner_estimates"]:
+            head += "\n  estimated: " + "; ".join(res.original_corner["corner_estimates"])
     out = [head, "", table(rows, cols) if rows else "(no candidate passes every rule)"]
     if res.near_misses:
         miss_cols = [c for c in cols if c.key != "passes"]
@@ -214,6 +218,11 @@ def _notes(res: Any, fmt: str) -> None:
     if fmt == "table":
         for c in res.cautions:
             note(c)
+        if any(c.corner and c.corner["corner_estimates"]
+               for c in res.candidates + res.near_misses):
+            note("est. *: a worst-corner figure rests on an estimate (a rule of thumb, the "
+                 "EIA-198 envelope, the default tolerance): each is named under "
+                 "corner_estimates in --format json")
 
 
 @app.command("bom")

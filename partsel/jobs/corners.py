@@ -191,8 +191,9 @@ class Basis:
                        (1.0 + self.tol_hi) * self.l_hi)
         return Box(c_lo, c_hi, self.r_lo, self.r_hi, one, one)
 
-    def estimated(self, i: int) -> list[str]:
-        """The estimates behind part ``i``'s ranges."""
+    def estimated(self, i: int, kind: str = "capacitor") -> list[str]:
+        """The estimates behind part ``i``'s ranges (an inductor's DCR follows copper's
+        coefficient, a property of the metal: not counted as an estimate)."""
         out = []
         if self.tol_src[i] == 2:
             out.append(f"tolerance ±{100 * DEFAULT_TOLERANCE:g} % (none in the catalog)")
@@ -203,7 +204,7 @@ class Basis:
             out.append("temp_curve held beyond its last point")
         if self.age_src[i] == 1 and self.age[i] < 1:
             out.append(f"aging {self.age_rate[i]:g} %/decade-hour (rule of thumb)")
-        if self.r_src[i] == 2:
+        if self.r_src[i] == 2 and kind == "capacitor":
             out.append("ESR vs temperature: rule of thumb by technology")
         if self.l_src[i] == 2:
             out.append("L at the current: estimated from Isat and its drop")

@@ -113,7 +113,7 @@ def row_fields(basis: Basis, box: engine.Box, worst: engine.Worst | None, kind: 
     return {"corner": basis.side_text(i, sides, kind), "corner_sides": sides,
             "corner_c_ratio": float(worst.c_ratio[i]), "corner_r_ratio": float(worst.r_ratio[i]),
             "corner_l_ratio": float(worst.l_ratio[i]),
-            "corner_exact": bool(worst.proven[i]), "corner_estimates": basis.estimated(i)}
+            "corner_exact": bool(worst.proven[i]), "corner_estimates": basis.estimated(i, kind)}
 
 
 def _lost_text(search: Any, basis: Basis, box: engine.Box, worst: dict[str, engine.Worst],

@@ -107,7 +107,7 @@ class Figures:
             out["corner_dcr_ohm"] = float(self.dcr_hot[i])
         out["corner_srf"] = self.where(self.srf_lo, i)
         out["corner_exact"] = self.exact(i)
-        out["corner_estimates"] = self.basis.estimated(i)
+        out["corner_estimates"] = self.basis.estimated(i, self.kind)
         return out
 
 
@@ -233,7 +233,7 @@ def effect_lines(rules: CornerRules, bias: float | None, shown: NDArray[np.bool_
     if not rules.original.exact(0):
         lines.append("the original's model is not covered by the corner proof: its box "
                      "corners evaluated, the interior not proven")
-    est = rules.original.basis.estimated(0)
+    est = rules.original.basis.estimated(0, kind)
     if est:
         lines.append("original's estimates: " + "; ".join(est))
     return lines
