@@ -122,6 +122,8 @@ def alternates_row(rank: int, cand: Any, kind: str) -> dict[str, Any]:
         if cand.esr_ratio is not None:
             out["esr_ratio"] = cand.esr_ratio
     out.update(model=cand.model, model_source=cand.model_source)
+    if cand.corner is not None:
+        out.update(cand.corner)
     out["rules"] = [{"rule": r.rule, "passed": r.passed, "detail": r.detail}
                     for r in cand.rules]
     return out
@@ -140,6 +142,9 @@ def alternates_json(res: Any, rows: list[dict[str, Any]],
         "rules_checked": res.rules, "skipped": res.skipped, "effects": res.effects,
         "notes": res.notes, "cautions": res.cautions,
         "passing": res.passing, "pass_form_and_fit": res.fit, "rows": rows}
+    if res.original_corner is not None:
+        payload["corner_conditions"] = res.conditions
+        payload["original_corner"] = res.original_corner
     if misses is not None:
         payload["near_misses"] = misses
     return payload
@@ -279,6 +284,12 @@ GLOSSARY: dict[str, str] = {
     "figure_low": "lowest figure among those builds (Hz for zero_phase, ratio, Q)",
     "figure_high": "highest figure among those builds",
     "limit": "the check's limit (the target frequency in Hz, an SRF ratio, a Q, margin 1)",
+    "corner_srf_window_hz": "lowest and highest SRF over the part's box [Hz] (alternates)",
+    "corner_srf": "the corner that gives the lowest SRF, in words (alternates)",
+    "corner_l_h": "inductance at the worst corner (low end of the box) [H] (alternates)",
+    "corner_dcr_ohm": "DCR at the hot end of the temperature range [ohm] (alternates)",
+    "original_corner": "the original's worst-case figures over its box (alternates)",
+    "corner_conditions": "the worst case asked for: temperature range and life, in words",
     "original": "the part being replaced",
     "original_value_at_bias_f": "the original's capacitance at the DC bias [F]",
     "original_bias_source": "where the original's DC-bias loss came from",

@@ -30,6 +30,8 @@ COMMANDS = [
     ["show", CAP], ["show", IND], ["show", VENDOR],
     ["curve", CAP, "--band", "1MHz..10MHz"],
     ["alternates", CAP, *BAND, "--explain", "--esr-window", "0.5..2"], ["alternates", IND],
+    ["alternates", CAP, "--corners", "--temp", "-40C..85C", "--age", "10y", "--explain"],
+    ["alternates", IND, "--corners", "--temp", "-40C..85C", "--explain"],
     ["bom", str(DEMO / "parts_list.csv")],
     ["inductive", IND, "--inductive-to", "10MHz", "--current", "0.1A"],
     ["inductive", IND, "--inductive-to", "10MHz", "--current", "0.3A", "--min-q", "5@1MHz",

@@ -74,18 +74,34 @@ def alternates_cmd(
     model: str = opt.model_option(),
     limit: int = opt.limit_option(10),
     fmt: str = opt.format_option(),
+    corners: bool = typer.Option(False, "--corners",
+                                 help="Also judge the original and every candidate at their "
+                                      "worst corners (tolerance both sides, temperature "
+                                      "--temp, aging --age, ESR/DCR vs temperature, the DC "
+                                      "bias), exact over the band: capacitors' largest |Z| no "
+                                      "higher and SRF window inside the original's; inductors' "
+                                      "lowest L and SRF no lower, hottest DCR no higher."),
+    temp: str = typer.Option(None, "--temp", metavar="T1..T2",
+                             help="With --corners: temperature range, e.g. -40C..85C "
+                                  "(default 25 degC only); candidates must be rated over it."),
+    age: str = typer.Option(None, "--age", metavar="LIFE",
+                            help="With --corners: class II aging after this life, e.g. 10y "
+                                 "or 1000h (default new)."),
 ) -> None:
     """Substitutes for a part: same form, fit and function, ranked by impedance.
 
     Ranked by the curve distance: the RMS over the band of 20*log10(|Z_cand|/|Z_orig|) on a
     log frequency axis (distance_db), then price, then stock. Every row says which rules it
-    passes.
+    passes. With --corners the nominal rules still hold and the corner rules are added; the
+    ranking stays the nominal curve distance.
 
     Examples:
 
       partsel alternates <part number> --explain
 
       partsel alternates <part number> --working-voltage 3.3V --esr-window 0.5..2 --within 3dB
+
+      partsel alternates <part number> --corners --temp -40C..85C --age 10y --explain
     """
     from partsel import units
     from partsel.jobs.alternates import Criteria, alternates
@@ -104,7 +120,8 @@ def alternates_cmd(
         working_voltage=opt.quantity(working_voltage, "V", "--working-voltage"),
         srf_above=opt.quantity(srf_above, "Hz", "--srf-above"),
         lifecycles=tuple(s.lower() for s in opt.split_list(lifecycle)) or DEFAULT_LIFECYCLES,
-        in_stock=in_stock, explain=explain, limit=limit, model=model)
+        in_stock=in_stock, explain=explain, limit=limit, model=model,
+        corners=corners, temp=temp, age=age)
     with open_store_for(ctx) as store:
         res = alternates(store, part, maker, crit)
     kind = res.original["kind"]
@@ -131,6 +148,15 @@ def _table(res: Any, kind: str) -> str:
     if kind == "capacitor" and any(c.bias_source != "none"
                                    for c in res.candidates + res.near_misses):
         cols[4:4] = [Col("value_eff", "C at bias", "F"), Col("bias_source", "from")]
+    corner = res.original_corner is not None
+    if corner:
+        if kind == "capacitor":
+            cols += [Col("corner_max_z_ohm", "corner max |Z|", "ohm"),
+                     Col("corner", "worst corner")]
+        else:
+            cols += [Col("corner_l_h", "corner L", "H"), Col("corner_dcr_ohm", "hot DCR", "ohm"),
+                     Col("corner_zero_phase_hz", "corner f(phase=0)", "Hz")]
+        cols.append(Col("corner_estimated", "est."))
     cols += [*_TAIL, Col("passes", "passes")]
     unit = "F" if kind == "capacitor" else "H"
     o = res.original
@@ -144,9 +170,15 @@ def _table(res: Any, kind: str) -> str:
             f"{o.get('lifecycle') or 'active'}")
 
     def flat(i: int, c: Any, extra: dict[str, Any]) -> dict[str, Any]:
+        est = "*" if c.corner and c.corner["corner_estimates"] else ""
         return {**c.part, "rank": i, "value_eff": c.value_eff, "bias_source": c.bias_source,
-                "distance_db": c.distance_db, "max_diff_db": c.max_diff_db, **extra}
+                "distance_db": c.distance_db, "max_diff_db": c.max_diff_db,
+                **(c.corner or {}), "corner_estimated": est, **extra}
     rows = [flat(i, c, {"passes": _passes(c)}) for i, c in enumerate(res.candidates, 1)]
+    if corner:
+        head += "\n" + _original_corner(res, kind)
+        if res.original_corner["corner_estimates"]:
+            head += "\n  estimated: " + "; ".join(res.original_corner["corner_estimates"])
     out = [head, "", table(rows, cols) if rows else "(no candidate passes every rule)"]
     if res.near_misses:
         miss_cols = [c for c in cols if c.key != "passes"]
@@ -155,6 +187,23 @@ def _table(res: Any, kind: str) -> str:
                   for i, c in enumerate(res.near_misses, 1)]
         out += ["", "Near misses (one rule failed):", table(misses, miss_cols)]
     return "\n".join(out)
+
+
+def _original_corner(res: Any, kind: str) -> str:
+    """The original's worst case in one line (alternates --corners)."""
+    from partsel.units import format_quantity as fq
+    oc = res.original_corner
+    if kind == "capacitor":
+        lo, hi = oc["corner_srf_window_hz"]
+        return (f"Original at its worst corner ({res.conditions}): max |Z| "
+                f"{fq(oc['corner_max_z_ohm'], 'ohm')} at {fq(oc['corner_f_max_hz'], 'Hz')} "
+                f"({oc['corner']}); SRF window {fq(lo, 'Hz')}..{fq(hi, 'Hz')}")
+    dcr = oc["corner_dcr_ohm"]
+    return (f"Original at its worst corner ({res.conditions}): L {fq(oc['corner_l_h'], 'H')}; "
+            f"DCR at the hot end {fq(dcr, 'ohm') if dcr == dcr else 'unknown'}; lowest "
+            f"zero-phase frequency {fq(oc['corner_zero_phase_hz'], 'Hz')} ({oc['corner_srf']}); "
+            f"min |Z| over the band {fq(oc['corner_min_z_ohm'], 'ohm')} at "
+            f"{fq(oc['corner_f_min_hz'], 'Hz')} ({oc['corner']})")
 
 
 def _notes(res: Any, fmt: str) -> None:
@@ -169,6 +218,11 @@ def _notes(res: Any, fmt: str) -> None:
     if fmt == "table":
         for c in res.cautions:
             note(c)
+        if any(c.corner and c.corner["corner_estimates"]
+               for c in res.candidates + res.near_misses):
+            note("est. *: a worst-corner figure rests on an estimate (a rule of thumb, the "
+                 "EIA-198 envelope, the default tolerance): each is named under "
+                 "corner_estimates in --format json")
 
 
 @app.command("bom")

@@ -200,6 +200,20 @@ def zero_phase(models: ModelSet, box: Box) -> Worst:
     return w
 
 
+def zero_phase_max(models: ModelSet, box: Box) -> Worst:
+    """Highest zero-phase frequency over the box: with the lowest (:func:`zero_phase`), the
+    window a capacitor's SRF can take. Exact for ``rlc`` and ``rlc-skin``, whose zero phase
+    1/(2 pi sqrt(L C c)) falls with c and does not depend on r (the loss is real): the highest
+    sits at c_lo. (An inductor's is concave in 1/l: its highest may lie inside the box, so it
+    is not flagged proven.)"""
+    w = Worst.start(len(models), -np.inf)
+    for c, r, m in box.corners():
+        f0 = layered(models, c, r, m).zero_phase()
+        w.offer(f0, f0, c, r, m, ~(f0 <= w.value))
+    w.proven = _proven(models, ("rlc", "rlc-skin"), lcp_ok=False)
+    return w
+
+
 def q_at(models: ModelSet, box: Box, f: NDArray[np.float64]) -> Worst:
     """Lowest Q = Im Z / Re Z of each part at its frequency ``f[i]`` over the box (exact for
     ``lcp`` without R_p: module notes)."""

@@ -124,6 +124,36 @@ def _codes(values: Any) -> tuple[NDArray[np.intp], list[Any]]:
     return codes.astype(np.intp), list(uniques)
 
 
+def _pairs(first: Any, second: Any) -> list[tuple[NDArray[np.bool_], Any, Any]]:
+    """(mask, first value, second value) of every distinct pair in two columns (None for an
+    unknown cell), factorized column by column: no text per part is built."""
+    a, ua = _codes(first)
+    b, ub = _codes(second)
+    m = len(ub) + 1
+    keys, uk = pd.factorize((a.astype(np.int64) + 1) * m + (b + 1), sort=False)
+    out = []
+    for k, key in enumerate(uk):
+        i, j = int(key) // m - 1, int(key) % m - 1
+        out.append((keys == k, ua[i] if i >= 0 else None, ub[j] if j >= 0 else None))
+    return out
+
+
+def _curves(texts: Any, n: int) -> tuple[NDArray[np.bool_], NDArray[np.float64],
+                                         NDArray[np.float64]]:
+    """:func:`curve_arrays` of a column, read only where a part has a curve (most have
+    none): the same (has, x, ratio) arrays."""
+    if texts is None:
+        return curve_arrays([None] * n)
+    arr = np.asarray(texts, dtype=object)
+    given = np.flatnonzero(pd.notna(arr) & (arr != ""))
+    h, kx, ky = curve_arrays(list(arr[given]))
+    has = np.zeros(n, dtype=bool)
+    x = np.full((n, kx.shape[1]), np.nan)
+    r = np.full_like(x, np.nan)
+    has[given], x[given], r[given] = h, kx, ky
+    return has, x, r
+
+
 @dataclass
 class Basis:
     """Per part, the range of each effect and where it came from (index into the *_SOURCES)."""
@@ -162,8 +192,8 @@ class Basis:
         return Box(c_lo, c_hi, self.r_lo, self.r_hi, one, one)
 
     def estimated(self, i: int, kind: str = "capacitor") -> list[str]:
-        """The estimates behind part ``i``'s ranges (an inductor's DCR follows copper, a
-        standard figure, not an estimate)."""
+        """The estimates behind part ``i``'s ranges (an inductor's DCR follows copper's
+        coefficient, a property of the metal: not counted as an estimate)."""
         out = []
         if self.tol_src[i] == 2:
             out.append(f"tolerance ±{100 * DEFAULT_TOLERANCE:g} % (none in the catalog)")
@@ -246,16 +276,13 @@ def capacitor_basis(cols: dict[str, Any], cond: Conditions, models: ModelSet) ->
     beyond = np.zeros(n, dtype=bool)
     tech = np.asarray(cols.get("technology", np.full(n, None)), dtype=object)
     diel = np.asarray(cols.get("dielectric", np.full(n, None)), dtype=object)
-    pair, uniques = _codes(np.char.add(tech.astype(str), np.char.add("|", diel.astype(str))))
-    for k, key in enumerate(uniques):
-        t, d = key.split("|", 1)
-        if t != "mlcc" or d in ("None", "nan", ""):
+    for sel, t, d in _pairs(tech, diel):
+        if t != "mlcc" or d is None or d in ("nan", ""):
             continue
         try:
             code = eia198.decode(d)
         except UnitError:
             continue
-        sel = pair == k
         if cond.temp is not None:
             env = eia198.temperature_envelope(code.code, t_lo, t_hi)
             temp_lo[sel], temp_hi[sel] = env.low, env.high
@@ -269,7 +296,7 @@ def capacitor_basis(cols: dict[str, Any], cond: Conditions, models: ModelSet) ->
             rate[sel], age_src[sel] = k_rate, 1
     if cond.temp is not None:
         temp_src[temp_src == 0] = 3
-        has, kx, ky = curve_arrays(cols.get("temp_curve", [None] * n))
+        has, kx, ky = _curves(cols.get("temp_curve"), n)
         if has.any():
             lo, hi, wlo, whi = effects.curve_range(t_lo, t_hi, kx[has], ky[has])
             temp_lo[has], temp_hi[has], at_lo[has], at_hi[has] = lo, hi, wlo, whi
@@ -300,7 +327,7 @@ def _esr_ranges(cols: dict[str, Any], cond: Conditions, tech: NDArray, n: int
         sel = codes == k
         a, b, wa, wb = effects.curve_range(t_lo, t_hi, rule[0][None, :], rule[1][None, :])
         lo[sel], hi[sel], at_lo[sel], at_hi[sel], src[sel] = a[0], b[0], wa[0], wb[0], 2
-    has, kx, ky = curve_arrays(cols.get("esr_temp_curve", [None] * n))
+    has, kx, ky = _curves(cols.get("esr_temp_curve"), n)
     if has.any():
         lo[has], hi[has], at_lo[has], at_hi[has] = effects.curve_range(t_lo, t_hi, kx[has],
                                                                        ky[has])
@@ -328,7 +355,7 @@ def inductor_basis(cols: dict[str, Any], cond: Conditions, models: ModelSet,
         known = np.isfinite(est_hi)
         l_lo[known], l_hi[known], l_src[known] = est_hi[known], est_lo[known], 2
         l_src[~known] = 3
-        has, kx, ky = curve_arrays(cols.get("l_curve", [None] * n))
+        has, kx, ky = _curves(cols.get("l_curve"), n)
         if has.any():
             l_lo[has] = effects.curve_at(np.full(int(has.sum()), i_hi), kx[has], ky[has])
             l_hi[has] = effects.curve_at(np.full(int(has.sum()), i_lo), kx[has], ky[has])

@@ -100,7 +100,8 @@ def curve_ratio_sql(voltage_param: str = "?") -> tuple[str, str]:
 
 
 def survivors(store: Store, kind: str, exclude_id: int, value_range: tuple[float, float],
-              rules: Sequence[Rule], bias: float | None, explain: bool) -> dict[str, NDArray]:
+              rules: Sequence[Rule], bias: float | None, explain: bool,
+              extra: Sequence[str] = ()) -> dict[str, NDArray]:
     """One query: parts of ``kind`` (but ``exclude_id``) with a value in ``value_range`` that
     pass every rule (with ``explain``: fail at most one), ordered by id.
 
@@ -108,7 +109,8 @@ def survivors(store: Store, kind: str, exclude_id: int, value_range: tuple[float
     rated_voltage; with a ``bias`` also technology, dielectric, case), ``nrnd`` (whether the
     part is not recommended for new designs, for the ranking), ``curve_ratio`` (C/C0 at
     the bias from the part's own curve, NaN without one), ``curve_last_v`` (its last voltage)
-    and a boolean ``r_<name>`` per rule.
+    and a boolean ``r_<name>`` per rule; ``extra`` columns besides (the worst case's, e.g.
+    tolerance sides and effect curves).
     """
     rule_cols = "".join(f", coalesce({_rule_sql(tests)}, false) AS r_{name}"
                         for name, tests in rules)
@@ -117,6 +119,7 @@ def survivors(store: Store, kind: str, exclude_id: int, value_range: tuple[float
     else:
         outer = " AND ".join(f"r_{name}" for name, _ in rules) or "TRUE"
     fetch = list(_SURVIVOR) + (list(_BIAS) if bias is not None else [])
+    fetch += [c for c in extra if c not in fetch]
     k_sql, ratio_sql = curve_ratio_sql() if bias is not None else ("NULL", "NULL")
     last_sql = "bias_v[len(bias_v)]" if bias is not None else "NULL"
     sql = (f"SELECT {', '.join(_select(c) for c in fetch)}, "
@@ -130,6 +133,12 @@ def survivors(store: Store, kind: str, exclude_id: int, value_range: tuple[float
     params = [*bias_params, *(t.value for _, tests in rules for t in tests), *bias_params,
               kind, int(exclude_id), value_range[0], value_range[1]]
     return store.arrays(sql, params)
+
+
+def columns_of(store: Store, part_id: int, columns: Sequence[str]) -> dict[str, NDArray]:
+    """The given columns of one part as length-1 arrays, fetched as :func:`survivors` does."""
+    return store.arrays(f"SELECT {', '.join(_select(c) for c in columns)} FROM parts "
+                        "WHERE id = ?", [int(part_id)])
 
 
 def cell(name: str, v: Any) -> Any:

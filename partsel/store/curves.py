@@ -66,6 +66,8 @@ def parse_curve(column: str, text: str) -> str:
                            f"'{example}')")
     if unit == "A" and xs[0] < 0:
         raise CatalogError(f"{column} currents must be 0 A or more")
+    if unit == "degC" and xs[0] < -273.15:
+        raise CatalogError(f"{column} temperature {xs[0]:g} degC is below absolute zero")
     return ", ".join(f"{x!r}{suffix}:{r!r}" for x, r in points)
 
 

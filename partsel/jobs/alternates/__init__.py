@@ -35,6 +35,16 @@ Function
     ``esr``: capacitors, when a window is given: R(f0) = esr + tan_delta/(2 pi f0 C) of the
     candidate over the original's, at the original's SRF f0 (where ESR sets |Z|).
 
+Corners (``corners``, with a temperature range ``temp`` and a life ``age``)
+    The original and every candidate over their boxes of tolerance (both sides),
+    temperature, class II aging and ESR/DCR vs temperature, at the DC bias, exact per corner
+    (:mod:`partsel.jobs.alternates.corners`): ``corner_z`` capacitors' largest |Z| over the
+    band no higher than the original's at its worst corner; ``corner_l`` and ``corner_dcr``
+    inductors' L at the low end no lower and DCR at the hot end no higher; ``corner_srf`` a
+    capacitor's SRF window inside the original's, an inductor's lowest zero-phase frequency
+    no lower; ``corner_temp`` rated over the asked range. A candidate that passes every
+    nominal rule and fails a corner rule is named in the notes with that corner.
+
 A rule whose reference the original does not state (no height, no tolerance, ...) is skipped and
 listed as skipped. A candidate that does not state a figure the rule needs fails that rule.
 

@@ -44,6 +44,17 @@ RULES: dict[str, str] = {
     "value": "value (capacitors: at the DC bias) within the window around the original's",
     "curve": "|Z| within the limit of the original's at every frequency of the band",
     "esr": "ESR at the original's SRF within the window of ratios",
+    "corner_z": "capacitors: the largest |Z| over the band at the worst corner no higher than "
+                "the original's at its worst corner (corners: tolerance, temperature, aging, "
+                "ESR vs temperature, at the DC bias)",
+    "corner_l": "inductors: L at the worst corner (tolerance low side) no lower than the "
+                "original's at its worst corner",
+    "corner_dcr": "inductors: DCR at the hot end of the temperature range no higher than the "
+                  "original's at its hot end",
+    "corner_srf": "SRF over the box no worse than the original's over its box: capacitors the "
+                  "SRF window (lowest..highest) inside the original's, inductors the lowest "
+                  "zero-phase frequency no lower",
+    "corner_temp": "operating range covers the asked temperature range",
 }
 
 
@@ -82,6 +93,15 @@ class Criteria:
     model : str
         Which model of each part the function rules use: catalog, vendor, measured or best
         (see :func:`partsel.jobs.models.choose_models`).
+    corners : bool
+        Judge the original and every candidate at their worst corners too (rules
+        ``corner_z`` or ``corner_l`` and ``corner_dcr``, ``corner_srf`` and, with ``temp``,
+        ``corner_temp``; see
+        :mod:`partsel.jobs.alternates.corners`).
+    temp : (float, float) or str, optional
+        With ``corners``: temperature range [degC], or text '-40C..85C' (default 25 degC only).
+    age : float or str, optional
+        With ``corners``: life [h], or text '10y' (default new parts).
     """
 
     cases: tuple[str, ...] = ()
@@ -97,6 +117,9 @@ class Criteria:
     explain: bool = False
     limit: int = 10
     model: str = "best"
+    corners: bool = False
+    temp: Any = None
+    age: Any = None
 
     def validate(self, kind: str) -> None:
         from partsel.jobs.models import check_choice
@@ -130,6 +153,16 @@ class Criteria:
                              f"{', '.join(LIFECYCLES)}")
         if self.limit < 0:
             raise QueryError("the limit must be 0 (all) or a positive count")
+        if (self.temp is not None or self.age is not None) and not self.corners:
+            raise QueryError("a temperature range (temp) or a life (age) applies to the worst "
+                             "case: ask for the corners too", params=("temp", "age"))
+        if self.corners:
+            self.conditions()
+
+    def conditions(self) -> Any:
+        """The worst case asked for (:class:`partsel.jobs.corners.Conditions`)."""
+        from partsel.jobs.corners import Conditions
+        return Conditions.read(self.temp, self.age)
 
 
 _NAMES = {"bias": "the DC bias", "working_voltage": "the working voltage",
@@ -157,6 +190,7 @@ class Candidate:
     rules: list[RuleResult]
     model: str = "catalog rlc"      # the model the function rules used, e.g. "vendor netlist"
     model_source: str = "catalog"
+    corner: dict[str, Any] | None = None   # the worst-case fields (corners asked)
 
     @property
     def failed(self) -> list[RuleResult]:
@@ -182,3 +216,5 @@ class AlternatesResult:
                   "nrnd, then price, then stock")
     bias: float | None = None            # DC bias applied to capacitors [V]
     original_bias_source: str = "none"   # one of partsel.jobs.models.BIAS_SOURCES
+    original_corner: dict[str, Any] | None = None   # the original's worst case (corners)
+    conditions: str | None = None        # the worst case asked for, in words (corners)

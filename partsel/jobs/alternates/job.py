@@ -12,6 +12,8 @@ from numpy.typing import NDArray
 from partsel.derating import derating
 from partsel.engine.models import ModelSet
 from partsel.errors import QueryError
+from partsel.jobs.alternates.corners import columns as corner_columns
+from partsel.jobs.alternates.corners import corner_rules, effect_lines
 from partsel.jobs.alternates.criteria import (
     _EPS,
     _RATIO_HIGH,
@@ -91,11 +93,14 @@ class _Scores:
     worst: NDArray[np.float64]
     f_worst: NDArray[np.float64]
     chosen: Chosen
+    corners: Any = None       # corner_rules.CornerRules with corners asked
+    corner_fails: NDArray[np.int_] | None = None
 
 
 def _function_rules(store: Store, a: dict[str, NDArray], orig: _Original, criteria: Criteria,
                     bias: float | None, band: tuple[float, float], is_cap: bool,
-                    fails: NDArray[np.int_], effects: list[str]) -> _Scores:
+                    fails: NDArray[np.int_], effects: list[str],
+                    ocols: dict[str, NDArray] | None = None) -> _Scores:
     """Value, ESR window and curve of every survivor; ``fails`` counts their failures too. The
     costly curve is computed only where it can still matter."""
     n = len(a["id"])
@@ -129,6 +134,8 @@ def _function_rules(store: Store, a: dict[str, NDArray], orig: _Original, criter
     for passed in ok.values():
         fails += ~passed
     rms, worst, f_worst = np.full(n, np.inf), np.full(n, np.inf), np.full(n, np.nan)
+    # the distance is needed where the nominal rules leave a candidate or a near miss (the
+    # corner rules come after, so that a nominal pass that fails at a corner is named)
     need = np.flatnonzero(fails <= (1 if criteria.explain else 0))
     rms[need], worst[need], f_worst[need] = distances(mo, mc.take(need), band)
     effects.append(f"curve distance: RMS of 20 log10(|Z_cand|/|Z_orig|) over the band, "
@@ -137,7 +144,17 @@ def _function_rules(store: Store, a: dict[str, NDArray], orig: _Original, criter
     if criteria.within_db is not None:
         ok["curve"] = worst <= criteria.within_db + _EPS
         fails += ~ok["curve"]
-    return _Scores(src, v_eff, dev, ok, esr_ratio, f0, rms, worst, f_worst, chosen)
+    rules, corner_fails = None, None
+    if criteria.corners:
+        rules = corner_rules(mo, ocols or {}, mc, a, "capacitor" if is_cap else "inductor",
+                             criteria.conditions(), band)
+        corner_fails = np.zeros(n, dtype=int)
+        for name, passed in rules.ok.items():
+            ok[name] = passed
+            corner_fails += ~passed
+        fails += corner_fails
+    return _Scores(src, v_eff, dev, ok, esr_ratio, f0, rms, worst, f_worst, chosen, rules,
+                   corner_fails)
 
 
 def _describe(c: dict[str, Any], i: int, rules: list[FormFitRule],
@@ -164,10 +181,16 @@ def _describe(c: dict[str, Any], i: int, rules: list[FormFitRule],
             "curve", bool(s.ok["curve"][i]),
             f"largest |Z| difference {s.worst[i]:.2f} dB at {q(float(s.f_worst[i]), 'Hz')} "
             f"{'<=' if s.ok['curve'][i] else '>'} {criteria.within_db:g} dB"))
+    corner = None
+    if s.corners is not None:
+        results += [RuleResult(name, bool(s.ok[name][i]), text)
+                    for name, text in s.corners.details(i).items()]
+        corner = s.corners.cands.fields(i)
     return Candidate(c, float(s.rms[i]), float(s.worst[i]), float(s.f_worst[i]),
                      float(s.value_eff[i]), BIAS_SOURCES[int(s.source[i])],
                      None if s.esr_ratio is None else float(s.esr_ratio[i]), results,
-                     model=s.chosen.labels()[i], model_source=str(s.chosen.source[i]))
+                     model=s.chosen.labels()[i], model_source=str(s.chosen.source[i]),
+                     corner=corner)
 
 
 def _ranked(a: dict[str, NDArray], rms: NDArray, sel: NDArray[np.bool_]) -> list[int]:
@@ -236,14 +259,17 @@ def alternates_for(store: Store, original: dict[str, Any],
     lo, hi = orig.value_eff * (1 - orig.window), orig.value_eff * (1 + orig.window)
     if bias is not None:
         lo, hi = lo / _RATIO_HIGH, hi / _RATIO_LOW
+    extra = corner_columns(o["kind"]) if criteria.corners else ()
     a = queries.survivors(store, o["kind"], int(o["id"]), (lo * (1 - _EPS), hi * (1 + _EPS)),
-                          [(r.name, r.tests) for r in rules], bias, criteria.explain)
+                          [(r.name, r.tests) for r in rules], bias, criteria.explain, extra)
+    ocols = queries.columns_of(store, int(o["id"]), extra) if criteria.corners else None
     sql_ok = {r.name: a[f"r_{r.name}"].astype(bool) for r in rules}
     fails = np.zeros(len(a["id"]), dtype=int)
     for ok in sql_ok.values():
         fails += ~ok
     fit = int(np.count_nonzero(fails == 0))
-    scores = _function_rules(store, a, orig, criteria, bias, band, is_cap, fails, effects)
+    scores = _function_rules(store, a, orig, criteria, bias, band, is_cap, fails, effects,
+                             ocols)
     if not np.all(scores.chosen.source == "catalog"):
         effects.append("candidates " + scores.chosen.summary())
     if criteria.within_db is None:
@@ -263,7 +289,44 @@ def alternates_for(store: Store, original: dict[str, Any],
     cautions = [safety.caution_text()] if any(
         safety.needs_caution(p.get("safety_class"), p.get("rated_voltage")) for p in shown) else []
     names = [r.name for r in rules] + list(scores.ok)
+    notes = _original_notes(o, criteria) + _nrnd_notes(cands, misses)
+    original_corner = None
+    if scores.corners is not None:
+        assert scores.corner_fails is not None
+        effects += effect_lines(scores.corners, bias, fails <= 1)
+        notes += _corner_notes(store, a, scores, fails)
+        original_corner = scores.corners.original.fields(0)
     return AlternatesResult(o, orig.value_eff, band, cands, misses, len(passing), fit,
-                            len(near), names, skipped, effects,
-                            _original_notes(o, criteria) + _nrnd_notes(cands, misses),
-                            cautions, bias=bias, original_bias_source=BIAS_SOURCES[orig.source])
+                            len(near), names, skipped, effects, notes,
+                            cautions, bias=bias, original_bias_source=BIAS_SOURCES[orig.source],
+                            original_corner=original_corner,
+                            conditions=criteria.conditions().text() if criteria.corners
+                            else None)
+
+
+_EXAMPLES = 3
+
+
+def _corner_notes(store: Store, a: dict[str, NDArray], s: _Scores,
+                  fails: NDArray[np.int_]) -> list[str]:
+    """The original's own standing, and the candidates that pass every nominal rule but fail
+    at a corner, with that corner (the best of them by curve distance)."""
+    assert s.corners is not None and s.corner_fails is not None
+    out = []
+    o = s.corners.original
+    if o.basis.unrated[0]:
+        out.append("the original itself is rated for a narrower temperature range than asked")
+    lost = fails - s.corner_fails == 0
+    lost &= s.corner_fails > 0
+    if lost.any():
+        idx = _ranked(a, s.rms, lost)
+        pns = queries.rows_by_id(store, [int(a["id"][i]) for i in idx[:_EXAMPLES]])
+        bits = []
+        for i in idx[:_EXAMPLES]:
+            why = s.corners.details(i)
+            failed = [name for name in s.corners.ok if not s.corners.ok[name][i]]
+            bits.append(f"{pns[int(a['id'][i])]['part_number']}: "
+                        + "; ".join(f"{name}: {why[name]}" for name in failed))
+        out.append(f"{int(lost.sum())} candidate(s) pass every nominal rule but fail at a "
+                   "corner, e.g. " + " | ".join(bits))
+    return out
