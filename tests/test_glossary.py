@@ -37,6 +37,8 @@ COMMANDS = [
     ["inductive", IND, "--inductive-to", "10MHz", "--current", "0.3A", "--min-q", "5@1MHz",
      "--corners", "--temp", "-40C..85C", "--yield", "200"],
     ["decouple", *RAIL], ["decouple", *RAIL, "--check", str(DEMO / "decouple_check.csv")],
+    ["decouple", *RAIL, "--check", str(DEMO / "decouple_check.csv"), "--corners", "--temp",
+     "-40C..85C", "--age", "10y", "--yield", "200"],
     ["decouple", *RAIL, "--plane-area", "100cm2", "--plane-gap", "0.1mm", "--via-length",
      "0.5mm", "--package-l", "20pH", "--die-c", "300nF"],
     ["sweep", "list", CAP], ["model", "list"], ["model", "show", VENDOR], ["check"],
