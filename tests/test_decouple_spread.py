@@ -217,7 +217,7 @@ def test_wilson_interval_worked_values():
 
 
 @pytest.mark.parametrize("args, words", [
-    (["--yield", "0"], "between 1 and"),
+    (["--yield", "0"], "--yield must lie between 1 and"),
     (["--yield", "10", "--distribution", "lognormal"], "unknown distribution"),
     (["--temp", "-40C..85C"], "--temp applies to --corners or --yield"),
     (["--corners", "--seed", "3"], "--seed applies to --yield"),

@@ -11,7 +11,7 @@ import typer
 from partsel import units
 from partsel.catalog import DEFAULT_LIFECYCLES
 from partsel.cli import options as opt
-from partsel.cli.app import app, echo, note, open_store_for, written
+from partsel.cli.app import app, echo, flag_names, note, open_store_for, written
 from partsel.errors import QueryError
 from partsel.render import Col
 
@@ -430,6 +430,7 @@ def decouple_cmd(
     spec = rail_spec(rail, target, ripple, step, band,
                       (mount_l, plane, plane_l, vrm_r, vrm_l, geometry, board_file),
                       worst_case, margin, noise, rise, mask_file)
+    flag_names(builds="--yield")
     spec.spread = spread_spec(corners, temp, age, builds, seed, distribution)
     with open_store_for(ctx) as store:
         if check_file is not None:

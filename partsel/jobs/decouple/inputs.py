@@ -223,8 +223,8 @@ class Spread:
         from partsel.engine.spread import DISTRIBUTIONS
 
         if self.builds is not None and not (1 <= self.builds <= MAX_BUILDS):
-            raise QueryError(f"the number of builds must lie between 1 and {MAX_BUILDS:,}, "
-                             f"got {self.builds}: give e.g. --yield 10000")
+            raise QueryError(f"builds must lie between 1 and {MAX_BUILDS:,}, got "
+                             f"{self.builds}: give e.g. 10000 builds", params=("builds",))
         if self.distribution not in DISTRIBUTIONS:
             raise QueryError(f"unknown distribution '{self.distribution}': use "
                              + " or ".join(DISTRIBUTIONS))
@@ -302,8 +302,9 @@ class Rail:
             raise QueryError("the rise time must be a positive time")
         if self.spread is not None:
             if self.worst_case and self.spread.corners:
-                raise QueryError("give either --worst-case or --corners: the corners hold the "
-                                 "low side --worst-case takes, and the high side too")
+                raise QueryError("give either worst_case or corners: the corners hold the "
+                                 "low side worst_case takes, and the high side too",
+                                 params=("worst_case", "corners"))
             self.spread.validate()
         self.board.validate()
 
