@@ -171,21 +171,27 @@ def test_yield_is_seeded_and_reproducible(make_store, cli, tmp_path):
         runs[2]["failures_at"]
 
 
-def test_yield_grid_reproduces_the_exact_nominal_worst(make_store, tmp_path):
+@pytest.mark.parametrize("on_board", [False, True])
+def test_yield_grid_reproduces_the_exact_nominal_worst(make_store, tmp_path, on_board):
     # With every part at its nominal value the yield's grid evaluation must find the exact
-    # worst |Z| of the band check (it can only fall short, by the grid's resolution).
-    from partsel.jobs.decouple import Board, Rail, check, read_bank
+    # worst |Z| of the band check (it can only fall short, by the grid's resolution), in
+    # parallel and on the board's ladder (plane cavity, package, die) against its mask.
+    from partsel.jobs.decouple import Rail, board_from_text, check, read_bank
     from partsel.jobs.decouple.spread import _grid, _judge, _peaks, worst_ratio
     from partsel.store import open_store
 
     store = make_store([_cap("BIG", 10e-6, "20%", esr=0.004, esl=1e-9, case="1210"),
                         _cap("SMALL", 0.1e-6, "5%", esr=0.02, esl=0.3e-9, case="0402")])
-    rail = Rail(1.0, 0.2, (1e6, 1e8), Board(mount_l=0.2e-9))
+    geometry = {"plane_area": "100cm2", "plane_gap": "50um", "distance": "5mm",
+                "package_l": "5pH", "die_c": "100nF"} if on_board else {}
+    board = board_from_text(["0.2nH"], None, None, None, None, geometry, None)
+    rail = Rail(1.0, 0.2, (1e6, 1e8), board)
     with open_store(store) as s:
         res = check(s, rail, read_bank(_bank(tmp_path, [("BIG", 2), ("SMALL", 3)])))
     bank = res.bank_parts
     exact, f_exact = worst_ratio(rail, bank)
-    assert exact == pytest.approx(res.max_z / 0.2, rel=1e-12)
+    expected = res.worst_ratio if on_board else res.max_z / 0.2
+    assert exact == pytest.approx(expected, rel=1e-12)
     f = _grid(rail, _peaks(rail, bank, bank.parts))
     owner = np.repeat(np.arange(len(bank.counts)), bank.counts.astype(int))
     worst, where = _judge(rail, bank, bank.parts, f, np.ones((3, len(owner))), owner)

@@ -53,7 +53,7 @@ def _summary(res: Any) -> list[str]:
         spec += (f" ({fq(rail.voltage, 'V')} x {100 * rail.ripple:g} % / "
                  f"{fq(rail.step, 'A')})")
     if rail.margin:
-        spec += f", held to {fq(rail.design_target, 'ohm', 4)} ({100 * rail.margin:g} % margin)"
+        spec += f", held to {fq(rail.design_target, 'ohm', 4)} ({100 * rail.margin:.3g} % margin)"
     verdict = "target met" if res.met else "TARGET NOT MET"
     if res.corners is not None:
         verdict += " at every corner" if res.met else (
