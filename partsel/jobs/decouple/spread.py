@@ -27,17 +27,17 @@ Yield
 (:func:`partsel.engine.spread.tolerance_ratios`: truncated normal with the limit at 3 sigma,
 or uniform), each build judged at every build-wide end of the conditions (the C factor of
 temperature and aging at its low and high ends, r at its ends; a build passes only if it holds
-at all of them). Vectorised over builds: per part one complex array of (builds, frequencies),
-no Python loop per build.
+at all of them). Vectorised over builds: per part a few real single-precision passes over a
+(builds x frequencies) block of cache size, one complex step per line (:func:`_judge`); no
+Python loop per build.
 
 A part's impedance is affine in x = 1/c: Z(x) = Z_1 + (tan_delta - j)(x - 1)/(omega C) with
 Z_1 its impedance at x = 1 (exact for the series R-L-C model, derived; for a maker's netlist
 or a measured curve it is the layer the measured curves take, a stated approximation). Each
 build is judged on a grid: :data:`YIELD_PER_DECADE` points per decade over the band plus
 :data:`PEAK_POINTS` points within +-:data:`PEAK_SPAN` of each peak of the nominal bank at
-every end that reach :data:`PEAK_FLOOR` of the target (tolerance moves a resonance by
-about half the change of C); a peak of a build
-between grid points is found by the parabola through the grid maximum and its neighbours
+every end that reach :data:`PEAK_FLOOR` of the target, and each such peak itself (tolerance
+moves a resonance by about half the change of C); a peak of a build between grid points is found by the parabola through the grid maximum and its neighbours
 (:func:`_vertex`); the tests hold the nominal bank's grid value to the exact band check within
 1e-3.
 """
