@@ -52,7 +52,8 @@ def curve_matrix(bias_v: Sequence[Any], bias_ratio: Sequence[Any]
 
 def bias_ratio_columns(voltage: float, value: ArrayLike, technology: Sequence[Any],
                        dielectric: Sequence[Any], case: Sequence[Any], rated_voltage: ArrayLike,
-                       bias_v: Sequence[Any], bias_ratio: Sequence[Any]
+                       bias_v: Sequence[Any], bias_ratio: Sequence[Any],
+                       curves: tuple[NDArray, NDArray, NDArray] | None = None
                        ) -> tuple[NDArray[np.float64], NDArray[np.int8]]:
     """C(V)/C0 of each part at a DC voltage, and where it came from (index into BIAS_SOURCES).
 
@@ -61,6 +62,10 @@ def bias_ratio_columns(voltage: float, value: ArrayLike, technology: Sequence[An
     estimate is used where it is lower, source 3). Class II MLCCs without a curve get the
     rule-of-thumb estimate of :func:`partsel.engine.ceramic.estimate_bias_ratio` (labelled
     "estimated"); class I dielectrics and other technologies keep their value.
+
+    ``curves`` gives the stored curves already as :func:`curve_matrix` makes them (which
+    rows have one, NaN-padded voltages and ratios); ``bias_v`` and ``bias_ratio`` are then
+    not read.
     """
     value = np.asarray(value, dtype=float)
     ratio = np.ones(value.shape)
@@ -73,7 +78,7 @@ def bias_ratio_columns(voltage: float, value: ArrayLike, technology: Sequence[An
         estimate[idx] = ceramic.estimate_bias_ratio(
             voltage, np.asarray(rated_voltage, dtype=float)[idx], value[idx],
             np.asarray(case, dtype=object)[idx], np.asarray(dielectric, dtype=object)[idx])
-    has, cv, cr = curve_matrix(bias_v, bias_ratio)
+    has, cv, cr = curve_matrix(bias_v, bias_ratio) if curves is None else curves
     if has.any():
         r = ceramic.bias_ratio_from_curve(voltage, cv[has], cr[has])
         last_v = np.nanmax(cv[has], axis=1)

@@ -4,7 +4,7 @@ reduced to the candidates worth considering (package notes, step 1).
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from typing import Any
 
@@ -155,13 +155,70 @@ def attach_models(store: Store, parts: Parts, rail: Rail, choice: str, only: boo
                  measured_hi=chosen.measured_hi)
 
 
+def _by_rows(cols: dict[str, NDArray], names: Sequence[str],
+             fn: Callable[..., Any]) -> Any:
+    """``fn(*columns)`` of a function that treats every row on its own, evaluated once per
+    distinct combination of the columns ``names`` and spread back to every row: the same
+    values, without a Python step per row (a catalog has a few dozen cases, dielectrics and
+    technologies, a few hundred values). A text column is grouped by its ``<name>:code``
+    (:func:`partsel.store.parts.capacitors`), a numeric one by its values; a tuple result
+    is spread element by element."""
+    n = len(cols["id"])
+    key = np.zeros(n, dtype=np.int64)
+    for name in names:
+        code = cols.get(f"{name}:code")
+        if code is None:
+            _, code = np.unique(np.asarray(cols[name], dtype=float), return_inverse=True)
+        code = np.asarray(code, dtype=np.int64).ravel()
+        key = key * (int(code.max()) + 1 if n else 1) + code
+        _, key = np.unique(key, return_inverse=True)    # renumbered: keys stay small
+        key = key.ravel()
+    _, first, inv = np.unique(key, return_index=True, return_inverse=True)
+    out = fn(*(np.asarray(cols[name])[first] for name in names))
+    inv = inv.ravel()
+    if isinstance(out, tuple):
+        return tuple(np.asarray(o)[inv] for o in out)
+    return np.asarray(out)[inv]
+
+
+def _bias(rail: Rail, cols: dict[str, NDArray]) -> tuple[NDArray, NDArray]:
+    """C at the rail's DC bias and its source per part: the parts without a stored curve
+    grouped by the columns the estimate reads (:func:`_by_rows`), those with one each on
+    its own curve."""
+    value = np.asarray(cols["value"], dtype=float)
+    has = np.asarray(cols["bias_n"]) > 0
+    c_bias, source = np.empty(len(value)), np.zeros(len(value), dtype=np.int8)
+    names = ("value", "technology", "dielectric", "case", "rated_voltage")
+    none = np.flatnonzero(~has)
+    if len(none):
+        sub = {k: cols[k][none] for k in (*names, "id")}
+        sub.update({f"{k}:code": cols[f"{k}:code"][none] for k in names
+                    if f"{k}:code" in cols})
+        k_pts = cols["bias_v"].shape[1]
+        empty = np.full((1, k_pts), np.nan)
+
+        def rows(v, t, d, c, r):
+            return capacitance_at_bias(rail.voltage, v, t, d, c, np.asarray(r, dtype=float),
+                                       None, None, (np.zeros(len(v), dtype=bool),
+                                                    np.repeat(empty, len(v), 0),
+                                                    np.repeat(empty, len(v), 0)))
+        c_bias[none], source[none] = _by_rows(sub, names, rows)
+    some = np.flatnonzero(has)
+    if len(some):
+        c_bias[some], source[some] = capacitance_at_bias(
+            rail.voltage, value[some], cols["technology"][some], cols["dielectric"][some],
+            cols["case"][some], np.asarray(cols["rated_voltage"], dtype=float)[some], None,
+            None, (np.ones(len(some), dtype=bool), cols["bias_v"][some],
+                   cols["bias_ratio"][some]))
+    return c_bias, source
+
+
 def _parts_from(cols: dict[str, NDArray], rail: Rail) -> Parts:
     value = np.asarray(cols["value"], dtype=float)
-    c_bias, source = capacitance_at_bias(
-        rail.voltage, value, cols["technology"], cols["dielectric"], cols["case"],
-        np.asarray(cols["rated_voltage"], dtype=float), cols["bias_v"], cols["bias_ratio"])
-    worst = worst_case_ratio(np.asarray(cols["tolerance"], dtype=float), cols["technology"],
-                             cols["dielectric"]) if rail.worst_case else np.ones(len(value))
+    c_bias, source = _bias(rail, cols)
+    worst = _by_rows(cols, ("tolerance", "technology", "dielectric"),
+                     lambda tol, t, d: worst_case_ratio(np.asarray(tol, dtype=float), t, d)) \
+        if rail.worst_case else np.ones(len(value))
     mounting = cols["mounting"]
     crowd = crowding(rail.board)
     return Parts(
@@ -170,7 +227,7 @@ def _parts_from(cols: dict[str, NDArray], rail: Rail) -> Parts:
         worst_ratio=worst, esr=np.asarray(cols["esr"], dtype=float),
         tan_delta=np.nan_to_num(np.asarray(cols["tan_delta"], dtype=float)),
         esl=np.asarray(cols["esl"], dtype=float),
-        mount_l=rail.board.mounting(cols["case"], mounting),
+        mount_l=_by_rows(cols, ("case", "mounting"), rail.board.mounting),
         price=np.asarray(cols["price"], dtype=float), case=cols["case"],
         technology=cols["technology"], dielectric=cols["dielectric"],
         rated_voltage=np.asarray(cols["rated_voltage"], dtype=float), mounting=mounting,
@@ -203,15 +260,14 @@ def load_candidates(store: Store, rail: Rail, choice: Choice) -> tuple[Parts, li
     (``choice.model``): (parts, notes, considered)."""
     cols = capacitors(store, lifecycles=choice.lifecycles, cases=choice.cases,
                       dielectrics=choice.dielectrics, technologies=choice.technologies,
-                      makers=choice.makers, in_stock=choice.in_stock)
+                      makers=choice.makers, in_stock=choice.in_stock, packed=True)
     considered = len(cols["id"])
     notes: list[str] = []
     if considered == 0:
         raise QueryError("no capacitor in the store passes the filters (case, technology, "
                          "dielectric, maker, lifecycle, stock): widen them")
-    tech = cols["technology"]
-    ok_voltage = usable(rail.voltage, cols["rated_voltage"], tech, cols["electrolyte"],
-                        choice.min_voltage)
+    ok_voltage = _by_rows(cols, ("rated_voltage", "technology", "electrolyte"),
+                          lambda r, t, e: usable(rail.voltage, r, t, e, choice.min_voltage))
     keep = np.ones(considered, dtype=bool)
 
     def drop(mask: NDArray, why: str) -> None:
@@ -229,8 +285,8 @@ def load_candidates(store: Store, rail: Rail, choice: Choice) -> tuple[Parts, li
     value = np.asarray(cols["value"], dtype=float)
     drop(~(np.isfinite(esr) & np.isfinite(esl) & (value > 0)),
          "no ESR or ESL in the store (their impedance cannot be evaluated)")
-    diel_unknown = np.array([t == "mlcc" and not d for t, d in
-                             zip(tech, cols["dielectric"], strict=True)], dtype=bool)
+    diel_unknown = _by_rows(cols, ("technology", "dielectric"), lambda ts, ds: np.array(
+        [t == "mlcc" and not d for t, d in zip(ts, ds, strict=True)], dtype=bool))
     drop(diel_unknown, "MLCCs without a dielectric code (their DC-bias loss is unknown)")
     if choice.prefer == "cost" or choice.max_cost is not None:
         drop(~np.isfinite(np.asarray(cols["price"], dtype=float)),
