@@ -294,7 +294,8 @@ def load_candidates(store: Store, rail: Rail, choice: Choice) -> tuple[Parts, li
     idx = np.flatnonzero(keep)
     if idx.size == 0:
         raise QueryError("no capacitor is left to plan with: " + "; ".join(notes))
-    parts = _parts_from({k: v[idx] for k, v in cols.items()}, rail)
+    parts = _parts_from(cols if idx.size == considered else
+                        {k: v[idx] for k, v in cols.items()}, rail)
     measured_only = choice.model_only and choice.model == "measured"
     parts = attach_models(store, parts, rail, choice.model,
                           choice.model_only and not measured_only, notes)
