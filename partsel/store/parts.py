@@ -68,12 +68,8 @@ def capacitors(store: Store, *, lifecycles: Sequence[str] = (), cases: Sequence[
             continue
         else:
             select.append(f'"{c}"')
-    k = 0
     if packed:
-        k = max(2, int(head[len(coded)]), int(head[len(coded) + 1]))
         select.append("coalesce(len(bias_v), 0) AS bias_n")
-        select += [f"bias_v[{i + 1}] AS bias_v_{i}" for i in range(k)]
-        select += [f"bias_ratio[{i + 1}] AS bias_ratio_{i}" for i in range(k)]
     out = store.arrays(f"SELECT {', '.join(select)} FROM {rows} ORDER BY id",
                        code_params + params)
     for c, vals in levels.items():
@@ -84,14 +80,25 @@ def capacitors(store: Store, *, lifecycles: Sequence[str] = (), cases: Sequence[
             out[f"{c}:code"] = out[c]
         out[c] = table[out[c]]
     if packed:
-        out["bias_v"] = _stack(out, "bias_v", k)
-        out["bias_ratio"] = _stack(out, "bias_ratio", k)
+        k = max(2, int(head[len(coded)]), int(head[len(coded) + 1]))
+        out["bias_v"], out["bias_ratio"] = _curves(store, rows, params, out["id"], k)
     return out
 
 
-def _stack(out: dict[str, np.ndarray], name: str, k: int) -> np.ndarray:
-    cols = [np.asarray(out.pop(f"{name}_{i}"), dtype=float) for i in range(k)]
-    return np.stack(cols, axis=1) if cols else np.empty((0, k))
+def _curves(store: Store, rows: str, params: list[Any], ids: np.ndarray, k: int
+            ) -> tuple[np.ndarray, np.ndarray]:
+    """The stored bias curves of the parts ``ids`` (ascending) as NaN-padded (P, k) arrays:
+    one row per curve point, placed by the part's id and the point's index (ratios beyond
+    the last voltage have no point to belong to and are left out)."""
+    cv, cr = np.full((len(ids), k), np.nan), np.full((len(ids), k), np.nan)
+    pts = store.arrays(f"SELECT id, unnest(range(len(bias_v))) AS k, unnest(bias_v) AS v, "
+                       f"unnest(bias_ratio) AS r FROM {rows} WHERE len(bias_v) > 0", params)
+    at = np.isfinite(np.asarray(pts["k"], dtype=float))
+    pos = np.searchsorted(ids, pts["id"][at])
+    col = np.asarray(pts["k"], dtype=float)[at].astype(np.intp)
+    cv[pos, col] = np.asarray(pts["v"], dtype=float)[at]
+    cr[pos, col] = np.asarray(pts["r"], dtype=float)[at]
+    return cv, cr
 
 
 def catalog_rows(store: Store, columns: Sequence[str]) -> pd.DataFrame:
