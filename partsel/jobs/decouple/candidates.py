@@ -369,7 +369,16 @@ def reduce_candidates(parts: Parts, w: NDArray, f_band: tuple[float, float],
     # (far below the band a part acts as R + j omega L; at a common SRF smaller L is larger C).
     above = np.log10(srf) > hi
     key_l = np.where(above, -c, l_tot)
-    order = np.lexsort((w, key_l, r_bin, s_bin))
+    rows = np.arange(len(key_l))
+    if per_bin == 1 and len(key_l):
+        # one part per bin: the first in the order below, so one with its bin's lowest key;
+        # only those are sorted (the same choice, without sorting a whole catalog)
+        s0, r0 = s_bin - s_bin.min(), r_bin - r_bin.min()
+        cell = s0 * (int(r0.max()) + 1) + r0
+        low = np.full(int(cell.max()) + 1, np.inf)
+        np.minimum.at(low, cell, key_l)
+        rows = np.flatnonzero(key_l <= low[cell])
+    order = rows[np.lexsort((w[rows], key_l[rows], r_bin[rows], s_bin[rows]))]
     sb, rb = s_bin[order], r_bin[order]
     start = np.flatnonzero(np.concatenate([[True], (sb[1:] != sb[:-1]) | (rb[1:] != rb[:-1])]))
     ends = np.append(start[1:], len(order))

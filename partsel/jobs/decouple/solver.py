@@ -195,9 +195,11 @@ class _Solver:
         # the lossless anti-resonances and 200 points per decade, so they cannot hide a peak
         # above it); the bank returned passes the full check (``strict``).
         if isinstance(self.board, Layout):
+            # the ring holds the lines in use only: the candidates with count 0 add nothing
+            # but their evaluation (all of them at every frequency of the scan)
             ring = self.cands.with_counts(counts) if isinstance(self.cands, Bank) else \
                 _bank(self.cands, counts, pdn.Branches.of(np.empty(0), np.empty(0),
-                                                          np.empty(0)))
+                                                          np.empty(0))).used()
             net = self.board.network(ring)
             if self.strict:
                 return net.scan(*self.band, self.board.mask)
