@@ -20,6 +20,7 @@ from partsel.errors import QueryError
 from partsel.jobs.decouple.capacitance import capacitance_at_bias, worst_case_ratio
 from partsel.jobs.decouple.inputs import Choice, Prefer, Rail
 from partsel.jobs.decouple.layout import crowding
+from partsel.jobs.models import bias_estimates
 from partsel.store.db import Store
 from partsel.store.parts import capacitors
 
@@ -161,56 +162,52 @@ def _by_rows(cols: dict[str, NDArray], names: Sequence[str],
     distinct combination of the columns ``names`` and spread back to every row: the same
     values, without a Python step per row (a catalog has a few dozen cases, dielectrics and
     technologies, a few hundred values). A text column is grouped by its ``<name>:code``
-    (:func:`partsel.store.parts.capacitors`), a numeric one by its values; a tuple result
-    is spread element by element."""
+    (:func:`partsel.store.parts.capacitors`), a numeric one by its distinct values (kept in
+    ``cols`` as its code for the next call); a tuple result is spread element by element.
+    Without codes for a text column, ``fn`` runs on the rows as they are."""
     n = len(cols["id"])
-    key = np.zeros(n, dtype=np.int64)
+    if any(f"{name}:code" not in cols and np.asarray(cols[name]).dtype.kind not in "fiub"
+           for name in names):
+        return fn(*(cols[name] for name in names))     # text without codes: row by row
+    key, size = np.zeros(n, dtype=np.int64), 1
     for name in names:
         code = cols.get(f"{name}:code")
         if code is None:
             _, code = np.unique(np.asarray(cols[name], dtype=float), return_inverse=True)
-        code = np.asarray(code, dtype=np.int64).ravel()
-        key = key * (int(code.max()) + 1 if n else 1) + code
-        _, key = np.unique(key, return_inverse=True)    # renumbered: keys stay small
-        key = key.ravel()
-    _, first, inv = np.unique(key, return_index=True, return_inverse=True)
-    out = fn(*(np.asarray(cols[name])[first] for name in names))
-    inv = inv.ravel()
+            code = cols[f"{name}:code"] = np.asarray(code, dtype=np.int64).ravel()
+        code = np.asarray(code, dtype=np.int64)
+        card = int(code.max()) + 1 if n else 1
+        key, size = key * card + code, size * card
+        if size > 1 << 22:    # renumber the combinations so far: keys stay small
+            _, key = np.unique(key, return_inverse=True)
+            key = key.ravel()
+            size = int(key.max()) + 1 if n else 1
+    present = np.zeros(size, dtype=bool)
+    present[key] = True
+    slot = np.cumsum(present) - 1                       # combination -> group number
+    first = np.full(size, n, dtype=np.int64)
+    np.minimum.at(first, key, np.arange(n))
+    out = fn(*(np.asarray(cols[name])[first[present]] for name in names))
+    inv = slot[key]
     if isinstance(out, tuple):
         return tuple(np.asarray(o)[inv] for o in out)
     return np.asarray(out)[inv]
 
 
 def _bias(rail: Rail, cols: dict[str, NDArray]) -> tuple[NDArray, NDArray]:
-    """C at the rail's DC bias and its source per part: the parts without a stored curve
-    grouped by the columns the estimate reads (:func:`_by_rows`), those with one each on
-    its own curve."""
+    """C at the rail's DC bias and its source per part: the rule-of-thumb estimate once per
+    combination of the columns it reads (:func:`_by_rows`), each stored curve on its own."""
     value = np.asarray(cols["value"], dtype=float)
-    has = np.asarray(cols["bias_n"]) > 0
-    c_bias, source = np.empty(len(value)), np.zeros(len(value), dtype=np.int8)
-    names = ("value", "technology", "dielectric", "case", "rated_voltage")
-    none = np.flatnonzero(~has)
-    if len(none):
-        sub = {k: cols[k][none] for k in (*names, "id")}
-        sub.update({f"{k}:code": cols[f"{k}:code"][none] for k in names
-                    if f"{k}:code" in cols})
-        k_pts = cols["bias_v"].shape[1]
-        empty = np.full((1, k_pts), np.nan)
-
-        def rows(v, t, d, c, r):
-            return capacitance_at_bias(rail.voltage, v, t, d, c, np.asarray(r, dtype=float),
-                                       None, None, (np.zeros(len(v), dtype=bool),
-                                                    np.repeat(empty, len(v), 0),
-                                                    np.repeat(empty, len(v), 0)))
-        c_bias[none], source[none] = _by_rows(sub, names, rows)
-    some = np.flatnonzero(has)
-    if len(some):
-        c_bias[some], source[some] = capacitance_at_bias(
-            rail.voltage, value[some], cols["technology"][some], cols["dielectric"][some],
-            cols["case"][some], np.asarray(cols["rated_voltage"], dtype=float)[some], None,
-            None, (np.ones(len(some), dtype=bool), cols["bias_v"][some],
-                   cols["bias_ratio"][some]))
-    return c_bias, source
+    if "bias_n" not in cols:     # curves as lists (a bank's rows): the policy row by row
+        return capacitance_at_bias(
+            rail.voltage, value, cols["technology"], cols["dielectric"], cols["case"],
+            np.asarray(cols["rated_voltage"], dtype=float), cols["bias_v"], cols["bias_ratio"])
+    estimate = _by_rows(cols, ("value", "technology", "dielectric", "case", "rated_voltage"),
+                        lambda v, t, d, c, r: bias_estimates(rail.voltage, v, t, d, c, r))
+    return capacitance_at_bias(
+        rail.voltage, value, cols["technology"], cols["dielectric"], cols["case"],
+        np.asarray(cols["rated_voltage"], dtype=float), None, None,
+        (np.asarray(cols["bias_n"]) > 0, cols["bias_v"], cols["bias_ratio"]), estimate)
 
 
 def _parts_from(cols: dict[str, NDArray], rail: Rail) -> Parts:
