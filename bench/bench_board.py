@@ -12,7 +12,8 @@ Measures
   of 3), with its peak memory (the child's maximum resident set) and the bank it returns;
 - the rail without the board with --noise 30mV (planning against the worst-case noise; once);
 - the noise analysis alone (step response and reverse-pulse worst case) of banks of 4, 10
-  and 30 lines, median of 5.
+  and 30 lines, median of 5 (wall and CPU time), in this process with one BLAS thread as the
+  command line has (partsel/launch.py).
 """
 
 from __future__ import annotations
@@ -26,6 +27,8 @@ import sys
 import time
 from pathlib import Path
 
+for _var in ("OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):   # as partsel/launch.py, before numpy
+    os.environ.setdefault(_var, "1")
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))  # run from a checkout
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
@@ -45,15 +48,17 @@ def build(n: int) -> Path:
 
 
 def whole(store: Path, label: str, *extra: str, board: bool = True, repeat: int = 3) -> None:
-    best, data = float("inf"), {}
+    best, best_cpu, data = float("inf"), float("inf"), {}
     for _ in range(repeat):
-        before = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
+        before = resource.getrusage(resource.RUSAGE_CHILDREN)
         t, out = run(store, *RAIL, *(BOARD if board else ()), *extra, "--format", "json")
-        after = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
-        best, data = min(best, t), json.loads(out)
-    rss = max(before, after) / 1024          # kB on Linux
+        after = resource.getrusage(resource.RUSAGE_CHILDREN)
+        cpu = (after.ru_utime + after.ru_stime) - (before.ru_utime + before.ru_stime)
+        best, best_cpu, data = min(best, t), min(best_cpu, cpu), json.loads(out)
+    rss = after.ru_maxrss / 1024          # kB on Linux: the largest child so far
     n = data.get("noise") or {}
-    print(f"  {label}: {best:.2f} s whole command (best of {repeat}), peak memory {rss:.0f} MB; "
+    print(f"  {label}: {best:.2f} s wall, {best_cpu:.2f} s CPU whole command (best of "
+          f"{repeat}), peak memory {rss:.0f} MB; "
           f"{data['parts']} parts on {data['lines']} lines, met {data['met']}, worst "
           f"{data['worst_ratio'] or data['max_z_ohm'] / data['target_ohm']:.3g} x the target "
           "at the load; worst-case droop "
@@ -77,13 +82,15 @@ def noise_alone(store: Path) -> None:
 
             bank = pdn.Branches(b.c[:n], b.esr[:n], b.esl[:n], b.tan_delta[:n], b.count[:n])
             net = parallel_network(rail.board.branches()[0], bank)
-            times = []
+            times, cpu = [], []
             for _ in range(5):
-                t = time.perf_counter()
+                t, c = time.perf_counter(), time.process_time()
                 out = analyse(rail, net)
                 times.append(time.perf_counter() - t)
+                cpu.append(time.process_time() - c)
             print(f"  noise analysis of a {n}-line bank ({res.parts} parts, {out['poles']} "
-                  f"poles): {statistics.median(times):.3f} s median of 5; worst droop "
+                  f"poles): {statistics.median(times):.3f} s wall, "
+                  f"{statistics.median(cpu):.3f} s CPU, median of 5; worst droop "
                   f"{out['worst_droop_v'] * 1e3:.1f} mV, {out['factor']:.2f} x Z_t x step, "
                   f"error bound {out['error_v'] * 1e6:.1f} uV")
 

@@ -28,7 +28,16 @@ def _end(code: int) -> None:
     os._exit(code)
 
 
+# The linear algebra here is small (nodal eigenproblems and solves of a few hundred unknowns):
+# BLAS threads cost more than they give, and on a shared machine far more (a 2-thread eig of a
+# 24-line bank's network took 1.5-5x the wall time of one thread on 2 busy cores). A value the
+# user set is kept; it must be set before numpy loads its BLAS.
+BLAS_THREADS = ("OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS")
+
+
 def main() -> None:
+    for var in BLAS_THREADS:
+        os.environ.setdefault(var, "1")
     interrupt.install()
     try:
         from partsel.cli import main as run

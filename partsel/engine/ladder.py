@@ -104,7 +104,8 @@ class Ladder:
         return self.package_l > 0 or self.package_r > 0 or self.die_c is not None
 
     def _port_y(self, f: NDArray) -> NDArray[np.complex128]:
-        return self.port.admittance(f) if len(self.port.used()) else np.zeros(f.shape, complex)
+        return self.port.admittance(f) if np.any(self.port.count > 0) else \
+            np.zeros(f.shape, complex)
 
     def _die_y(self, f: NDArray) -> NDArray[np.complex128]:
         if self.die_c is None:
@@ -239,6 +240,13 @@ class _Builder:
                 self.add("C", mid, 0, a * c_n)
 
 
+def _in_use(r: Ring) -> bool:
+    """Any branch of the ring with a positive count (without building the used ring)."""
+    if isinstance(r, pdn.Branches):
+        return bool(np.any(r.count > 0))
+    return len(r.used()) > 0
+
+
 @dataclass(frozen=True)
 class Network:
     """A ladder with its rings of capacitors (counts applied): the whole PDN seen from the
@@ -249,7 +257,7 @@ class Network:
 
     def ring_admittance(self, f: ArrayLike) -> list[NDArray[np.complex128]]:
         f = np.asarray(f, dtype=float)
-        return [r.admittance(f) if len(r.used()) else np.zeros(f.shape, complex)
+        return [r.admittance(f) if _in_use(r) else np.zeros(f.shape, complex)
                 for r in self.rings]
 
     def total(self, f: ArrayLike) -> NDArray[np.complex128]:

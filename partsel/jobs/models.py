@@ -52,7 +52,9 @@ def curve_matrix(bias_v: Sequence[Any], bias_ratio: Sequence[Any]
 
 def bias_ratio_columns(voltage: float, value: ArrayLike, technology: Sequence[Any],
                        dielectric: Sequence[Any], case: Sequence[Any], rated_voltage: ArrayLike,
-                       bias_v: Sequence[Any], bias_ratio: Sequence[Any]
+                       bias_v: Sequence[Any], bias_ratio: Sequence[Any],
+                       curves: tuple[NDArray, NDArray, NDArray] | None = None,
+                       estimate: NDArray | None = None
                        ) -> tuple[NDArray[np.float64], NDArray[np.int8]]:
     """C(V)/C0 of each part at a DC voltage, and where it came from (index into BIAS_SOURCES).
 
@@ -61,19 +63,20 @@ def bias_ratio_columns(voltage: float, value: ArrayLike, technology: Sequence[An
     estimate is used where it is lower, source 3). Class II MLCCs without a curve get the
     rule-of-thumb estimate of :func:`partsel.engine.ceramic.estimate_bias_ratio` (labelled
     "estimated"); class I dielectrics and other technologies keep their value.
+
+    ``curves`` gives the stored curves already as :func:`curve_matrix` makes them (which
+    rows have one, NaN-padded voltages and ratios); ``bias_v`` and ``bias_ratio`` are then
+    not read. ``estimate`` gives the rule-of-thumb ratio of every part already (what
+    :func:`bias_estimates` returns).
     """
     value = np.asarray(value, dtype=float)
     ratio = np.ones(value.shape)
     source = np.zeros(value.shape, dtype=np.int8)
     tech = np.asarray(technology, dtype=object)
-    estimate = np.ones(value.shape)
     mlcc = tech == "mlcc"
-    if mlcc.any():
-        idx = np.flatnonzero(mlcc)
-        estimate[idx] = ceramic.estimate_bias_ratio(
-            voltage, np.asarray(rated_voltage, dtype=float)[idx], value[idx],
-            np.asarray(case, dtype=object)[idx], np.asarray(dielectric, dtype=object)[idx])
-    has, cv, cr = curve_matrix(bias_v, bias_ratio)
+    if estimate is None:
+        estimate = bias_estimates(voltage, value, tech, dielectric, case, rated_voltage)
+    has, cv, cr = curve_matrix(bias_v, bias_ratio) if curves is None else curves
     if has.any():
         r = ceramic.bias_ratio_from_curve(voltage, cv[has], cr[has])
         last_v = np.nanmax(cv[has], axis=1)
@@ -84,6 +87,22 @@ def bias_ratio_columns(voltage: float, value: ArrayLike, technology: Sequence[An
     ratio[est] = estimate[est]
     source[est] = 2
     return ratio, source
+
+
+def bias_estimates(voltage: float, value: ArrayLike, technology: Sequence[Any],
+                   dielectric: Sequence[Any], case: Sequence[Any], rated_voltage: ArrayLike
+                   ) -> NDArray[np.float64]:
+    """The rule-of-thumb C(V)/C0 of :func:`partsel.engine.ceramic.estimate_bias_ratio` for
+    the MLCCs, 1 for every other part (row by row: each part on its own)."""
+    value = np.asarray(value, dtype=float)
+    estimate = np.ones(value.shape)
+    mlcc = np.asarray(technology, dtype=object) == "mlcc"
+    if mlcc.any():
+        idx = np.flatnonzero(mlcc)
+        estimate[idx] = ceramic.estimate_bias_ratio(
+            voltage, np.asarray(rated_voltage, dtype=float)[idx], value[idx],
+            np.asarray(case, dtype=object)[idx], np.asarray(dielectric, dtype=object)[idx])
+    return estimate
 
 
 def bias_ratios(rows: Sequence[dict[str, Any]], voltage: float) -> tuple[NDArray, list[str]]:

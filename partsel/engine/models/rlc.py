@@ -47,8 +47,12 @@ def reactance(f: ArrayLike, value: ArrayLike, esl: ArrayLike) -> NDArray[np.floa
 
 def impedance(f: ArrayLike, value: ArrayLike, esr: ArrayLike, esl: ArrayLike,
               tan_delta: ArrayLike = 0.0) -> NDArray[np.complex128]:
-    """Complex impedance Z(f) [ohm] of the series R-L-C model (broadcasts like a ufunc)."""
-    return series_resistance(f, value, esr, tan_delta) + 1j * reactance(f, value, esl)
+    """Complex impedance Z(f) [ohm] of the series R-L-C model (broadcasts like a ufunc):
+    :func:`series_resistance` + j :func:`reactance`, the same operations in one pass."""
+    w = TWO_PI * np.asarray(f, dtype=float)
+    c = np.asarray(value, dtype=float)
+    r = np.asarray(esr, dtype=float) + np.asarray(tan_delta, dtype=float) / (w * value)
+    return r + 1j * (w * np.asarray(esl, dtype=float) - 1.0 / (w * c))
 
 
 def srf(value: ArrayLike, esl: ArrayLike) -> NDArray[np.float64]:

@@ -4,7 +4,7 @@ reduced to the candidates worth considering (package notes, step 1).
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from typing import Any
 
@@ -20,6 +20,7 @@ from partsel.errors import QueryError
 from partsel.jobs.decouple.capacitance import capacitance_at_bias, worst_case_ratio
 from partsel.jobs.decouple.inputs import Choice, Prefer, Rail
 from partsel.jobs.decouple.layout import crowding
+from partsel.jobs.models import bias_estimates
 from partsel.store.db import Store
 from partsel.store.parts import capacitors
 
@@ -155,13 +156,66 @@ def attach_models(store: Store, parts: Parts, rail: Rail, choice: str, only: boo
                  measured_hi=chosen.measured_hi)
 
 
+def _by_rows(cols: dict[str, NDArray], names: Sequence[str],
+             fn: Callable[..., Any]) -> Any:
+    """``fn(*columns)`` of a function that treats every row on its own, evaluated once per
+    distinct combination of the columns ``names`` and spread back to every row: the same
+    values, without a Python step per row (a catalog has a few dozen cases, dielectrics and
+    technologies, a few hundred values). A text column is grouped by its ``<name>:code``
+    (:func:`partsel.store.parts.capacitors`), a numeric one by its distinct values (kept in
+    ``cols`` as its code for the next call); a tuple result is spread element by element.
+    Without codes for a text column, ``fn`` runs on the rows as they are."""
+    n = len(cols["id"])
+    if any(f"{name}:code" not in cols and np.asarray(cols[name]).dtype.kind not in "fiub"
+           for name in names):
+        return fn(*(cols[name] for name in names))     # text without codes: row by row
+    key, size = np.zeros(n, dtype=np.int64), 1
+    for name in names:
+        code = cols.get(f"{name}:code")
+        if code is None:
+            _, code = np.unique(np.asarray(cols[name], dtype=float), return_inverse=True)
+            code = cols[f"{name}:code"] = np.asarray(code, dtype=np.int64).ravel()
+        code = np.asarray(code, dtype=np.int64)
+        card = int(code.max()) + 1 if n else 1
+        key, size = key * card + code, size * card
+        if size > 1 << 22:    # renumber the combinations so far: keys stay small
+            _, key = np.unique(key, return_inverse=True)
+            key = key.ravel()
+            size = int(key.max()) + 1 if n else 1
+    present = np.zeros(size, dtype=bool)
+    present[key] = True
+    slot = np.cumsum(present) - 1                       # combination -> group number
+    first = np.full(size, n, dtype=np.int64)
+    np.minimum.at(first, key, np.arange(n))
+    out = fn(*(np.asarray(cols[name])[first[present]] for name in names))
+    inv = slot[key]
+    if isinstance(out, tuple):
+        return tuple(np.asarray(o)[inv] for o in out)
+    return np.asarray(out)[inv]
+
+
+def _bias(rail: Rail, cols: dict[str, NDArray]) -> tuple[NDArray, NDArray]:
+    """C at the rail's DC bias and its source per part: the rule-of-thumb estimate once per
+    combination of the columns it reads (:func:`_by_rows`), each stored curve on its own."""
+    value = np.asarray(cols["value"], dtype=float)
+    if "bias_n" not in cols:     # curves as lists (a bank's rows): the policy row by row
+        return capacitance_at_bias(
+            rail.voltage, value, cols["technology"], cols["dielectric"], cols["case"],
+            np.asarray(cols["rated_voltage"], dtype=float), cols["bias_v"], cols["bias_ratio"])
+    estimate = _by_rows(cols, ("value", "technology", "dielectric", "case", "rated_voltage"),
+                        lambda v, t, d, c, r: bias_estimates(rail.voltage, v, t, d, c, r))
+    return capacitance_at_bias(
+        rail.voltage, value, cols["technology"], cols["dielectric"], cols["case"],
+        np.asarray(cols["rated_voltage"], dtype=float), None, None,
+        (np.asarray(cols["bias_n"]) > 0, cols["bias_v"], cols["bias_ratio"]), estimate)
+
+
 def _parts_from(cols: dict[str, NDArray], rail: Rail) -> Parts:
     value = np.asarray(cols["value"], dtype=float)
-    c_bias, source = capacitance_at_bias(
-        rail.voltage, value, cols["technology"], cols["dielectric"], cols["case"],
-        np.asarray(cols["rated_voltage"], dtype=float), cols["bias_v"], cols["bias_ratio"])
-    worst = worst_case_ratio(np.asarray(cols["tolerance"], dtype=float), cols["technology"],
-                             cols["dielectric"]) if rail.worst_case else np.ones(len(value))
+    c_bias, source = _bias(rail, cols)
+    worst = _by_rows(cols, ("tolerance", "technology", "dielectric"),
+                     lambda tol, t, d: worst_case_ratio(np.asarray(tol, dtype=float), t, d)) \
+        if rail.worst_case else np.ones(len(value))
     mounting = cols["mounting"]
     crowd = crowding(rail.board)
     return Parts(
@@ -170,7 +224,7 @@ def _parts_from(cols: dict[str, NDArray], rail: Rail) -> Parts:
         worst_ratio=worst, esr=np.asarray(cols["esr"], dtype=float),
         tan_delta=np.nan_to_num(np.asarray(cols["tan_delta"], dtype=float)),
         esl=np.asarray(cols["esl"], dtype=float),
-        mount_l=rail.board.mounting(cols["case"], mounting),
+        mount_l=_by_rows(cols, ("case", "mounting"), rail.board.mounting),
         price=np.asarray(cols["price"], dtype=float), case=cols["case"],
         technology=cols["technology"], dielectric=cols["dielectric"],
         rated_voltage=np.asarray(cols["rated_voltage"], dtype=float), mounting=mounting,
@@ -203,15 +257,14 @@ def load_candidates(store: Store, rail: Rail, choice: Choice) -> tuple[Parts, li
     (``choice.model``): (parts, notes, considered)."""
     cols = capacitors(store, lifecycles=choice.lifecycles, cases=choice.cases,
                       dielectrics=choice.dielectrics, technologies=choice.technologies,
-                      makers=choice.makers, in_stock=choice.in_stock)
+                      makers=choice.makers, in_stock=choice.in_stock, packed=True)
     considered = len(cols["id"])
     notes: list[str] = []
     if considered == 0:
         raise QueryError("no capacitor in the store passes the filters (case, technology, "
                          "dielectric, maker, lifecycle, stock): widen them")
-    tech = cols["technology"]
-    ok_voltage = usable(rail.voltage, cols["rated_voltage"], tech, cols["electrolyte"],
-                        choice.min_voltage)
+    ok_voltage = _by_rows(cols, ("rated_voltage", "technology", "electrolyte"),
+                          lambda r, t, e: usable(rail.voltage, r, t, e, choice.min_voltage))
     keep = np.ones(considered, dtype=bool)
 
     def drop(mask: NDArray, why: str) -> None:
@@ -229,8 +282,8 @@ def load_candidates(store: Store, rail: Rail, choice: Choice) -> tuple[Parts, li
     value = np.asarray(cols["value"], dtype=float)
     drop(~(np.isfinite(esr) & np.isfinite(esl) & (value > 0)),
          "no ESR or ESL in the store (their impedance cannot be evaluated)")
-    diel_unknown = np.array([t == "mlcc" and not d for t, d in
-                             zip(tech, cols["dielectric"], strict=True)], dtype=bool)
+    diel_unknown = _by_rows(cols, ("technology", "dielectric"), lambda ts, ds: np.array(
+        [t == "mlcc" and not d for t, d in zip(ts, ds, strict=True)], dtype=bool))
     drop(diel_unknown, "MLCCs without a dielectric code (their DC-bias loss is unknown)")
     if choice.prefer == "cost" or choice.max_cost is not None:
         drop(~np.isfinite(np.asarray(cols["price"], dtype=float)),
@@ -238,7 +291,8 @@ def load_candidates(store: Store, rail: Rail, choice: Choice) -> tuple[Parts, li
     idx = np.flatnonzero(keep)
     if idx.size == 0:
         raise QueryError("no capacitor is left to plan with: " + "; ".join(notes))
-    parts = _parts_from({k: v[idx] for k, v in cols.items()}, rail)
+    parts = _parts_from(cols if idx.size == considered else
+                        {k: v[idx] for k, v in cols.items()}, rail)
     measured_only = choice.model_only and choice.model == "measured"
     parts = attach_models(store, parts, rail, choice.model,
                           choice.model_only and not measured_only, notes)
@@ -312,7 +366,16 @@ def reduce_candidates(parts: Parts, w: NDArray, f_band: tuple[float, float],
     # (far below the band a part acts as R + j omega L; at a common SRF smaller L is larger C).
     above = np.log10(srf) > hi
     key_l = np.where(above, -c, l_tot)
-    order = np.lexsort((w, key_l, r_bin, s_bin))
+    rows = np.arange(len(key_l))
+    if per_bin == 1 and len(key_l):
+        # one part per bin: the first in the order below, so one with its bin's lowest key;
+        # only those are sorted (the same choice, without sorting a whole catalog)
+        s0, r0 = s_bin - s_bin.min(), r_bin - r_bin.min()
+        cell = s0 * (int(r0.max()) + 1) + r0
+        low = np.full(int(cell.max()) + 1, np.inf)
+        np.minimum.at(low, cell, key_l)
+        rows = np.flatnonzero(key_l <= low[cell])
+    order = rows[np.lexsort((w[rows], key_l[rows], r_bin[rows], s_bin[rows]))]
     sb, rb = s_bin[order], r_bin[order]
     start = np.flatnonzero(np.concatenate([[True], (sb[1:] != sb[:-1]) | (rb[1:] != rb[:-1])]))
     ends = np.append(start[1:], len(order))

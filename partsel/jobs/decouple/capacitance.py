@@ -45,9 +45,12 @@ def worst_case_ratio(tolerance: NDArray, technology: NDArray,
 
 def capacitance_at_bias(voltage: float, value: NDArray, technology: NDArray,
                         dielectric: NDArray, case: NDArray, rated_voltage: NDArray,
-                        bias_v: NDArray, bias_ratio: NDArray) -> tuple[NDArray, NDArray]:
+                        bias_v: NDArray, bias_ratio: NDArray,
+                        curves: tuple[NDArray, NDArray, NDArray] | None = None,
+                        estimate: NDArray | None = None) -> tuple[NDArray, NDArray]:
     """C at a DC voltage [F] and where the ratio came from (index into BIAS_LABELS), by the
-    one bias policy of :func:`partsel.jobs.models.bias_ratio_columns`."""
+    one bias policy of :func:`partsel.jobs.models.bias_ratio_columns` (``curves`` and
+    ``estimate`` as there)."""
     ratio, source = bias_ratio_columns(voltage, value, technology, dielectric, case,
-                                       rated_voltage, bias_v, bias_ratio)
+                                       rated_voltage, bias_v, bias_ratio, curves, estimate)
     return np.asarray(value, dtype=float) * ratio, source

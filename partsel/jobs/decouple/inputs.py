@@ -165,24 +165,31 @@ class Board:
 
     def mounting(self, case: NDArray, mounting: NDArray) -> NDArray[np.float64]:
         """Mounting inductance of each part [H]: per-case value, else the one value, else the
-        default for its case (leaded and unknown packages by their own defaults)."""
+        default for its case (leaded and unknown packages by their own defaults). Evaluated
+        once per distinct (case, mounting) pair: a catalog has a few dozen of them."""
         by_case = {k.upper(): v for k, v in self.mount_l_by_case.items()}
-        out = np.empty(len(case))
-        for i, (c, m) in enumerate(zip(case, mounting, strict=True)):
-            key = (c or "").upper()
-            if key in by_case:
-                out[i] = by_case[key]
-            elif m == THROUGH_HOLE and THROUGH_HOLE.upper() in by_case:
-                out[i] = by_case[THROUGH_HOLE.upper()]
-            elif self.mount_l is not None:
-                out[i] = self.mount_l
-            elif m == THROUGH_HOLE:
-                out[i] = MOUNT_L_THROUGH_HOLE
-            elif self.via_length is not None:
-                out[i] = self.via_mounting(key)
-            else:
-                out[i] = MOUNT_L_BY_CASE.get(key, MOUNT_L_OTHER)
-        return out
+        seen: dict[tuple, int] = {}
+        inv = np.fromiter((seen.setdefault(k, len(seen)) for k in zip(case, mounting,
+                                                                        strict=True)),
+                          dtype=np.intp, count=len(case))
+        vals = np.empty(len(seen))
+        for (c, m), i in seen.items():
+            vals[i] = self._mount_one(by_case, c, m)
+        return vals[inv]
+
+    def _mount_one(self, by_case: dict[str, float], c: str | None, m: str | None) -> float:
+        key = (c or "").upper()
+        if key in by_case:
+            return by_case[key]
+        if m == THROUGH_HOLE and THROUGH_HOLE.upper() in by_case:
+            return by_case[THROUGH_HOLE.upper()]
+        if self.mount_l is not None:
+            return self.mount_l
+        if m == THROUGH_HOLE:
+            return MOUNT_L_THROUGH_HOLE
+        if self.via_length is not None:
+            return self.via_mounting(key)   # type: ignore[return-value]
+        return MOUNT_L_BY_CASE.get(key, MOUNT_L_OTHER)
 
     def branches(self) -> tuple[pdn.Branches, list[str]]:
         """The plane and regulator as branches, with their labels."""

@@ -84,20 +84,22 @@ def _plan_once(rail: Rail, cands, w, limits: Limits, notes: list[str], considere
                   unreachable=layout.unreachable if layout is not None else None)
     if out.search is not None:
         res.lower_bound = lower_bound(out.search, limits.max_parts)
-    res.alternatives = _alternatives(cands, out.alternatives, rail.design_target / rail.target)
+    res.alternatives = _alternatives(cands, out.alternatives, rail.design_target / rail.target,
+                                     out.worst)
     return res
 
 
-def _alternatives(cands, found, share: float) -> list[dict]:
+def _alternatives(cands, found, share: float, worst) -> list[dict]:
     """Banks the search passed on its way, one per line count, Pareto-filtered on (lines,
-    parts, cost): the fewest parts for each number of lines, and the cheapest."""
+    parts, cost): the fewest parts for each number of lines, and the cheapest; the worst
+    |Z| / Z_t of each bank kept by ``worst`` (an exact band check, so only for those)."""
     rows = []
-    for counts, worst in found:
+    for counts in found:
         used = np.flatnonzero(counts > 0)
         price = cands.price[used]
         cost = float(counts[used] @ price) if np.all(np.isfinite(price)) else None
         rows.append({"lines": len(used), "parts": int(counts.sum()), "cost": cost,
-                     "worst_ratio": worst * share,
+                     "counts": counts,
                      "bank": [{"part_number": str(cands.part_number[i]),
                                "count": int(counts[i])} for i in used]})
     keep = []
@@ -110,7 +112,9 @@ def _alternatives(cands, found, share: float) -> list[dict]:
         if not dominated and all((k["lines"], k["parts"]) != (r["lines"], r["parts"])
                                  for k in keep):
             keep.append(r)
-    return sorted(keep, key=lambda r: (r["lines"], r["parts"]))[:ALTERNATIVES]
+    shown = sorted(keep, key=lambda r: (r["lines"], r["parts"]))[:ALTERNATIVES]
+    return [{"lines": r["lines"], "parts": r["parts"], "cost": r["cost"],
+             "worst_ratio": worst(r["counts"]) * share, "bank": r["bank"]} for r in shown]
 
 
 ALTERNATIVES = 6    # rows of the alternatives table, fewest lines first

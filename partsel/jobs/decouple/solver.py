@@ -5,6 +5,7 @@
 from __future__ import annotations
 
 import time
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -165,7 +166,8 @@ class Outcome:
     met: bool
     stats: dict[str, Any]
     search: Search | None = None
-    alternatives: list[tuple[NDArray, float]] = field(default_factory=list)  # (counts, worst)
+    alternatives: list[NDArray] = field(default_factory=list)   # banks passed on the way
+    worst: Callable[[NDArray], float] | None = None   # worst |Z| / Z_t of a bank, exactly
 
 
 class _Solver:
@@ -195,9 +197,11 @@ class _Solver:
         # the lossless anti-resonances and 200 points per decade, so they cannot hide a peak
         # above it); the bank returned passes the full check (``strict``).
         if isinstance(self.board, Layout):
+            # the ring holds the lines in use only: the candidates with count 0 add nothing
+            # but their evaluation (all of them at every frequency of the scan)
             ring = self.cands.with_counts(counts) if isinstance(self.cands, Bank) else \
                 _bank(self.cands, counts, pdn.Branches.of(np.empty(0), np.empty(0),
-                                                          np.empty(0)))
+                                                          np.empty(0))).used()
             net = self.board.network(ring)
             if self.strict:
                 return net.scan(*self.band, self.board.mask)
@@ -372,11 +376,13 @@ def solve(cands: Network, board: Board, target: float,
             key = c.tobytes()
             if key not in seen and sv.allows_but_lines(c):
                 seen.add(key)
-                alternatives.append((c, sv.worst(c)))
+                alternatives.append(c)
     sv.stats["seconds"] = time.perf_counter() - t0
+    # the worst ratio of an alternative is an exact band check: made only for the banks
+    # shown (Outcome.worst), not for every bank passed
     if best is None:
-        return Outcome(best_within, False, sv.stats, sv.search, alternatives)
-    return Outcome(best, True, sv.stats, sv.search, alternatives)
+        return Outcome(best_within, False, sv.stats, sv.search, alternatives, sv.worst)
+    return Outcome(best, True, sv.stats, sv.search, alternatives, sv.worst)
 
 
 def _bank(cands: Network, counts: NDArray, board: pdn.Branches) -> Network:
