@@ -37,9 +37,9 @@ or a measured curve it is the layer the measured curves take, a stated approxima
 build is judged on a grid: :data:`YIELD_PER_DECADE` points per decade over the band plus
 :data:`PEAK_POINTS` points within +-:data:`PEAK_SPAN` of each peak of the nominal bank at
 every end that reach :data:`PEAK_FLOOR` of the target, and each such peak itself (tolerance
-moves a resonance by about half the change of C); a peak of a build between grid points is found by the parabola through the grid maximum and its neighbours
-(:func:`_vertex`); the tests hold the nominal bank's grid value to the exact band check within
-1e-3.
+moves a resonance by about half the change of C); a peak of a build between grid points is
+found by the parabola through the grid maximum and its neighbours (:func:`_vertex`); the tests
+hold the nominal bank's grid value to the exact band check within 1e-3.
 """
 
 from __future__ import annotations
