@@ -65,6 +65,44 @@ def _pa(values: NDArray) -> Any:
     return pa.Array.from_buffers(pa.int64(), len(data), [None, pa.py_buffer(data)])
 
 
+def _pa_text(values: Sequence[str | None]) -> Any:
+    """Strings (None for NULL) as a pyarrow array built from its buffers: ``pa.array`` of a
+    Python list imports pandas (a third of a second of a command's start-up)."""
+    import pyarrow as pa
+
+    n = len(values)
+    valid = np.fromiter((v is not None for v in values), dtype=bool, count=n)
+    data = [v.encode("utf-8") if v is not None else b"" for v in values]
+    offsets = np.zeros(n + 1, dtype=np.int64)
+    np.cumsum(np.fromiter(map(len, data), dtype=np.int64, count=n), out=offsets[1:])
+    nulls = int(n - valid.sum())
+    bitmap = pa.py_buffer(np.packbits(valid, bitorder="little")) if nulls else None
+    return pa.Array.from_buffers(pa.large_string(), n, [bitmap, pa.py_buffer(offsets),
+                                                        pa.py_buffer(b"".join(data))],
+                                 null_count=nulls)
+
+
+def _pa_lists(arrays: Sequence[Any], dtype: type) -> Any:
+    """Lists of numbers (``np.int64`` or ``np.float64``) as a pyarrow list array built from
+    its buffers (as :func:`_pa_text`, without pandas)."""
+    import pyarrow as pa
+
+    n = len(arrays)
+    parts = [np.asarray(a, dtype=dtype).ravel() for a in arrays]
+    flat = np.ascontiguousarray(np.concatenate(parts) if parts else np.zeros(0, dtype))
+    offsets = np.zeros(n + 1, dtype=np.int64)
+    np.cumsum(np.fromiter(map(len, parts), dtype=np.int64, count=n), out=offsets[1:])
+    kind = pa.int64() if np.dtype(dtype).kind == "i" else pa.float64()
+    values = pa.Array.from_buffers(kind, len(flat), [None, pa.py_buffer(flat)])
+    return pa.LargeListArray.from_arrays(_pa(offsets), values)
+
+
+def _pa_table(columns: dict[str, Any]) -> Any:
+    import pyarrow as pa
+
+    return pa.Table.from_arrays(list(columns.values()), names=list(columns))
+
+
 def _flat(column: Any) -> tuple[NDArray, NDArray]:
     """(values, offsets) of an Arrow list column; a NULL list counts as empty."""
     import pyarrow as pa
@@ -239,21 +277,15 @@ def replace_models(store: Store, rows: Sequence[ModelRow], *, reason: str) -> in
     one goes to ``model_history`` with ``reason``), in one transaction. Returns the count.
 
     The rows go in as one Arrow table, so thousands of models cost three statements."""
-    import pyarrow as pa
-
     store.require_write("store models")
     if not rows:
         return 0
-    new = pa.table({
-        "maker": [r.maker for r in rows], "part_number": [r.part_number for r in rows],
-        "source": [r.source for r in rows], "family": [r.family for r in rows],
-        "source_file": [r.source_file for r in rows], "subckt": [r.subckt for r in rows],
-        "text": [r.text for r in rows],
-        "ints": pa.array([np.asarray(r.ints, dtype=np.int64) for r in rows],
-                         type=pa.list_(pa.int64())),
-        "reals": pa.array([np.asarray(r.reals, dtype=float) for r in rows],
-                          type=pa.list_(pa.float64())),
-        "note": [r.note for r in rows]})
+    new = _pa_table({
+        **{c: _pa_text([getattr(r, c) for r in rows]) for c in (
+            "maker", "part_number", "source", "family", "source_file", "subckt", "text")},
+        "ints": _pa_lists([r.ints for r in rows], np.int64),
+        "reals": _pa_lists([r.reals for r in rows], np.float64),
+        "note": _pa_text([r.note for r in rows])})
     con = store.con
     _register(store, "partsel_new_models", new)
     try:
@@ -309,17 +341,14 @@ def part_candidates(store: Store, names: Sequence[str], *,
     candidates for a SPICE-safe form, which the caller confirms. ``maker`` keeps the parts of
     that maker (any letter case). Each row: ``idx`` (the position in ``names``), ``tier`` and
     :data:`CANDIDATE_COLUMNS`; a part may appear at several tiers."""
-    import pyarrow as pa
-
     if not names:
         return []
     keys = [alnum_key(n) for n in names]
-    _register(store, "partsel_names", pa.table({
-        "idx": pa.array(range(len(names)), type=pa.int64()),
-        "name": pa.array(list(names), type=pa.string()),
-        "akey": pa.array(keys, type=pa.string()),
-        "akey2": pa.array([k[1:] if k.startswith("p") else None for k in keys],
-                          type=pa.string())}))
+    _register(store, "partsel_names", _pa_table({
+        "idx": _pa(np.arange(len(names))),
+        "name": _pa_text(list(names)),
+        "akey": _pa_text(keys),
+        "akey2": _pa_text([k[1:] if k.startswith("p") else None for k in keys])}))
     cols = ", ".join(f'p."{c}"' for c in CANDIDATE_COLUMNS)
     where, params = ("WHERE lower(maker) = lower(?)", [maker]) if maker else ("", [])
     try:
@@ -368,13 +397,11 @@ def existing_models(store: Store, keys: Sequence[tuple[str, str]],
                     source: str) -> dict[tuple[str, str], dict[str, Any]]:
     """(maker, part_number) -> the newest stored model of ``source`` of those parts that have
     one (family, source_file, subckt, imported_at)."""
-    import pyarrow as pa
-
     if not keys or not has_models(store):
         return {}
-    _register(store, "partsel_keys", pa.table({
-        "maker": pa.array([k[0] for k in keys], type=pa.string()),
-        "part_number": pa.array([k[1] for k in keys], type=pa.string())}))
+    _register(store, "partsel_keys", _pa_table({
+        "maker": _pa_text([k[0] for k in keys]),
+        "part_number": _pa_text([k[1] for k in keys])}))
     try:
         rows = store.con.execute(
             "SELECT m.maker, m.part_number, m.family, m.source_file, m.subckt, m.imported_at "
