@@ -106,10 +106,10 @@ def _pa_table(columns: dict[str, Any]) -> Any:
 def _flat(column: Any) -> tuple[NDArray, NDArray]:
     """(values, offsets) of an Arrow list column; a NULL list counts as empty."""
     import pyarrow as pa
-    import pyarrow.compute as pc
 
     arr = column.combine_chunks() if isinstance(column, pa.ChunkedArray) else column
     if arr.null_count:
+        import pyarrow.compute as pc  # 50 ms of start-up: only when there is a NULL list
         arr = pc.fill_null(arr, pa.scalar([], type=arr.type))
     offsets = np.asarray(_np(arr.offsets), dtype=np.int64)
     # flatten() holds the values of this (possibly sliced) array only, as the offsets below
