@@ -109,12 +109,12 @@ def _flat(column: Any) -> tuple[NDArray, NDArray]:
 
     arr = column.combine_chunks() if isinstance(column, pa.ChunkedArray) else column
     if arr.null_count:
-        import pyarrow.compute as pc  # 50 ms of start-up: only when there is a NULL list
+        import pyarrow.compute as pc  # 0.1 s of start-up: only when there is a NULL list
         arr = pc.fill_null(arr, pa.scalar([], type=arr.type))
     offsets = np.asarray(_np(arr.offsets), dtype=np.int64)
-    # flatten() holds the values of this (possibly sliced) array only, as the offsets below
-    values = _np(arr.flatten())
-    return values, offsets - offsets[0] if len(offsets) else offsets
+    # the child array whole (``values``; flatten() would import pyarrow.compute): the offsets
+    # of a sliced array point into it as they are
+    return _np(arr.values), offsets
 
 
 def _arrow(relation: Any) -> Any:
@@ -187,29 +187,35 @@ def stored_models(store: Store, *, kind: str | None = None,
     rowids = np.asarray(_np(table.column("row")), dtype=np.int64)
     by_row = np.argsort(rowids)
     at = by_row[np.searchsorted(rowids[by_row], row)]
-    meta = table.select(["row", "source", "family", "imported_at"]).take(_pa(at))
-    meta = meta.append_column("part_id", _pa(part_id))
-    order = _newest_in_order(meta)
+    # the small columns as numpy and lists, picked by position (Arrow's take and sort would
+    # import pyarrow.compute: a tenth of a second of a command's start-up)
+    source_all = np.asarray(table.column("source").to_pylist(), dtype=object)
+    family_all = np.asarray(table.column("family").to_pylist(), dtype=object)
+    src_codes = _codes(source_all)
+    fam_codes = _codes(family_all)
+    stamps = _stamps(table.column("imported_at"))
+    order = _newest_in_order(part_id, rowids[at], src_codes[at], fam_codes[at], stamps[at])
     sel = at[order]
-    info = table.select(["source", "family", "source_file", "subckt", "imported_at",
-                         "note"]).take(_pa(sel))
     ints, int_off = _flat(table.column("ints"))
     reals, real_off = _flat(table.column("reals"))
     part_id = part_id[order]
-    source = _codes(info.column("source"))
-    family = _codes(info.column("family"))
+    source, family = src_codes[sel], fam_codes[sel]
+    files = table.column("source_file").to_pylist()
+    subckts = table.column("subckt").to_pylist()
+    notes = table.column("note").to_pylist()
+    dates = _datetimes(table.column("imported_at"))
     cuts = np.flatnonzero((source[1:] != source[:-1]) | (family[1:] != family[:-1])) + 1
     out = []
     for start, end in zip(np.r_[0, cuts], np.r_[cuts, len(sel)], strict=True):
-        rows, part = sel[start:end], info.slice(int(start), int(end - start))
+        rows = sel[start:end]
         gi, gio = _gather(ints, int_off, rows)
         gr, gro = _gather(reals, real_off, rows)
         out.append(StoredModels(
-            part.column("source")[0].as_py(), part.column("family")[0].as_py(),
+            source_all[rows[0]], family_all[rows[0]],
             part_id[start:end].copy(), np.asarray(gi, dtype=np.int64), gio,
             np.asarray(gr, dtype=float), gro,
-            part.column("source_file").to_pylist(), part.column("subckt").to_pylist(),
-            _datetimes(part.column("imported_at")), part.column("note").to_pylist()))
+            [files[i] for i in rows], [subckts[i] for i in rows],
+            [dates[i] for i in rows], [notes[i] for i in rows]))
     return out
 
 
@@ -229,31 +235,40 @@ def _datetimes(column: Any) -> list[datetime | None]:
     return values.astype("datetime64[us]").astype(object).tolist()
 
 
-def _codes(column: Any) -> NDArray[np.int64]:
-    """Integer codes of a string column (equal strings, equal codes)."""
-    import pyarrow.compute as pc
-    return np.asarray(_np(pc.dictionary_encode(column).combine_chunks().indices), dtype=np.int64)
+def _stamps(column: Any) -> NDArray[np.int64]:
+    """A timestamp column as integers in its order; NULL (no date) counts as the oldest."""
+    raw = np.asarray(_np(column))
+    if raw.dtype.kind == "M":
+        null = np.isnat(raw)
+        out = raw.astype("datetime64[us]").astype(np.int64)
+    else:
+        null = np.zeros(len(raw), dtype=bool)
+        out = raw.astype(np.int64)
+    out[null] = np.iinfo(np.int64).min + 1
+    return out
 
 
-def _newest_in_order(meta: Any) -> NDArray[np.int64]:
-    """Positions in ``meta`` (part_id, row, source, family, imported_at) of the newest model
+def _codes(values: NDArray[np.object_]) -> NDArray[np.int64]:
+    """Integer codes of strings in their sorted order (equal strings, equal codes; a
+    smaller string, a smaller code)."""
+    if not len(values):
+        return np.zeros(0, dtype=np.int64)
+    return np.unique(values, return_inverse=True)[1].astype(np.int64).ravel()
+
+
+def _newest_in_order(part_id: NDArray[np.int64], row: NDArray[np.int64],
+                     source: NDArray[np.int64], family: NDArray[np.int64],
+                     imported_at: NDArray[np.int64]) -> NDArray[np.int64]:
+    """Positions (in these arrays, one entry per model row of a part) of the newest model
     of each (part, source), ordered by source, family and part: the sorting is done on the
     small columns, so that the packed lists move once (sorting them inside the query cost more
-    than the rest of the read)."""
-    import pyarrow.compute as pc
-
-    newest = np.asarray(_np(pc.sort_indices(meta, sort_keys=[
-        ("source", "ascending"), ("part_id", "ascending"), ("imported_at", "descending"),
-        ("row", "descending")])), dtype=np.int64)
-    ordered = meta.take(_pa(newest))
-    pid = np.asarray(_np(ordered.column("part_id")), dtype=np.int64)
-    src = _codes(ordered.column("source"))
+    than the rest of the read). ``source`` and ``family`` are codes in the strings' order."""
+    # by source, part, newest import first, last row first (np.lexsort: last key first)
+    newest = np.lexsort((-row, -imported_at, part_id, source))
+    pid, src = part_id[newest], source[newest]
     first = np.r_[True, (pid[1:] != pid[:-1]) | (src[1:] != src[:-1])]
     kept = newest[first]
-    order = np.asarray(_np(pc.sort_indices(meta.take(_pa(kept)), sort_keys=[
-        ("source", "ascending"), ("family", "ascending"), ("part_id", "ascending")])),
-        dtype=np.int64)
-    return kept[order]
+    return kept[np.lexsort((part_id[kept], family[kept], source[kept]))]
 
 
 @dataclass(frozen=True)
