@@ -7,7 +7,10 @@ the command or after an uninterrupted run, never a mix. ``sweep import --fit`` i
 by design (the sweep, then the fit; the sweep stays when the fit is refused), so the state
 after its first step is allowed too, and a Ctrl-C there must say that the sweep was kept.
 After SIGINT the process exits 130 and its last line on stderr is the one ``Error:`` line
-saying nothing was changed, or what was kept; never a traceback. A new store is built under a
+saying nothing was changed, or what was kept; never a traceback. (No SIGINT comes before
+a bare interpreter could have started, with a margin; one that still lands in Python's own
+start-up, before any partsel code runs, on a loaded machine, is counted apart, and the store
+must be as before.) A new store is built under a
 temporary name (``.NAME.new-PID``) and renamed: only SIGKILL may leave that file behind, and
 the next open (here ``partsel check``) removes it and says so.
 
@@ -27,7 +30,6 @@ import random
 import re
 import shutil
 import signal
-import statistics
 import subprocess
 import sys
 import time
@@ -52,6 +54,12 @@ INTERRUPTED = re.compile(r"^Error: interrupted; (nothing was changed|kept: .+; n
 # import time): a rerun in another minute must not count as other content
 _MINUTE = r"\d{4}-\d\d-\d\d[ T]\d\d:\d\d(:\d\d(\.\d+)?)?"
 RESULTS: dict[str, Counter] = {}
+# what Python prints when a Ctrl-C lands while it imports site, before any partsel code runs
+PYTHON_START = "Fatal Python error: init_import_site"
+
+
+def states_before(states: dict[str | None, str]) -> str | None:
+    return next(h for h, name in states.items() if name == "before")
 
 
 def content(store: Path) -> str | None:
@@ -163,13 +171,13 @@ def world(tmp_path_factory: pytest.TempPathFactory) -> dict:
     # Python's, as for any program): no SIGINT before a bare interpreter has imported the
     # handler and exited
     t = []
-    for _ in range(3):
+    for _ in range(5):
         t0 = time.perf_counter()
         subprocess.run([sys.executable, "-c", "import partsel.interrupt"], check=True,
                        env=_env(home))
         t.append(time.perf_counter() - t0)
     yield {"root": root, "scenarios": scenarios, "home": home,
-           "sigint_after": statistics.median(t)}
+           "sigint_after": 1.5 * max(t)}   # a margin: a loaded machine starts slower
     _summary()
 
 
@@ -251,8 +259,16 @@ def test_killed_command_leaves_old_or_new_content(world, name: str) -> None:
             shutil.copy(sc.base, store)
         rc, err, sent, _ = _run(store, sc.args, home, sig, delay, default=sc.default)
         where = f"{name}: {sig.name} after {delay:.3f} s (exit {rc})"
-        assert "Traceback" not in err, f"{where}:\n{err[-1500:]}"
         lines = err.strip().splitlines()
+        if sig == signal.SIGINT and sent and PYTHON_START in err:
+            # the machine was slower than the bound above: Python's own start-up (site and
+            # its .pth files) took the Ctrl-C before partsel could; nothing of partsel ran
+            assert rc == 1 and str(ROOT / "partsel") not in err, f"{where}: {err}"
+            assert content(store) == states_before(states), f"{where}: the store changed"
+            tally["SIGINT in Python's own start-up: before"] += 1
+            tally["kills"] += 1
+            continue
+        assert "Traceback" not in err, f"{where}:\n{err[-1500:]}"
         if not sent or rc == 0:
             assert rc == 0, f"{where}: {err[-500:]}"
             outcome = "finished"
