@@ -408,6 +408,7 @@ GLOSSARY: dict[str, str] = {
     "digest": "content hash of the store (SHA-256)",
     "ok": "true when no problem was found",
     "problems": "what is wrong with the store",
+    "removed": "files a killed first use left beside the store, removed by the check",
     "path": "the file or folder read",
     "files": "files read",
     "ignored_files": "files skipped (not a model format)",

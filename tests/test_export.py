@@ -217,20 +217,53 @@ def test_parquet_round_trip_of_generated_parts(tmp_path):
     a, b = _parts(first), _parts(second)
     numeric = [c for c in a.columns if a[c].dtype.kind in "fi"]
     pd.testing.assert_frame_equal(a[numeric], b[numeric])      # exact doubles and integers
-    # text columns as they were; the bias curve text is rewritten in its canonical form on
-    # import, so its parsed points are compared below
-    text = [c for c in a.columns if c not in numeric + ["bias_v", "bias_ratio", "extra",
-                                                         "bias_curve"]]
+    # text columns as they were, the bias curve's text too (the generator writes it in the
+    # importer's canonical form)
+    text = [c for c in a.columns if c not in numeric + ["bias_v", "bias_ratio", "extra"]]
     pd.testing.assert_frame_equal(a[text], b[text])
     def as_list(x):
         return list(x) if pd.api.types.is_list_like(x) else None
     for col in ("bias_v", "bias_ratio"):
         assert list(map(as_list, a[col])) == list(map(as_list, b[col]))
     assert a["bias_v"].map(as_list).notna().sum() > 50   # the generator gives many curves
-    def as_text(v):
-        return repr(v) if isinstance(v, float) else str(v)
-    # extra columns come back as the text of their values
-    assert [{k: as_text(v) for k, v in e.items()} for e in a["extra"]] == list(b["extra"])
+    # extra columns are stored as the text of their values, as a catalog file gives them
+    assert list(a["extra"]) == list(b["extra"])
+    ac = [e["rated_voltage_ac"] for e in a["extra"] if "rated_voltage_ac" in e]
+    assert ac and all(isinstance(v, str) and float(v) > 0 for v in ac)
+
+
+def test_parquet_round_trip_of_a_demo_store_is_silent_and_lossless(tmp_path, cli):
+    """``export parquet`` then ``import`` into a new store: no remark (the demo's extra column
+    ``rated_voltage_ac`` stands beside ``rated_voltage``, so it is no typo), and the same rows;
+    imported once more into the first store, every part is unchanged."""
+    first, second = tmp_path / "a.duckdb", tmp_path / "b.duckdb"
+    assert cli("--store", first, "demo", "--parts", "1500", "--seed", "3").exit_code == 0
+    out = tmp_path / "a.parquet"
+    assert cli("--store", first, "export", "parquet", "--out", out).exit_code == 0
+    assert "rated_voltage_ac" in pd.read_parquet(out).columns
+    for store, said in ((second, "1500 parts added"), (first, "(1500 of them unchanged)")):
+        res = cli("--store", store, "import", out)
+        assert res.exit_code == 0, res.output
+        lines = res.output.strip().splitlines()
+        assert len(lines) == 1 and said in lines[0], res.output   # the summary line only
+    a, b = _parts(first), _parts(second)
+    assert a["extra"].map(len).sum() > 0 and a["bias_curve"].notna().sum() > 50
+    pd.testing.assert_frame_equal(a, b)
+
+
+def test_a_typo_beside_its_catalog_column_is_no_look_alike(tmp_path, cli):
+    """The remark names a catalog column the file lacks; a column next to the one it
+    resembles is kept without a remark."""
+    cat = tmp_path / "c.csv"
+    cat.write_text("part_number,maker,kind,value,rated_voltage,rated_voltage_ac,rated_votlage2\n"
+                   "A,M,capacitor,1nF,354V,250,1\n")
+    res = cli("--store", tmp_path / "s.duckdb", "import", "--dry-run", cat)
+    assert res.exit_code == 0
+    assert "rated_voltage_ac" not in res.output and "rated_votlage2" not in res.output
+    cat.write_text("part_number,maker,kind,value,rated_voltage_ac\nA,M,capacitor,1nF,250\n")
+    res = cli("--store", tmp_path / "s.duckdb", "import", "--dry-run", cat)
+    assert "column 'rated_voltage_ac' is not a catalog column" in res.output
+    assert "did you mean 'rated_voltage'?" in res.output
 
 
 def test_write_atomic_leaves_nothing_behind_on_failure(tmp_path, monkeypatch):

@@ -202,19 +202,19 @@ def test_fit_errors_change_nothing(store):
 
 
 def test_fit_that_does_not_converge_is_refused(store, monkeypatch):
-    import partsel.jobs.measured as measured
+    import partsel.engine.fit as fitting  # where the job looks the fit up when it runs
     f = np.logspace(4, 9, 50)
     with open_store(store, write=True) as s:
         store_sweep(s, "C100N", f, rlc.impedance(f, 100e-9, 10e-3, 0.8e-9))
     before = _dump(store)
 
-    real = measured.fit_capacitor
+    real = fitting.fit_capacitor
 
     def failing(*args, **kwargs):
         r = real(*args, **kwargs)
         r.success, r.message = False, "maximum number of evaluations exceeded"
         return r
-    monkeypatch.setattr(measured, "fit_capacitor", failing)
+    monkeypatch.setattr(fitting, "fit_capacitor", failing)
     with open_store(store, write=True) as s, pytest.raises(ModelError, match="did not converge"):
         fit_part(s, "C100N")
     assert _dump(store) == before

@@ -68,3 +68,105 @@ def test_commands_on_a_store_with_makers_models_do_not_import_pandas(tmp_path):
             ([*s, "decouple", "--rail", "1.0V", "--target", "3mohm", "--band",
               "10kHz..100MHz"], "decouple")):
         assert _loaded_after(argv) == f"['partsel.cli.cmd_{module}']", argv
+
+
+# -- heavy libraries a command does not use stay out of its process --------------------------
+
+ROOT = __import__("pathlib").Path(__file__).resolve().parents[1]
+DEMO = ROOT / "data_demo"
+HEAVY = ("pandas", "pyarrow", "scipy", "matplotlib", "starlette", "uvicorn", "plotly",
+         "pyarrow.compute")   # 0.1 s: reading stored models needs pyarrow, not its compute
+_MODULES_AFTER = """
+import json, sys
+from partsel import interrupt
+interrupt.install()
+from partsel.cli import app
+sys.argv = ["partsel", *json.loads(sys.argv[1])]
+try:
+    app()
+except SystemExit:
+    pass
+print(json.dumps(sorted(sys.modules)))
+"""
+
+
+def _heavy_after(argv: list) -> set[str]:
+    """The libraries of HEAVY loaded by the end of ``partsel ARGV`` (in a fresh process, as
+    sorted(sys.modules) there)."""
+    import json
+    import os
+    env = {**os.environ, "PYTHONPATH": os.pathsep.join(
+        [str(ROOT), *filter(None, [os.environ.get("PYTHONPATH")])])}
+    p = subprocess.run([sys.executable, "-c", _MODULES_AFTER, json.dumps([str(a) for a in argv])],
+                       capture_output=True, text=True, check=False, cwd=ROOT, env=env)
+    assert "Traceback" not in p.stderr, p.stderr
+    loaded = json.loads(p.stdout.strip().splitlines()[-1])
+    return {m for m in loaded if m in HEAVY}
+
+
+@__import__("pytest").fixture(scope="module")
+def stores(tmp_path_factory) -> dict:
+    """A demo store, and a copy with a measured sweep and makers' models."""
+    import shutil
+
+    from typer.testing import CliRunner
+    root = tmp_path_factory.mktemp("startup")
+    plain, rich = root / "plain.duckdb", root / "rich.duckdb"
+    runner = CliRunner()
+    assert runner.invoke(app_module.app, ["--store", str(plain), "demo"]).exit_code == 0
+    shutil.copy(plain, rich)
+    part = "KSC0603-105X7R025M-0001SY"
+    for argv in (["sweep", "import", str(DEMO / "measured" / f"{part}.s2p"), "--part", part,
+                  "--fixture", "shunt-thru"],
+                 ["model", "import", str(DEMO / "vendor" / "quillmere_mlcc.lib")]):
+        res = runner.invoke(app_module.app, ["--store", str(rich), *argv])
+        assert res.exit_code == 0, res.output
+    return {"plain": plain, "rich": rich, "root": root, "measured": part}
+
+
+CAP, IND = "KSC0402-224X7R016K-0003HG", "KSW0603-102CJ-0002B7"
+
+
+def test_help_and_a_plain_search_import_no_heavy_library(stores):
+    s = ["--store", stores["plain"]]
+    for argv in (["--help"], ["--version"], ["decouple", "--help"], ["find", "--help"],
+                 [*s, "find", "capacitor", "--below", "0.5ohm", "--band", "1MHz..30MHz"],
+                 [*s, "show", CAP], [*s, "check"]):
+        assert _heavy_after(argv) == set(), argv
+
+
+def test_commands_load_no_library_they_do_not_use(stores):
+    """Each command's allowance: scipy only where a fit or a linear programme runs, pandas
+    only where a catalog frame is read or written, pyarrow only to read or write stored
+    models; matplotlib, starlette, uvicorn and plotly never outside --plot and serve."""
+    p, r = ["--store", stores["plain"]], ["--store", stores["rich"]]
+    work = stores["root"] / "work.duckdb"
+    out = stores["root"] / "out"
+    out.mkdir(exist_ok=True)
+    m = stores["measured"]
+    cases = [
+        ([*r, "find", "capacitor", "--below", "0.5ohm", "--band", "1MHz..30MHz"], {"pyarrow"}),
+        ([*r, "show", CAP], {"pyarrow"}),
+        ([*p, "curve", CAP, "--band", "100kHz..1GHz"], set()),
+        ([*p, "alternates", CAP], set()),
+        ([*p, "bom", DEMO / "parts_list.csv"], set()),
+        ([*p, "inductive", IND, "--to", "30MHz"], set()),
+        ([*r, "sweep", "list", m], set()),
+        ([*r, "model", "list"], set()),
+        ([*r, "export", "spice", CAP, "--out", out / "c.lib"], {"pyarrow"}),
+        ([*r, "export", "touchstone", CAP, "--band", "1MHz..1GHz", "--out", out / "c.s2p"],
+         {"pyarrow"}),
+        (["--store", work, "sweep", "import", DEMO / "measured" / f"{m}.s2p", "--part", m,
+          "--fixture", "shunt-thru"], set()),
+        (["--store", work, "model", "import", DEMO / "vendor" / "quillmere_mlcc.lib"],
+         {"pyarrow"}),
+    ]
+    import shutil
+    for argv, allowed in cases:
+        shutil.copy(stores["plain"], work)
+        heavy = _heavy_after(argv)
+        assert heavy <= allowed, (argv, heavy - allowed)
+    # and the libraries a command does use are loaded there (the check above can fail)
+    shutil.copy(stores["rich"], work)
+    assert "scipy" in _heavy_after(["--store", work, "fit", m])
+    assert "pandas" in _heavy_after(["--store", work, "import", DEMO / "catalog.csv"])

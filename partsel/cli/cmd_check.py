@@ -19,7 +19,8 @@ def check_cmd(
 ) -> None:
     """Verify a store: file header, schema version, tables and columns, row counts, keys, and
     that every model and sweep belongs to a stored part. Nothing is changed, not even an
-    upgrade of an older store.
+    upgrade of an older store. Files a killed first use left beside it (.NAME.new-PID of a
+    process that has ended, and its .wal) are removed, and the report says which.
 
     Prints the counts and a digest of the content (equal for stores with the same parts,
     sweeps and models, whatever their import dates). Exit code 0: sound; 1: problems found
@@ -39,7 +40,8 @@ def check_cmd(
     if fmt != "table":
         payload = {"store": str(report.path), "schema_version": report.schema_version,
                    "counts": report.counts, "digest": report.digest, "ok": report.ok,
-                   "problems": report.problems, "notes": report.notes}
+                   "problems": report.problems, "notes": report.notes,
+                   "removed": [str(f) for f in report.removed]}
         echo(to_json(payload))
     else:
         c = report.counts

@@ -58,7 +58,8 @@ def import_cmd(
         frame, problems = check_catalog(file, mapped)
         for p in problems:
             echo(f"{file.name}: {p}")
-        for remark in look_alike_columns(frame.attrs.get("extra_columns", [])):
+        for remark in look_alike_columns(frame.attrs.get("extra_columns", []),
+                                         frame.attrs.get("file_columns", ())):
             echo(f"{file.name}: {remark}")
         if problems:
             rows = len(frame) if len(frame) else None

@@ -24,7 +24,14 @@ from __future__ import annotations
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
-from scipy.special import ndtr, ndtri
+
+
+def _normal():
+    """scipy's standard normal CDF and its inverse, imported on first use (scipy.special
+    costs a tenth of a second; most commands that import this module never draw)."""
+    from scipy.special import ndtr, ndtri
+    return ndtr, ndtri
+
 
 DISTRIBUTIONS = ("normal", "uniform")
 SIGMAS_AT_LIMIT = 3.0
@@ -34,6 +41,7 @@ def tolerance_ratios(rng: np.random.Generator, lo: ArrayLike, hi: ArrayLike, sam
                      distribution: str = "normal") -> NDArray[np.float64]:
     """(samples, P) ratios value/nominal for P parts with limits ``lo`` (<= 0) and ``hi``
     (>= 0) as signed fractions, drawn independently per sample and part."""
+    ndtr, ndtri = _normal()
     lo_a = np.minimum(np.asarray(lo, dtype=float), 0.0)
     hi_a = np.maximum(np.asarray(hi, dtype=float), 0.0)
     lo_a, hi_a = np.broadcast_arrays(lo_a, hi_a)
@@ -57,6 +65,7 @@ def share_in(lo: float, hi: float, tol_lo: float, tol_hi: float,
              distribution: str = "normal") -> float:
     """The probability that a part drawn by :func:`tolerance_ratios` has its ratio - 1 inside
     [lo, hi] (closed form; for tests and for one-part pass conditions)."""
+    ndtr, _ = _normal()
     a, b = max(lo, tol_lo), min(hi, tol_hi)
     if b <= a:
         return 0.0
@@ -76,6 +85,7 @@ def share_in(lo: float, hi: float, tol_lo: float, tol_hi: float,
 def wilson_interval(passed: int, total: int, confidence: float = 0.95
                     ) -> tuple[float, float]:
     """The Wilson score interval of a share ``passed/total`` at ``confidence`` (two-sided)."""
+    _, ndtri = _normal()
     if total <= 0:
         return 0.0, 1.0
     z = float(ndtri(0.5 + confidence / 2.0))

@@ -77,7 +77,9 @@ def read_cells(path: str | Path) -> pd.DataFrame:
     return out
 
 
-def _text_of(v: object) -> str:
+def cell_text(v: object) -> str:
+    """The text of one cell as the readers give it ('' for missing; a float as the shortest
+    text that reads back to the same double)."""
     if isinstance(v, bool | np.bool_ | list | tuple | np.ndarray | dict):
         return str(v)
     if v is None or (not isinstance(v, str) and bool(pd.isna(v))):
@@ -96,9 +98,9 @@ def _as_text(col: pd.Series) -> pd.Series:
     obj = col.astype(object)
     present = obj.notna().to_numpy()
     try:
-        conv = {v: _text_of(v) for v in pd.unique(obj[present])}
+        conv = {v: cell_text(v) for v in pd.unique(obj[present])}
     except TypeError:  # unhashable cells (lists in a Parquet column)
-        return obj.map(_text_of).astype(object)
+        return obj.map(cell_text).astype(object)
     if present.all() and all(isinstance(k, str) and k == v for k, v in conv.items()):
         return obj
     out = pd.Series("", index=col.index, dtype=object)

@@ -20,7 +20,6 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
-import pandas as pd
 from numpy.typing import NDArray
 
 from partsel.engine import ceramic, effects
@@ -120,6 +119,7 @@ def _floats(cols: dict[str, Any], key: str, n: int) -> NDArray[np.float64]:
 
 
 def _codes(values: Any) -> tuple[NDArray[np.intp], list[Any]]:
+    import pandas as pd
     codes, uniques = pd.factorize(pd.Series(np.asarray(values, dtype=object)), sort=False)
     return codes.astype(np.intp), list(uniques)
 
@@ -129,6 +129,7 @@ def _pairs(first: Any, second: Any) -> list[tuple[NDArray[np.bool_], Any, Any]]:
     unknown cell), factorized column by column: no text per part is built."""
     a, ua = _codes(first)
     b, ub = _codes(second)
+    import pandas as pd
     m = len(ub) + 1
     keys, uk = pd.factorize((a.astype(np.int64) + 1) * m + (b + 1), sort=False)
     out = []
@@ -144,6 +145,7 @@ def _curves(texts: Any, n: int) -> tuple[NDArray[np.bool_], NDArray[np.float64],
     none): the same (has, x, ratio) arrays."""
     if texts is None:
         return curve_arrays([None] * n)
+    import pandas as pd
     arr = np.asarray(texts, dtype=object)
     given = np.flatnonzero(pd.notna(arr) & (arr != ""))
     h, kx, ky = curve_arrays(list(arr[given]))

@@ -14,10 +14,9 @@ import tempfile
 from collections.abc import Sequence
 from datetime import datetime
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
-import pandas as pd
 
 from partsel import __version__
 from partsel.catalog import COLUMNS, MODEL_PARAMETERS, NAMES, PROVENANCES
@@ -34,6 +33,9 @@ from partsel.store import history
 from partsel.store.db import Store
 from partsel.store.parts import catalog_rows
 from partsel.units import format_quantity
+
+if TYPE_CHECKING:  # pandas (0.3-0.5 s with pyarrow) only for the Parquet catalog
+    import pandas as pd
 
 
 def writable_path(path: Path) -> Path:
@@ -245,6 +247,8 @@ def _extra_text(v: Any) -> str:
 def catalog_frame(store: Store) -> pd.DataFrame:
     """The whole catalog in the import format: catalog columns (SI values), the
     ``<param>_source`` columns, then extra columns (as text), sorted by maker and part number."""
+    import pandas as pd
+
     df = catalog_rows(store, list(NAMES) + [p + "_source" for p in MODEL_PARAMETERS])
     for c in COLUMNS:
         if c.sql_type in ("INTEGER", "BIGINT"):

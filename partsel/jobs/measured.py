@@ -18,13 +18,12 @@ import re
 from dataclasses import dataclass, field
 from datetime import datetime
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from partsel.catalog import MODEL_PARAMETERS
-from partsel.engine.fit import FitResult, fit_capacitor, fit_inductor
 from partsel.engine.models.measured import interpolate
 from partsel.errors import FileFormatError, ModelError, QueryError
 from partsel.io.sweep import MIN_POINTS
@@ -32,6 +31,9 @@ from partsel.store import history, sweeps
 from partsel.store.db import Store
 from partsel.store.sweeps import StoredSweep
 from partsel.units import format_quantity
+
+if TYPE_CHECKING:  # the fit needs scipy.optimize (0.3-0.4 s): imported when a fit runs
+    from partsel.engine.fit import FitResult
 
 TOUCHSTONE = re.compile(r"\.(s\d+p|ts)\Z", re.IGNORECASE)
 CSV_SUFFIXES = (".csv", ".txt", ".tsv")
@@ -223,10 +225,12 @@ def _initial(part: dict[str, Any]) -> dict[str, float] | None:
 def _run_fit(kind: str, f: NDArray, z: NDArray, tan_delta: bool, rp: bool,
              initial: dict[str, float] | None) -> FitResult:
     """Fit from the data's own start and, when given, from the stored model; keep the better."""
+    from partsel.engine import fit as fitting
+
     def one(start: dict[str, float] | None) -> FitResult:
         if kind == "capacitor":
-            return fit_capacitor(f, z, tan_delta=tan_delta, initial=start)
-        return fit_inductor(f, z, rp=rp, initial=start)
+            return fitting.fit_capacitor(f, z, tan_delta=tan_delta, initial=start)
+        return fitting.fit_inductor(f, z, rp=rp, initial=start)
 
     best = one(None)
     if initial is not None:

@@ -138,7 +138,14 @@ def parse_bias_curve(text: str) -> str:
     vs = [p[0] for p in points]
     if any(b <= a for a, b in zip(vs, vs[1:], strict=False)) or vs[0] < 0:
         raise CatalogError("bias curve voltages must be >= 0 and strictly ascending")
-    return ", ".join(f"{v!r}V:{r!r}" for v, r in points)
+    return ", ".join(f"{_short(v)}V:{_short(r)}" for v, r in points)
+
+
+def _short(x: float) -> str:
+    """The shortest text that reads back to the same double, without a trailing '.0' ('0',
+    '3.3', '1e-05'): the form the docstring above and the demo catalog write."""
+    text = repr(float(x))
+    return text[:-2] if text.endswith(".0") else text
 
 
 def column_parsers() -> dict[str, Callable[[str], Any]]:

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import json
 import os
+import re
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -186,12 +187,13 @@ def _create(p: Path, create: bool, write: bool, first_use: FirstUse | None) -> S
                          "choose another store path") from None
     # Built under a temporary name and renamed when complete, so that an interrupted or killed
     # first use leaves no store (the next run starts again), never an empty or half-filled one.
-    tmp = p.with_name(f".{p.name}.new-{os.getpid()}")
+    tmp = _temp_name(p, os.getpid())
+    cleaned = _cleanup_notice(remove_stale_temp_files(p)[0])
     mark = interrupt.mark()
     store = None
     try:
         _remove_database(tmp)
-        store = Store(p, _connect(tmp, read_only=False), read_only=False)
+        store = Store(p, _connect(tmp, read_only=False), read_only=False, notices=cleaned)
         schema.migrate(store.con, None)
         if first_use is not None:
             store.notices.append(first_use(store))
@@ -213,6 +215,74 @@ def _create(p: Path, create: bool, write: bool, first_use: FirstUse | None) -> S
 def _remove_database(path: Path) -> None:
     for f in (path, path.with_name(path.name + ".wal")):
         f.unlink(missing_ok=True)
+
+
+def _temp_name(p: Path, pid: int) -> Path:
+    """The name :func:`_create` builds the store ``p`` under in process ``pid``."""
+    return p.with_name(f".{p.name}.new-{pid}")
+
+
+def _alive(pid: int) -> bool:
+    """Whether process ``pid`` exists on this machine (one of another user counts as alive)."""
+    if pid <= 0:
+        return True          # not a process id a store was built by: never remove its file
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except (OSError, OverflowError):   # PermissionError: another user's process
+        return True
+    return True
+
+
+def stale_temp_files(path: str | os.PathLike[str]) -> list[Path]:
+    """Files left next to the store ``path`` by a first use that was killed before it ended
+    (``.NAME.new-PID`` and its ``.wal``, where process PID no longer exists), sorted. Nothing
+    else is listed: no other name, no directory, no file of a live process."""
+    p = Path(path).expanduser()
+    pattern = re.compile(r"\." + re.escape(p.name) + r"\.new-([0-9]{1,10})(\.wal)?")
+    try:
+        entries = list(os.scandir(p.parent))
+    except OSError:
+        return []
+    out = []
+    for e in entries:
+        m = pattern.fullmatch(e.name)
+        if m is None:
+            continue
+        try:
+            if not e.is_file(follow_symlinks=False):
+                continue
+        except OSError:
+            continue
+        if not _alive(int(m.group(1))):
+            out.append(p.parent / e.name)
+    return sorted(out)
+
+
+def remove_stale_temp_files(path: str | os.PathLike[str]) -> tuple[list[Path], list[str]]:
+    """Remove :func:`stale_temp_files` of the store ``path``: (the files removed, a line for
+    each that could not be removed saying why)."""
+    removed, failed = [], []
+    for f in stale_temp_files(path):
+        try:
+            f.unlink()
+        except FileNotFoundError:
+            continue         # another process removed it meanwhile
+        except OSError as exc:
+            failed.append(f"cannot remove {f}, left by an interrupted first use: "
+                          f"{exc.strerror}; remove it by hand")
+            continue
+        removed.append(f)
+    return removed, failed
+
+
+def _cleanup_notice(removed: list[Path]) -> list[str]:
+    if not removed:
+        return []
+    names = ", ".join(f.name for f in removed)
+    return [f"removed {names} in {removed[0].parent}, left by a first use that was killed "
+            "before it ended"]
 
 
 def resolve_path(path: str | os.PathLike[str] | None = None) -> tuple[Path, bool]:
@@ -238,6 +308,9 @@ def open_store(path: str | os.PathLike[str] | None = None, *, write: bool = Fals
     default store when ``first_use`` is given). ``first_use(store)`` fills a newly created
     default store and returns a notice for the user, which the store keeps in ``notices``
     (:func:`partsel.jobs.default_store.open_store` fills it with the bundled demo catalog).
+
+    Files a killed first use left next to the store (:func:`stale_temp_files`) are removed on
+    the way, and a notice says so.
     """
     p, is_default = resolve_path(path)
     if create is None:
@@ -247,6 +320,7 @@ def open_store(path: str | os.PathLike[str] | None = None, *, write: bool = Fals
                          f"{p / 'parts.duckdb'}")
     if not p.exists():
         return _create(p, create, write, first_use if is_default else None)
+    notices = _cleanup_notice(remove_stale_temp_files(p)[0])
     con = _connect(p, read_only=not write)
     try:
         version = schema.current_version(con)
@@ -271,4 +345,4 @@ def open_store(path: str | os.PathLike[str] | None = None, *, write: bool = Fals
         if not write:
             con.close()
             con = _connect(p, read_only=True)
-    return Store(p, con, read_only=not write)
+    return Store(p, con, read_only=not write, notices=notices)

@@ -9,7 +9,7 @@ the store as it was.
 from __future__ import annotations
 
 import json
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 from typing import NamedTuple
@@ -29,7 +29,7 @@ from partsel.catalog import (
     normalise_case,
 )
 from partsel.errors import CatalogError
-from partsel.io.catalog import normalise_header, read_cells
+from partsel.io.catalog import cell_text, normalise_header, read_cells
 from partsel.io.mapping import Mapping, apply_mapping, read_mapping
 from partsel.store import curves
 from partsel.store.cells import Problem, column_parsers, parse_unique, quantity_parser
@@ -146,6 +146,7 @@ def parse_catalog(cells: pd.DataFrame) -> tuple[pd.DataFrame, list[Problem]]:
     known = set(NAMES) | {p + "_source" for p in MODEL_PARAMETERS}
     extras = [c for c in cells.columns if c not in known]
     out.attrs["extra_columns"] = extras
+    out.attrs["file_columns"] = list(cells.columns)
     if extras:
         out["extra"] = _extra_json(cells[extras])
     else:
@@ -226,11 +227,13 @@ def fill_estimates(frame: pd.DataFrame) -> None:
             frame.loc[need, f"{p}_source"] = "estimated by rule"
 
 
-def look_alike_columns(extras: list[str]) -> list[str]:
-    """Remarks for extra columns whose name is close to a catalog column (likely typos):
-    they are kept with the part, but the catalog column stays empty."""
+def look_alike_columns(extras: list[str], present: Sequence[str] = ()) -> list[str]:
+    """Remarks for extra columns whose name is close to a catalog column the file does not
+    have (``present``: the file's columns; likely typos): they are kept with the part, but the
+    catalog column stays empty. A column beside the one it resembles (``rated_voltage_ac``
+    next to ``rated_voltage``) is no typo and gets no remark."""
     import difflib
-    known = list(NAMES)
+    known = [n for n in NAMES if n not in set(present)]
     out = []
     for name in extras:
         close = difflib.get_close_matches(name, known, n=1, cutoff=0.75)
@@ -308,7 +311,8 @@ def import_catalog(store: Store, path: str | Path,
     counts = insert_frame(store, frame, source_file=p.name, progress=progress)
     return ImportSummary(p.name, len(frame), counts.added, counts.replaced, 0, estimated,
                          counts.unchanged, counts.kept_fits,
-                         remarks=tuple(look_alike_columns(frame.attrs.get("extra_columns", []))))
+                         remarks=tuple(look_alike_columns(frame.attrs.get("extra_columns", []),
+                                                          frame.attrs.get("file_columns", ()))))
 
 
 _BIAS_V_SQL = "CAST(regexp_extract_all(bias_curve, '([0-9.eE+-]+)V:', 1) AS DOUBLE[])"
@@ -322,7 +326,9 @@ def _extra_json(sub: pd.DataFrame) -> pd.Series:
         values = sub[col]
         present = (values.notna() & (values.astype(str) != "")).to_numpy()
         uniq = pd.unique(values[present])
-        codes = {v: json.dumps(v.item() if hasattr(v, "item") else v) for v in uniq}
+        # as text, as a catalog file gives them (so a frame's numbers are stored as an
+        # import of its CSV or Parquet export would store them)
+        codes = {v: json.dumps(v if isinstance(v, str) else cell_text(v)) for v in uniq}
         piece = np.where(present, json.dumps(str(col)) + ": " +
                          values.map(codes).astype(str), "")
         sep = np.where((joined.to_numpy() != "") & present, ", ", "")

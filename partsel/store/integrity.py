@@ -20,6 +20,7 @@ import duckdb
 from partsel import interrupt
 from partsel.errors import StoreError
 from partsel.store import schema
+from partsel.store.db import remove_stale_temp_files
 
 # DuckDB's file header: a 4096-byte block whose bytes 8..11 are "DUCK" (DuckDB storage
 # format, "main header"; from the file layout of DuckDB itself).
@@ -41,6 +42,7 @@ class StoreReport:
     problems: list[str] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)
     digest: str | None = None
+    removed: list[Path] = field(default_factory=list)
 
     @property
     def ok(self) -> bool:
@@ -125,18 +127,37 @@ def _open(p: Path) -> duckdb.DuckDBPyConnection:
                          "the file is damaged or cut short; restore it from a copy") from None
 
 
-def check_store(path: str | os.PathLike[str]) -> StoreReport:
+def _names(files: list[Path]) -> str:
+    return ", ".join(str(f) for f in files)
+
+
+def check_store(path: str | os.PathLike[str], *, clean: bool = True) -> StoreReport:
     """Check the store file at ``path`` read-only (it is never changed or upgraded).
+
+    With ``clean``, files a killed first use left next to it (``.NAME.new-PID`` of a process
+    that has ended, and its ``.wal``: :func:`partsel.store.db.stale_temp_files`) are removed
+    first and listed in the report's ``removed`` and ``notes``.
 
     Raises StoreError for a file that is no store at all (missing, empty, cut short, not a
     DuckDB file, no partsel schema, or a schema newer than this partsel's). Everything else it
     finds is in the report's ``problems``.
     """
     p = Path(path).expanduser()
-    con = _open(p)
+    removed, failed = (remove_stale_temp_files(p) if clean else ([], []))
+    try:
+        con = _open(p)
+    except StoreError as exc:
+        if not removed:
+            raise
+        raise StoreError(f"{exc}; removed {_names(removed)}, left by a first use that was "
+                         "killed before it ended") from None
     try:
         version = _version(con, p)
-        report = StoreReport(p, version)
+        report = StoreReport(p, version, removed=removed)
+        report.notes.extend(failed)
+        if removed:
+            report.notes.append(f"removed {_names(removed)}, left by a first use that was "
+                                "killed before it ended (the store itself is not changed)")
         if version < schema.SCHEMA_VERSION:
             report.notes.append(f"schema {version} is older than this partsel's "
                                 f"({schema.SCHEMA_VERSION}); the next command that opens the "

@@ -65,18 +65,56 @@ def _pa(values: NDArray) -> Any:
     return pa.Array.from_buffers(pa.int64(), len(data), [None, pa.py_buffer(data)])
 
 
+def _pa_text(values: Sequence[str | None]) -> Any:
+    """Strings (None for NULL) as a pyarrow array built from its buffers: ``pa.array`` of a
+    Python list imports pandas (a third of a second of a command's start-up)."""
+    import pyarrow as pa
+
+    n = len(values)
+    valid = np.fromiter((v is not None for v in values), dtype=bool, count=n)
+    data = [v.encode("utf-8") if v is not None else b"" for v in values]
+    offsets = np.zeros(n + 1, dtype=np.int64)
+    np.cumsum(np.fromiter(map(len, data), dtype=np.int64, count=n), out=offsets[1:])
+    nulls = int(n - valid.sum())
+    bitmap = pa.py_buffer(np.packbits(valid, bitorder="little")) if nulls else None
+    return pa.Array.from_buffers(pa.large_string(), n, [bitmap, pa.py_buffer(offsets),
+                                                        pa.py_buffer(b"".join(data))],
+                                 null_count=nulls)
+
+
+def _pa_lists(arrays: Sequence[Any], dtype: type) -> Any:
+    """Lists of numbers (``np.int64`` or ``np.float64``) as a pyarrow list array built from
+    its buffers (as :func:`_pa_text`, without pandas)."""
+    import pyarrow as pa
+
+    n = len(arrays)
+    parts = [np.asarray(a, dtype=dtype).ravel() for a in arrays]
+    flat = np.ascontiguousarray(np.concatenate(parts) if parts else np.zeros(0, dtype))
+    offsets = np.zeros(n + 1, dtype=np.int64)
+    np.cumsum(np.fromiter(map(len, parts), dtype=np.int64, count=n), out=offsets[1:])
+    kind = pa.int64() if np.dtype(dtype).kind == "i" else pa.float64()
+    values = pa.Array.from_buffers(kind, len(flat), [None, pa.py_buffer(flat)])
+    return pa.LargeListArray.from_arrays(_pa(offsets), values)
+
+
+def _pa_table(columns: dict[str, Any]) -> Any:
+    import pyarrow as pa
+
+    return pa.Table.from_arrays(list(columns.values()), names=list(columns))
+
+
 def _flat(column: Any) -> tuple[NDArray, NDArray]:
     """(values, offsets) of an Arrow list column; a NULL list counts as empty."""
     import pyarrow as pa
-    import pyarrow.compute as pc
 
     arr = column.combine_chunks() if isinstance(column, pa.ChunkedArray) else column
     if arr.null_count:
+        import pyarrow.compute as pc  # 0.1 s of start-up: only when there is a NULL list
         arr = pc.fill_null(arr, pa.scalar([], type=arr.type))
     offsets = np.asarray(_np(arr.offsets), dtype=np.int64)
-    # flatten() holds the values of this (possibly sliced) array only, as the offsets below
-    values = _np(arr.flatten())
-    return values, offsets - offsets[0] if len(offsets) else offsets
+    # the child array whole (``values``; flatten() would import pyarrow.compute): the offsets
+    # of a sliced array point into it as they are
+    return _np(arr.values), offsets
 
 
 def _arrow(relation: Any) -> Any:
@@ -149,29 +187,35 @@ def stored_models(store: Store, *, kind: str | None = None,
     rowids = np.asarray(_np(table.column("row")), dtype=np.int64)
     by_row = np.argsort(rowids)
     at = by_row[np.searchsorted(rowids[by_row], row)]
-    meta = table.select(["row", "source", "family", "imported_at"]).take(_pa(at))
-    meta = meta.append_column("part_id", _pa(part_id))
-    order = _newest_in_order(meta)
+    # the small columns as numpy and lists, picked by position (Arrow's take and sort would
+    # import pyarrow.compute: a tenth of a second of a command's start-up)
+    source_all = np.asarray(table.column("source").to_pylist(), dtype=object)
+    family_all = np.asarray(table.column("family").to_pylist(), dtype=object)
+    src_codes = _codes(source_all)
+    fam_codes = _codes(family_all)
+    stamps = _stamps(table.column("imported_at"))
+    order = _newest_in_order(part_id, rowids[at], src_codes[at], fam_codes[at], stamps[at])
     sel = at[order]
-    info = table.select(["source", "family", "source_file", "subckt", "imported_at",
-                         "note"]).take(_pa(sel))
     ints, int_off = _flat(table.column("ints"))
     reals, real_off = _flat(table.column("reals"))
     part_id = part_id[order]
-    source = _codes(info.column("source"))
-    family = _codes(info.column("family"))
+    source, family = src_codes[sel], fam_codes[sel]
+    files = table.column("source_file").to_pylist()
+    subckts = table.column("subckt").to_pylist()
+    notes = table.column("note").to_pylist()
+    dates = _datetimes(table.column("imported_at"))
     cuts = np.flatnonzero((source[1:] != source[:-1]) | (family[1:] != family[:-1])) + 1
     out = []
     for start, end in zip(np.r_[0, cuts], np.r_[cuts, len(sel)], strict=True):
-        rows, part = sel[start:end], info.slice(int(start), int(end - start))
+        rows = sel[start:end]
         gi, gio = _gather(ints, int_off, rows)
         gr, gro = _gather(reals, real_off, rows)
         out.append(StoredModels(
-            part.column("source")[0].as_py(), part.column("family")[0].as_py(),
+            source_all[rows[0]], family_all[rows[0]],
             part_id[start:end].copy(), np.asarray(gi, dtype=np.int64), gio,
             np.asarray(gr, dtype=float), gro,
-            part.column("source_file").to_pylist(), part.column("subckt").to_pylist(),
-            _datetimes(part.column("imported_at")), part.column("note").to_pylist()))
+            [files[i] for i in rows], [subckts[i] for i in rows],
+            [dates[i] for i in rows], [notes[i] for i in rows]))
     return out
 
 
@@ -191,31 +235,40 @@ def _datetimes(column: Any) -> list[datetime | None]:
     return values.astype("datetime64[us]").astype(object).tolist()
 
 
-def _codes(column: Any) -> NDArray[np.int64]:
-    """Integer codes of a string column (equal strings, equal codes)."""
-    import pyarrow.compute as pc
-    return np.asarray(_np(pc.dictionary_encode(column).combine_chunks().indices), dtype=np.int64)
+def _stamps(column: Any) -> NDArray[np.int64]:
+    """A timestamp column as integers in its order; NULL (no date) counts as the oldest."""
+    raw = np.asarray(_np(column))
+    if raw.dtype.kind == "M":
+        null = np.isnat(raw)
+        out = raw.astype("datetime64[us]").astype(np.int64)
+    else:
+        null = np.zeros(len(raw), dtype=bool)
+        out = raw.astype(np.int64)
+    out[null] = np.iinfo(np.int64).min + 1
+    return out
 
 
-def _newest_in_order(meta: Any) -> NDArray[np.int64]:
-    """Positions in ``meta`` (part_id, row, source, family, imported_at) of the newest model
+def _codes(values: NDArray[np.object_]) -> NDArray[np.int64]:
+    """Integer codes of strings in their sorted order (equal strings, equal codes; a
+    smaller string, a smaller code)."""
+    if not len(values):
+        return np.zeros(0, dtype=np.int64)
+    return np.unique(values, return_inverse=True)[1].astype(np.int64).ravel()
+
+
+def _newest_in_order(part_id: NDArray[np.int64], row: NDArray[np.int64],
+                     source: NDArray[np.int64], family: NDArray[np.int64],
+                     imported_at: NDArray[np.int64]) -> NDArray[np.int64]:
+    """Positions (in these arrays, one entry per model row of a part) of the newest model
     of each (part, source), ordered by source, family and part: the sorting is done on the
     small columns, so that the packed lists move once (sorting them inside the query cost more
-    than the rest of the read)."""
-    import pyarrow.compute as pc
-
-    newest = np.asarray(_np(pc.sort_indices(meta, sort_keys=[
-        ("source", "ascending"), ("part_id", "ascending"), ("imported_at", "descending"),
-        ("row", "descending")])), dtype=np.int64)
-    ordered = meta.take(_pa(newest))
-    pid = np.asarray(_np(ordered.column("part_id")), dtype=np.int64)
-    src = _codes(ordered.column("source"))
+    than the rest of the read). ``source`` and ``family`` are codes in the strings' order."""
+    # by source, part, newest import first, last row first (np.lexsort: last key first)
+    newest = np.lexsort((-row, -imported_at, part_id, source))
+    pid, src = part_id[newest], source[newest]
     first = np.r_[True, (pid[1:] != pid[:-1]) | (src[1:] != src[:-1])]
     kept = newest[first]
-    order = np.asarray(_np(pc.sort_indices(meta.take(_pa(kept)), sort_keys=[
-        ("source", "ascending"), ("family", "ascending"), ("part_id", "ascending")])),
-        dtype=np.int64)
-    return kept[order]
+    return kept[np.lexsort((part_id[kept], family[kept], source[kept]))]
 
 
 @dataclass(frozen=True)
@@ -239,21 +292,15 @@ def replace_models(store: Store, rows: Sequence[ModelRow], *, reason: str) -> in
     one goes to ``model_history`` with ``reason``), in one transaction. Returns the count.
 
     The rows go in as one Arrow table, so thousands of models cost three statements."""
-    import pyarrow as pa
-
     store.require_write("store models")
     if not rows:
         return 0
-    new = pa.table({
-        "maker": [r.maker for r in rows], "part_number": [r.part_number for r in rows],
-        "source": [r.source for r in rows], "family": [r.family for r in rows],
-        "source_file": [r.source_file for r in rows], "subckt": [r.subckt for r in rows],
-        "text": [r.text for r in rows],
-        "ints": pa.array([np.asarray(r.ints, dtype=np.int64) for r in rows],
-                         type=pa.list_(pa.int64())),
-        "reals": pa.array([np.asarray(r.reals, dtype=float) for r in rows],
-                          type=pa.list_(pa.float64())),
-        "note": [r.note for r in rows]})
+    new = _pa_table({
+        **{c: _pa_text([getattr(r, c) for r in rows]) for c in (
+            "maker", "part_number", "source", "family", "source_file", "subckt", "text")},
+        "ints": _pa_lists([r.ints for r in rows], np.int64),
+        "reals": _pa_lists([r.reals for r in rows], np.float64),
+        "note": _pa_text([r.note for r in rows])})
     con = store.con
     _register(store, "partsel_new_models", new)
     try:
@@ -309,17 +356,14 @@ def part_candidates(store: Store, names: Sequence[str], *,
     candidates for a SPICE-safe form, which the caller confirms. ``maker`` keeps the parts of
     that maker (any letter case). Each row: ``idx`` (the position in ``names``), ``tier`` and
     :data:`CANDIDATE_COLUMNS`; a part may appear at several tiers."""
-    import pyarrow as pa
-
     if not names:
         return []
     keys = [alnum_key(n) for n in names]
-    _register(store, "partsel_names", pa.table({
-        "idx": pa.array(range(len(names)), type=pa.int64()),
-        "name": pa.array(list(names), type=pa.string()),
-        "akey": pa.array(keys, type=pa.string()),
-        "akey2": pa.array([k[1:] if k.startswith("p") else None for k in keys],
-                          type=pa.string())}))
+    _register(store, "partsel_names", _pa_table({
+        "idx": _pa(np.arange(len(names))),
+        "name": _pa_text(list(names)),
+        "akey": _pa_text(keys),
+        "akey2": _pa_text([k[1:] if k.startswith("p") else None for k in keys])}))
     cols = ", ".join(f'p."{c}"' for c in CANDIDATE_COLUMNS)
     where, params = ("WHERE lower(maker) = lower(?)", [maker]) if maker else ("", [])
     try:
@@ -368,13 +412,11 @@ def existing_models(store: Store, keys: Sequence[tuple[str, str]],
                     source: str) -> dict[tuple[str, str], dict[str, Any]]:
     """(maker, part_number) -> the newest stored model of ``source`` of those parts that have
     one (family, source_file, subckt, imported_at)."""
-    import pyarrow as pa
-
     if not keys or not has_models(store):
         return {}
-    _register(store, "partsel_keys", pa.table({
-        "maker": pa.array([k[0] for k in keys], type=pa.string()),
-        "part_number": pa.array([k[1] for k in keys], type=pa.string())}))
+    _register(store, "partsel_keys", _pa_table({
+        "maker": _pa_text([k[0] for k in keys]),
+        "part_number": _pa_text([k[1] for k in keys])}))
     try:
         rows = store.con.execute(
             "SELECT m.maker, m.part_number, m.family, m.source_file, m.subckt, m.imported_at "
