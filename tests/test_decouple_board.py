@@ -218,6 +218,16 @@ def test_the_exported_deck_reproduces_the_step_response_in_ngspice(store, tmp_pa
     inside = (t > 0) & (t < sim[-1, 0])
     spice_v = np.interp(t[inside], sim[:, 0], sim[:, 1])
     assert np.max(np.abs(spice_v - v[inside])) <= 1e-4 * np.max(np.abs(v))
+    # the reverse pulse technique (Drabkin et al., IEEE EPEP 2002): the worst one-sided noise
+    # of any sequence of such steps is the sum of the step response's rises (droop) and of its
+    # falls (overshoot). Recomputed from ngspice's own dense waveform; it stops at 5 / f1,
+    # before the last of the settling, so it may fall short by a little, never exceed.
+    dv = np.diff(sim[:, 1])
+    noise = data["noise"]
+    rises, falls = float(dv[dv > 0].sum()), float(-dv[dv < 0].sum())
+    for spice, ours in ((rises, noise["worst_droop_v"]), (falls, noise["worst_overshoot_v"])):
+        assert ours * (1 - 0.01) - noise["error_v"] <= spice <= ours * (1 + 1e-3) + \
+            noise["error_v"], (spice, ours)
 
 
 @pytest.mark.parametrize("args, words", [
