@@ -175,10 +175,12 @@ def test_a_board_file_gives_the_same_plan_as_the_options(store: str, tmp_path) -
     assert a["bank"] == b["bank"] and a["max_z_ohm"] == b["max_z_ohm"]
 
 
-def test_a_plan_against_a_mask_holds_the_mask(store: str, tmp_path) -> None:
+@pytest.mark.parametrize("inline", [False, True])
+def test_a_plan_against_a_mask_holds_the_mask(store: str, tmp_path, inline: bool) -> None:
     mask = tmp_path / "mask.csv"
     mask.write_text("f,z\n1MHz,5mohm\n10MHz,5mohm\n50MHz,25mohm\n")
-    code, data = run(store, "--rail", "1.0V", "--mask", str(mask), "--band", "1MHz..50MHz",
+    given = "1MHz:5mohm, 10MHz:5mohm, 50MHz:25mohm" if inline else str(mask)
+    code, data = run(store, "--rail", "1.0V", "--mask", given, "--band", "1MHz..50MHz",
                      "--case", "0402,0603,0805")
     assert code == 0 and data["met"]
     f = np.geomspace(1e6, 5e7, 3000)
@@ -235,6 +237,9 @@ def test_the_exported_deck_reproduces_the_step_response_in_ngspice(store, tmp_pa
     (["--plane-area", "100cm2"], "plane gap"),
     (["--distance", "5mm"], "plane gap"),
     (["--plane-gap", "-1mm"], "plane gap"),
+    (["--mask", "1MHz:5mohm,10MHz:fast"], "mask point '10MHz:fast'"),
+    (["--mask", "1MHz:5mohm,1MHz:6mohm"], "--mask"),
+    (["--mask", "nosuchmask.csv"], "nosuchmask.csv"),
 ])
 def test_bad_board_options_give_one_error_line(store: str, args, words) -> None:
     res = CliRunner().invoke(app, ["--store", store, "decouple", "--rail", "1V", "--target",

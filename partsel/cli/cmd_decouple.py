@@ -146,7 +146,7 @@ def render_text(res: Any) -> str:
 def rail_spec(rail: str | None, target: str | None, ripple: str | None, step: str | None,
                band: str | None, board_text: tuple[Any, ...], worst_case: bool,
                margin: str | None, noise: str | None = None, rise: str | None = None,
-               mask_file: Path | None = None) -> Any:
+               mask_file: str | None = None) -> Any:
     """The Rail from the command's words (:func:`_rail_target`), with the noise spec, the
     load step's rise time and a target mask."""
     if noise is not None and target is None and ripple is None and step is not None \
@@ -156,9 +156,9 @@ def rail_spec(rail: str | None, target: str | None, ripple: str | None, step: st
         target = f"{z_t!r}ohm"
     mask = None
     if mask_file is not None:
-        from partsel.io.board import read_mask
+        from partsel.io.board import is_inline_mask, mask_from_text, read_mask
 
-        mask = read_mask(mask_file)
+        mask = mask_from_text(mask_file) if is_inline_mask(mask_file) else read_mask(mask_file)
         if target is None and ripple is None:
             target = f"{float(mask.z.min())!r}ohm"
     spec = _rail_target(rail, target, ripple, step, band, board_text, worst_case, margin)
@@ -349,9 +349,10 @@ def decouple_cmd(
         "--die-c", metavar="C", help="On-die capacitance at the load, e.g. 300nF.")] = None,
     die_r: Annotated[str | None, typer.Option(
         "--die-r", metavar="R", help="Series resistance of the on-die capacitance.")] = None,
-    mask_file: Annotated[Path | None, typer.Option(
-        "--mask", metavar="FILE.csv", help="Target over frequency: CSV of f,z rows (log-log "
-        "between them, flat beyond), instead of a flat --target.")] = None,
+    mask_file: Annotated[str | None, typer.Option(
+        "--mask", metavar="FILE.csv|F:Z,...", help="Target over frequency: CSV of f,z rows, "
+        "or the points inline, e.g. 1MHz:5mohm,20MHz:5mohm,100MHz:25mohm (log-log between "
+        "them, flat beyond), instead of a flat --target.")] = None,
     noise: Annotated[str | None, typer.Option(
         "--noise", metavar="V", help="Noise spec each side, e.g. 30mV (with --step): plans "
         "until the worst-case noise of any step sequence stays within it.")] = None,

@@ -42,6 +42,46 @@ def read_board(path: str | Path) -> dict[str, str]:
     return out
 
 
+def mask_from_text(text: str):
+    """A target mask written inline: frequency:impedance pairs separated by commas or
+    semicolons, e.g. '1MHz:5mohm, 20MHz:5mohm, 100MHz:25mohm' (log-log linear between them,
+    flat beyond, as :func:`read_mask`)."""
+    from partsel import units
+    from partsel.engine.ladder import Mask
+    from partsel.errors import PartselError, QueryError
+
+    f, z = [], []
+    pairs = [x.strip() for x in text.replace(";", ",").split(",") if x.strip()]
+    for item in pairs:
+        bits = item.split(":")
+        if len(bits) != 2:
+            raise QueryError(f"mask point '{item}': write frequency:impedance, e.g. 1MHz:5mohm",
+                             params=("mask",))
+        try:
+            f.append(units.parse_quantity(bits[0].strip(), "Hz", what="mask frequency"))
+            z.append(units.parse_quantity(bits[1].strip(), "ohm", what="mask impedance"))
+        except PartselError as exc:
+            raise QueryError(f"mask point '{item}': {exc}", params=("mask",)) from None
+    if not f:
+        raise QueryError("the mask has no points: write e.g. 1MHz:5mohm,100MHz:25mohm",
+                         params=("mask",))
+    try:
+        return Mask.of(f, z)
+    except (PartselError, ValueError) as exc:
+        raise QueryError(f"mask: {exc}", params=("mask",)) from None
+
+
+def is_inline_mask(text: str) -> bool:
+    """Whether a --mask value is written inline (pairs with a colon) rather than a file name:
+    an existing file always wins."""
+    import re
+
+    if Path(text).exists():
+        return False
+    return re.fullmatch(r"\s*[^:,;]+:[^:,;]+(\s*[,;]\s*[^:,;]+:[^:,;]+)*\s*[,;]?\s*", text) \
+        is not None and not re.match(r"^[A-Za-z]:[\\/]", text)
+
+
 def read_mask(path: str | Path):
     """Read a target mask: CSV rows of frequency and impedance (a header line is allowed;
     quantities such as 1MHz, 3mohm or plain SI numbers), log-log linear between the rows and
