@@ -203,6 +203,15 @@ def test_a_noise_spec_is_planned_for_and_met(store: str) -> None:
     assert noise["error_v"] < 0.1 * 0.030
 
 
+def test_a_noise_spec_as_a_share_of_the_rail(store: str) -> None:
+    # 3 % of a 1.8 V rail is 54 mV: the same plan as --noise 54mV
+    args = ["--rail", "1.8V", "--step", "5A", "--band", "100kHz..50MHz", "--case", "0402,0603"]
+    _, share = run(store, *args, "--noise", "3%")
+    _, volts = run(store, *args, "--noise", "54mV")
+    assert share["noise"]["spec_v"] == pytest.approx(0.054, rel=1e-12)
+    assert share["bank"] == volts["bank"] and share["target_ohm"] == volts["target_ohm"]
+
+
 @needs_ngspice
 def test_the_exported_deck_reproduces_the_step_response_in_ngspice(store, tmp_path) -> None:
     deck = tmp_path / "pdn.cir"

@@ -149,10 +149,10 @@ def rail_spec(rail: str | None, target: str | None, ripple: str | None, step: st
                mask_file: str | None = None) -> Any:
     """The Rail from the command's words (:func:`_rail_target`), with the noise spec, the
     load step's rise time and a target mask."""
-    if noise is not None and target is None and ripple is None and step is not None \
+    noise_v = _noise_volts(noise, rail)
+    if noise_v is not None and target is None and ripple is None and step is not None \
             and mask_file is None:
-        z_t = units.parse_quantity(noise, "V", what="--noise") / units.parse_quantity(
-            step, "A", what="--step")
+        z_t = noise_v / units.parse_quantity(step, "A", what="--step")
         target = f"{z_t!r}ohm"
     mask = None
     if mask_file is not None:
@@ -168,10 +168,23 @@ def rail_spec(rail: str | None, target: str | None, ripple: str | None, step: st
     if noise is not None:
         if step is None:
             raise QueryError("--noise needs the load step it is for: give --step, e.g. 10A")
-        spec.noise = units.parse_quantity(noise, "V", what="--noise")
+        spec.noise = noise_v
     if rise is not None:
         spec.rise_time = units.parse_quantity(rise, "s", what="--rise")
     return spec
+
+
+def _noise_volts(noise: str | None, rail: str | None) -> float | None:
+    """The noise spec in volts: a voltage (30mV) or a share of the rail (3%)."""
+    if noise is None:
+        return None
+    if noise.strip().endswith("%"):
+        if rail is None:
+            raise QueryError("--noise as a share of the rail needs the rail voltage: give "
+                             "--rail, e.g. 1.0V")
+        return units.parse_percent(noise, "--noise") * units.parse_quantity(rail, "V",
+                                                                            what="--rail")
+    return units.parse_quantity(noise, "V", what="--noise")
 
 
 def _rail_target(rail: str | None, target: str | None, ripple: str | None, step: str | None,
@@ -354,8 +367,9 @@ def decouple_cmd(
         "or the points inline, e.g. 1MHz:5mohm,20MHz:5mohm,100MHz:25mohm (log-log between "
         "them, flat beyond), instead of a flat --target.")] = None,
     noise: Annotated[str | None, typer.Option(
-        "--noise", metavar="V", help="Noise spec each side, e.g. 30mV (with --step): plans "
-        "until the worst-case noise of any step sequence stays within it.")] = None,
+        "--noise", metavar="V|PCT", help="Noise spec each side, e.g. 30mV or 3% of the rail "
+        "(with --step): plans until the worst-case noise of any step sequence stays within "
+        "it (--ripple sets a target impedance; --noise plans against the voltage).")] = None,
     rise: Annotated[str | None, typer.Option(
         "--rise", metavar="T", help="Rise time of the load step (default 0.35 / the band's "
         "top frequency).")] = None,
