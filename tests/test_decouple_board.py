@@ -1,8 +1,8 @@
 """Decoupling on a board: the plane pair, spreading and via inductance, placement, a target
 mask and the load-step noise, through the command line on the demo catalog. Every returned
 bank is recomputed here from its JSON alone with an independent ladder evaluation (the
-textbook formulas written out again below, not partsel's), and the step response is checked
-against ngspice's transient analysis of the exported deck."""
+textbook formulas written out again below, not partsel's), and the step response and the
+worst-case noise are checked against ngspice's transient analysis of the exported deck."""
 
 from __future__ import annotations
 
@@ -201,6 +201,29 @@ def test_a_noise_spec_is_planned_for_and_met(store: str) -> None:
     # the sequences it bounds), and the bound on its error is small against the spec
     assert noise["worst_droop_v"] >= noise["droop_v"] - noise["error_v"]
     assert noise["error_v"] < 0.1 * 0.030
+
+
+@needs_ngspice
+def test_a_noise_plan_holds_its_spec_in_ngspice(store: str, tmp_path) -> None:
+    # The planned bank's network exported and solved by ngspice (transient analysis); the
+    # reverse pulse technique (Drabkin et al., IEEE EPEP 2002) on ngspice's waveform: the worst
+    # droop of any step sequence is the sum of the step response's rises, the worst overshoot
+    # the sum of its falls. Both must stay within the 30 mV spec the plan was made for.
+    deck = tmp_path / "noise.cir"
+    code, data = run(store, "--rail", "1.0V", "--noise", "30mV", "--step", "5A", "--band",
+                     "100kHz..50MHz", "--case", "0402,0603,0805,1206", "--spice", str(deck))
+    assert code == 0 and data["noise"]["met"]
+    proc = subprocess.run([str(NGSPICE), "-b", str(deck)], capture_output=True, text=True,
+                          timeout=600, cwd=tmp_path)
+    assert proc.returncode == 0, proc.stderr[-2000:]
+    rows = [line.split() for line in proc.stdout.splitlines()]
+    v = np.array([float(r[2]) for r in rows if len(r) == 3 and r[0].isdigit()])
+    dv = np.diff(v)
+    rises, falls = float(dv[dv > 0].sum()), float(-dv[dv < 0].sum())
+    assert rises <= 0.030 and falls <= 0.030, (rises, falls)
+    noise = data["noise"]
+    assert rises == pytest.approx(noise["worst_droop_v"], rel=0.01, abs=noise["error_v"])
+    assert falls == pytest.approx(noise["worst_overshoot_v"], rel=0.01, abs=noise["error_v"])
 
 
 def test_a_noise_spec_as_a_share_of_the_rail(store: str) -> None:
