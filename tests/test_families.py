@@ -175,6 +175,13 @@ def test_a_model_set_of_mixed_families_answers_in_part_order():
         for (g, j), s in zip(parts, [sets[g] for g, _ in parts], strict=True)])
     np.testing.assert_array_equal(mixed.impedance(f), expect)
     assert list(mixed.family_names()) == [NAMES[g] for g, _ in parts]
+    # the names at a few positions without the whole list, and a family's mask test
+    assert mixed.family_at([4, 1, 1]) == [NAMES[parts[4][0]], NAMES[parts[1][0]],
+                                          NAMES[parts[1][0]]]
+    one_hot = np.zeros(len(parts), dtype=bool)
+    one_hot[2] = True
+    assert mixed.any_in(NAMES[parts[2][0]], one_hot)
+    assert not any(mixed.any_in(n, one_hot) for n in NAMES if n != NAMES[parts[2][0]])
     ext = mixed.band(1e4, 1e8)
     for k, (g, j) in enumerate(parts):
         fam = family(NAMES[g])

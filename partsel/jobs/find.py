@@ -253,9 +253,9 @@ def _bias_on_models(chosen: Chosen, ratio: np.ndarray) -> str:
     """How the bias loss reaches models that are not series R-L-C (said in the effects)."""
     moved = ratio != 1.0
     out = []
-    if (moved & (chosen.family == "netlist")).any():
+    if chosen.models.any_in("netlist", moved):
         out.append("applied to every C of a vendor netlist")
-    if (moved & (chosen.family == "measured")).any():
+    if chosen.models.any_in("measured", moved):
         out.append("applied to a measured curve as the series R-L-C model's own change, "
                    "the sweep taken as measured at 0 V")
     return ("; " + "; ".join(out)) if out else ""
@@ -428,6 +428,7 @@ def find(store: Store, search: Search) -> FindResult:
     _shown_metrics(search, pool, idx)
     parts = store.parts_by_id(pool.cols["id"][idx])
     labels = dict(zip(idx.tolist(), pool.chosen.labels(idx), strict=True))
+    fams = dict(zip(idx.tolist(), pool.chosen.models.family_at(idx), strict=True))
     rows = []
     for pos, part in zip(idx, parts, strict=True):
         row = {k: v for k, v in part.items() if k not in ("bias_v", "bias_ratio")}
@@ -438,7 +439,7 @@ def find(store: Store, search: Search) -> FindResult:
             row["c_eff_f"] = float(pool.c_eff[pos])
             row["bias_source"] = BIAS_SOURCES[pool.bias_src[pos]]
         row["model_source"] = str(pool.chosen.source[pos])
-        row["model_family"] = str(pool.chosen.family[pos])
+        row["model_family"] = fams[int(pos)]
         row["model"] = labels[int(pos)]
         row["model_origin"] = str(pool.chosen.origin[pos])
         if pool.extra_rows is not None:

@@ -190,6 +190,8 @@ class Chosen:
     available: NDArray[np.bool_]     # False: left out because the chosen model is missing
     measured_lo: NDArray[np.float64]   # the measured range of a measured curve [Hz], else NaN
     measured_hi: NDArray[np.float64]
+    # which parts' source is not "catalog", when known (a million parts: no string compare)
+    special: NDArray[np.bool_] | None = None
 
     def covers(self, band: tuple[float, float]) -> NDArray[np.bool_]:
         """Per part: its measured curve covers the band (False for other models)."""
@@ -206,7 +208,13 @@ class Chosen:
         out = []
         for g in self.models.groups:
             word = "curve" if g.family.name == "measured" else g.family.name
-            rest, src = g.index, self.source[g.index]
+            rest = g.index
+            if self.special is not None:
+                plain = ~self.special[rest]
+                if plain.any():
+                    out.append((f"{SOURCE_WORDS['catalog']} {word}", rest[plain]))
+                rest = rest[~plain]
+            src = self.source[rest]
             for s in sorted(SOURCE_WORDS, key=lambda x: x != "catalog"):
                 if not len(rest):
                     break
@@ -294,6 +302,7 @@ def choose_models(store: Any, ids: NDArray, base: ModelSet, choice: str = "best"
     ids = np.asarray(ids, dtype=np.int64)
     n = len(ids)
     source, origin = _filled(n, "catalog"), _filled(n, "catalog columns")
+    special = np.zeros(n, dtype=bool)
     models = base
     pref = PREFERENCE[choice]
     ranks = ("fit", "vendor") if "vendor" in pref else ("fit",)
@@ -313,15 +322,17 @@ def choose_models(store: Any, ids: NDArray, base: ModelSet, choice: str = "best"
                     None if only else base.take(np.array([k])) for k in pos))
                 lo[pos], hi[pos] = fam.measured_span(batch)
             models = _replace(models, pos, grp.family, batch)
+            special[pos] = True
             source[pos] = rank
             origin[pos] = _origins(grp.source_file, grp.subckt, grp.imported_at)
     if "measured" in pref:
         models = _with_curves(store, ids, models, source, origin, (lo, hi), only, value,
                               tan_delta)
+        special |= np.isfinite(lo)      # a sweep's range is set where it took the place
     # with only, a part needs a model of the kind chosen (best: a vendor or measured one)
     available = np.isin(source, ["vendor", "measured"]) if only and choice != "catalog" \
         else np.ones(n, dtype=bool)
-    return Chosen(models, source, origin, available, lo, hi)
+    return Chosen(models, source, origin, available, lo, hi, special)
 
 
 def _filled(n: int, text: str) -> NDArray[np.object_]:

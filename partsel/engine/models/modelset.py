@@ -109,6 +109,23 @@ class ModelSet:
             out[g.index] = g.family.name
         return out
 
+    def family_at(self, idx: ArrayLike) -> list[str]:
+        """The family name of the parts at positions ``idx`` (without a name per part of the
+        whole set)."""
+        at = np.asarray(idx, dtype=np.intp)
+        if len(self.groups) == 1:
+            return [self.groups[0].family.name] * len(at)
+        out: list[str] = [""] * len(at)
+        for g in self.groups:
+            if len(g.index) and len(at):
+                for k in np.flatnonzero(np.isin(at, g.index, kind="table")):
+                    out[int(k)] = g.family.name
+        return out
+
+    def any_in(self, name: str, mask: NDArray[np.bool_]) -> bool:
+        """Whether a part of family ``name`` has ``mask`` set."""
+        return any(g.family.name == name and bool(mask[g.index].any()) for g in self.groups)
+
     def families(self) -> list[Family]:
         return [g.family for g in self.groups]
 
