@@ -71,6 +71,7 @@ PEAK_POINTS = 17
 PEAK_FLOOR = 0.5           # peaks of the nominal bank below half the target: the base grid
 PEAK_SPAN = 0.15            # +-15 % around each nominal peak
 _CHUNK = 150_000            # elements per (builds x frequencies) block: fits a cache
+_DRAW_BLOCK = 4_000_000     # parts x builds drawn at once (32 MB of ratios)
 _SLACK = 1e-9
 
 
@@ -375,29 +376,36 @@ def builds_yield(rail: Rail, bank: BankParts, basis: Basis, sp: Spread) -> dict[
     rng = np.random.default_rng(sp.seed)
     counts = bank.counts.astype(int)
     owner = np.repeat(np.arange(len(counts)), counts)
-    ratios = spread.tolerance_ratios(rng, basis.tol_lo[owner], basis.tol_hi[owner],
-                                     int(sp.builds or 0), sp.distribution)
-    x = 1.0 / ratios
-    passed = np.ones(len(x), dtype=bool)
-    fail_f = np.full(len(x), np.nan)
-    worst_all = np.zeros(len(x))
-    ends = _ends(basis)
-    points = 0
-    for _label, cf, rf in ends:
-        parts = scaled(bank.parts, cf, rf)
-        f = _grid(rail, _peaks(rail, bank, parts))
-        points = max(points, len(f))
-        live = np.flatnonzero(passed)      # a build that failed at one end has failed
-        worst, where = _judge(rail, bank, parts, f, x[live], owner)
-        bad = worst > 1.0 + _SLACK
-        fail_f[live[bad]] = where[bad]
-        passed[live[bad]] = False
-        worst_all[live] = np.maximum(worst_all[live], worst)
+    builds = int(sp.builds or 0)
+    passed = np.ones(builds, dtype=bool)
+    fail_f = np.full(builds, np.nan)
+    worst_all = np.zeros(builds)
+    ends = [(scaled(bank.parts, cf, rf), label) for label, cf, rf in _ends(basis)]
+    grids = [_grid(rail, _peaks(rail, bank, parts)) for parts, _ in ends]
+    points = max(len(f) for f in grids)
+    # drawn block by block (memory bounded whatever N and the part count): the same seed
+    # gives the same builds
+    block = max(1, _DRAW_BLOCK // max(len(owner), 1))
+    for b0 in range(0, builds, block):
+        n_b = min(block, builds - b0)
+        x = 1.0 / spread.tolerance_ratios(rng, basis.tol_lo[owner], basis.tol_hi[owner], n_b,
+                                          sp.distribution)
+        ok = passed[b0:b0 + n_b]            # views: updated in place
+        ff, wa = fail_f[b0:b0 + n_b], worst_all[b0:b0 + n_b]
+        for (parts, _label), f in zip(ends, grids, strict=True):
+            live = np.flatnonzero(ok)       # a build that failed at one end has failed
+            if not len(live):
+                break
+            worst, where = _judge(rail, bank, parts, f, x[live], owner)
+            bad = worst > 1.0 + _SLACK
+            ff[live[bad]] = where[bad]
+            ok[live[bad]] = False
+            wa[live] = np.maximum(wa[live], worst)
     k, n = int(passed.sum()), len(passed)
     lo, hi = spread.wilson_interval(k, n)
     return {"builds": n, "passed": k, "share": k / n, "interval_95": [lo, hi],
             "distribution": sp.distribution, "seed": sp.seed,
-            "ends": [e[0] for e in ends], "grid_points": points,
+            "ends": [e[1] for e in ends], "grid_points": points,
             "worst_ratio_median": float(np.median(worst_all)),
             "worst_ratio_max": float(np.max(worst_all)),
             "failures_at": _failure_bands(fail_f[~passed]),
