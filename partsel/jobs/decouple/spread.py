@@ -113,24 +113,30 @@ def scaled(parts: Parts, c: NDArray, r: NDArray) -> Parts:
     return out
 
 
+def _scan(rail: Rail, bank: BankParts, parts: Parts) -> tuple[Any, float]:
+    """The exact band scan of the bank with ``parts`` (on the ladder against the mask when the
+    board needs one), and the scale that turns its |Z| into a ratio to the design target (1
+    on the ladder, whose scan is already that ratio)."""
+    if needs_network(rail):
+        radii = ring_radii(rail.board, list(bank.distances))
+        rings, uniq = rings_of(parts, bank.counts, radii)
+        return check_network(rail, rings, uniq).scan(*rail.band, rail.design_mask()), 1.0
+    board, _ = rail.board.branches()
+    if parts.catalog_rlc:
+        br = parts.branches(bank.counts)
+        sc = pdn.scan(*rail.band, pdn.Branches.concat(br, board) if len(board) else br)
+    else:
+        net = Bank.of(parts.models, bank.counts)
+        sc = (net.concat(Bank.from_branches(board)) if len(board) else net).scan(*rail.band)
+    return sc, 1.0 / rail.design_target
+
+
 def worst_ratio(rail: Rail, bank: BankParts, parts: Parts | None = None
                 ) -> tuple[float, float]:
     """Worst |Z| / design target over the band (on the ladder against the mask when the board
     needs one) of the bank with ``parts`` in place of its own, and where [Hz]."""
-    p = bank.parts if parts is None else parts
-    if needs_network(rail):
-        radii = ring_radii(rail.board, list(bank.distances))
-        rings, uniq = rings_of(p, bank.counts, radii)
-        sc = check_network(rail, rings, uniq).scan(*rail.band, rail.design_mask())
-        return float(sc.max_z), float(sc.f_max)
-    board, _ = rail.board.branches()
-    if p.catalog_rlc:
-        br = p.branches(bank.counts)
-        sc = pdn.scan(*rail.band, pdn.Branches.concat(br, board) if len(board) else br)
-    else:
-        net = Bank.of(p.models, bank.counts)
-        sc = (net.concat(Bank.from_branches(board)) if len(board) else net).scan(*rail.band)
-    return float(sc.max_z) / rail.design_target, float(sc.f_max)
+    sc, scale = _scan(rail, bank, bank.parts if parts is None else parts)
+    return float(sc.max_z) * scale, float(sc.f_max)
 
 
 def _vertices(moving: NDArray[np.intp], n: int) -> tuple[list[NDArray[np.bool_]], bool]:
@@ -247,21 +253,8 @@ def _grid(rail: Rail, peaks: list[float]) -> NDArray[np.float64]:
 
 def _peaks(rail: Rail, bank: BankParts, parts: Parts) -> list[float]:
     """The nominal bank's peaks in the band and its worst point (at one end)."""
-    if needs_network(rail):
-        radii = ring_radii(rail.board, list(bank.distances))
-        rings, uniq = rings_of(parts, bank.counts, radii)
-        sc = check_network(rail, rings, uniq).scan(*rail.band, rail.design_mask())
-    else:
-        board, _ = rail.board.branches()
-        if parts.catalog_rlc:
-            br = parts.branches(bank.counts)
-            sc = pdn.scan(*rail.band, pdn.Branches.concat(br, board) if len(board) else br)
-        else:
-            net = Bank.of(parts.models, bank.counts)
-            sc = (net.concat(Bank.from_branches(board)) if len(board) else net).scan(
-                *rail.band)
-    top = sc.max_z if needs_network(rail) else sc.max_z / rail.design_target
-    ratio = sc.peak_z if needs_network(rail) else sc.peak_z / rail.design_target
+    sc, scale = _scan(rail, bank, parts)
+    top, ratio = sc.max_z * scale, sc.peak_z * scale
     keep = ratio >= PEAK_FLOOR * max(top, 1.0)
     return [float(x) for x in sc.peak_f[keep]] + [float(sc.f_max)]
 
