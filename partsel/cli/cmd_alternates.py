@@ -81,12 +81,8 @@ def alternates_cmd(
                                       "bias), exact over the band: capacitors' largest |Z| no "
                                       "higher and SRF window inside the original's; inductors' "
                                       "lowest L and SRF no lower, hottest DCR no higher."),
-    temp: str = typer.Option(None, "--temp", metavar="T1..T2",
-                             help="With --corners: temperature range, e.g. -40C..85C "
-                                  "(default 25 degC only); candidates must be rated over it."),
-    age: str = typer.Option(None, "--age", metavar="LIFE",
-                            help="With --corners: class II aging after this life, e.g. 10y "
-                                 "or 1000h (default new)."),
+    temp: str = opt.temp_option(note="; candidates must be rated over it"),
+    age: str = opt.age_option(),
 ) -> None:
     """Substitutes for a part: same form, fit and function, ranked by impedance.
 

@@ -387,12 +387,8 @@ def decouple_cmd(
         "--corners", help="Judge the bank at the worst corner of its parts' spread: each "
         "line's tolerance (both sides), temperature (--temp), aging (--age), ESR vs "
         "temperature; a plan holds the target at every corner.")] = False,
-    temp: Annotated[str | None, typer.Option(
-        "--temp", metavar="T1..T2", help="With --corners or --yield: temperature range, "
-        "e.g. -40C..85C (default 25 degC only).")] = None,
-    age: Annotated[str | None, typer.Option(
-        "--age", metavar="LIFE", help="With --corners or --yield: class II aging after this "
-        "life, e.g. 10y (default new).")] = None,
+    temp: str | None = opt.temp_option("--corners or --yield"),
+    age: str | None = opt.age_option("--corners or --yield"),
     builds: Annotated[int | None, typer.Option(
         "--yield", metavar="N", help="Also draw N builds of the bank, each part from its "
         "tolerance, and report the share that holds the target, with its 95 % interval "

@@ -123,12 +123,8 @@ def find_cmd(
                                  help="Judge and rank each part at its worst corner: tolerance "
                                       "(both sides), temperature (--temp), aging (--age), "
                                       "DC bias and current, exact over the band."),
-    temp: str = typer.Option(None, "--temp", metavar="T1..T2",
-                             help="With --corners: temperature range, e.g. -40C..85C "
-                                  "(default 25 degC only)."),
-    age: str = typer.Option(None, "--age", metavar="LIFE",
-                            help="With --corners: class II aging after this life, e.g. 10y "
-                                 "or 1000h (default new)."),
+    temp: str = opt.temp_option(),
+    age: str = opt.age_option(),
 ) -> None:
     """Find parts that meet an impedance limit over a band, best first.
 

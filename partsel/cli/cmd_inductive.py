@@ -101,9 +101,7 @@ def inductive_cmd(
                                       "the part's l_curve or estimated from Isat) x DCR over "
                                       "--temp (copper); a part passes only if every corner "
                                       "passes."),
-    temp: str = typer.Option(None, "--temp", metavar="T1..T2",
-                             help="With --corners or --yield: temperature range for the DCR, "
-                                  "e.g. -40C..85C (default 25 degC only)."),
+    temp: str = opt.temp_option("--corners or --yield", "; it sets the DCR range"),
     builds: int = typer.Option(None, "--yield", metavar="N",
                                help="Draw N builds of each part from its L tolerance (current "
                                     "and temperature at their worst end for every build) and "

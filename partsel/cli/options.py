@@ -111,6 +111,20 @@ def dry_run_option(what: str = "Check everything and say what would be written; 
     return typer.Option(False, "--dry-run", help=what)
 
 
+def temp_option(used_with: str = "--corners", note: str = "") -> Any:
+    """--temp T1..T2, the temperature range of the worst case (jobs.corners.Conditions)."""
+    return typer.Option(None, "--temp", metavar="T1..T2",
+                        help=f"With {used_with}: temperature range, e.g. -40C..85C (default "
+                             f"25 degC only){note}.")
+
+
+def age_option(used_with: str = "--corners") -> Any:
+    """--age LIFE, the life after which class II aging is taken (jobs.corners.Conditions)."""
+    return typer.Option(None, "--age", metavar="LIFE",
+                        help=f"With {used_with}: class II aging after this life, e.g. 10y or "
+                             "1000h (default new).")
+
+
 def maker_option(what: str = "Maker, when several share the part number.") -> Any:
     return typer.Option(None, "--maker", metavar="NAME", help=what)
 
