@@ -13,6 +13,7 @@ to its end and the Ctrl-C is lost), so the handler also interrupts every connect
 
 from __future__ import annotations
 
+import os
 import signal
 import threading
 import weakref
@@ -30,6 +31,13 @@ def _on_sigint(signum: int, frame: FrameType | None) -> None:
         return  # the command has ended and said so: a Ctrl-C now changes nothing
     if _state["requested"]:
         return  # a second Ctrl-C while the first unwinds: let the clean-up finish
+    if frame is not None and frame.f_code.co_filename.startswith("<frozen importlib"):
+        # inside the import machinery (e.g. a module lock's weakref callback) an exception is
+        # printed and ignored: deliver the Ctrl-C again in a moment, outside it
+        timer = threading.Timer(0.01, os.kill, (os.getpid(), signal.SIGINT))
+        timer.daemon = True
+        timer.start()
+        return
     _state["requested"] = True
     if _state["hold"]:
         _state["pending"] = True
