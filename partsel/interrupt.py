@@ -67,6 +67,16 @@ def watch(con: object) -> None:
     _connections.add(con)
 
 
+def close_all() -> None:
+    """Close every connection given to :func:`watch` that is still open (what the interpreter's
+    own shutdown would do; DuckDB writes its WAL into the file on close)."""
+    for con in list(_connections):
+        try:
+            con.close()
+        except Exception:  # noqa: BLE001  (closed already, or a library's own object)
+            pass
+
+
 def finished() -> None:
     """The command has ended (its result or its error is being said): ignore Ctrl-C from now
     until the next :func:`install`."""

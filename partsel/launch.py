@@ -8,6 +8,14 @@ already closed by the unwinding: CPython remembers a KeyboardInterrupt raised in
 built by ``exec`` (dataclasses and namedtuples build their methods so, and DuckDB's Python
 modules define dataclasses on import) and would otherwise end the process by SIGINT instead of
 the exit code asked for.
+
+A command that has ended also leaves by ``os._exit``, after what an ordinary exit does that
+matters here: its ``atexit`` functions run, every DuckDB connection still open is closed and
+the output is flushed. What it skips is the interpreter tearing down every module and object
+one by one (numpy, DuckDB, typer and partsel: 30-40 ms of a 0.3-0.5 s command, nothing a
+command's result depends on). Library use (``partsel.cli.app`` called in-process, as the tests
+do) and a run under a profiler or debugger (``python -m cProfile -m partsel ...``) end the
+ordinary way.
 """
 
 from __future__ import annotations
@@ -51,7 +59,23 @@ def main() -> None:
         signal.signal(signal.SIGINT, signal.SIG_IGN)
         if interrupt.interrupted():
             _end(exc.code if isinstance(exc.code, int) else 130)
+        if sys.getprofile() is None and sys.gettrace() is None:
+            _leave(exc.code)   # (a profiler or debugger writes its report after we return)
         raise
+
+
+def _leave(code: object) -> None:
+    """Exit with ``code`` as ``SystemExit(code)`` would (None: 0; a text: said on stderr,
+    1), by the short way described at the top."""
+    if code is None:
+        code = 0
+    elif not isinstance(code, int):
+        print(code, file=sys.stderr)
+        code = 1
+    import atexit
+    atexit._run_exitfuncs()
+    interrupt.close_all()
+    _end(code)
 
 
 __all__ = ["main"]

@@ -137,25 +137,26 @@ def test_help_and_a_plain_search_import_no_heavy_library(stores):
 
 def test_commands_load_no_library_they_do_not_use(stores):
     """Each command's allowance: scipy only where a fit or a linear programme runs, pandas
-    only where a catalog frame is read or written, pyarrow only to read or write stored
-    models; matplotlib, starlette, uvicorn and plotly never outside --plot and serve."""
+    only where a catalog frame is read or written, pyarrow only to write stored models (a few
+    are read through DuckDB's own conversions); matplotlib, starlette, uvicorn and plotly
+    never outside --plot and serve."""
     p, r = ["--store", stores["plain"]], ["--store", stores["rich"]]
     work = stores["root"] / "work.duckdb"
     out = stores["root"] / "out"
     out.mkdir(exist_ok=True)
     m = stores["measured"]
     cases = [
-        ([*r, "find", "capacitor", "--below", "0.5ohm", "--band", "1MHz..30MHz"], {"pyarrow"}),
-        ([*r, "show", CAP], {"pyarrow"}),
+        ([*r, "find", "capacitor", "--below", "0.5ohm", "--band", "1MHz..30MHz"], set()),
+        ([*r, "show", CAP], set()),
         ([*p, "curve", CAP, "--band", "100kHz..1GHz"], set()),
         ([*p, "alternates", CAP], set()),
         ([*p, "bom", DEMO / "parts_list.csv"], set()),
         ([*p, "inductive", IND, "--to", "30MHz"], set()),
         ([*r, "sweep", "list", m], set()),
         ([*r, "model", "list"], set()),
-        ([*r, "export", "spice", CAP, "--out", out / "c.lib"], {"pyarrow"}),
+        ([*r, "export", "spice", CAP, "--out", out / "c.lib"], set()),
         ([*r, "export", "touchstone", CAP, "--band", "1MHz..1GHz", "--out", out / "c.s2p"],
-         {"pyarrow"}),
+         set()),
         (["--store", work, "sweep", "import", DEMO / "measured" / f"{m}.s2p", "--part", m,
           "--fixture", "shunt-thru"], set()),
         (["--store", work, "model", "import", DEMO / "vendor" / "quillmere_mlcc.lib"],
@@ -170,3 +171,85 @@ def test_commands_load_no_library_they_do_not_use(stores):
     shutil.copy(stores["rich"], work)
     assert "scipy" in _heavy_after(["--store", work, "fit", m])
     assert "pandas" in _heavy_after(["--store", work, "import", DEMO / "catalog.csv"])
+
+
+# -- the short way out, and what a plain search does not load ---------------------------------
+
+def _modules_after(argv: list) -> set[str]:
+    import json
+    import os
+    env = {**os.environ, "PYTHONPATH": os.pathsep.join(
+        [str(ROOT), *filter(None, [os.environ.get("PYTHONPATH")])])}
+    p = subprocess.run([sys.executable, "-c", _MODULES_AFTER, json.dumps([str(a) for a in argv])],
+                       capture_output=True, text=True, check=False, cwd=ROOT, env=env)
+    assert "Traceback" not in p.stderr, p.stderr
+    return set(json.loads(p.stdout.strip().splitlines()[-1]))
+
+
+def test_a_plain_search_loads_neither_numpy_ma_nor_wcwidth(stores):
+    """numpy.ma (15 ms) only where DuckDB hands over a masked column; wcwidth (17 ms) only for
+    a table with text beyond ASCII."""
+    loaded = _modules_after(["--store", stores["plain"], "find", "capacitor", "--below",
+                             "0.5ohm", "--band", "1MHz..30MHz"])
+    assert "partsel.jobs.find" in loaded and "tabulate" in loaded   # the check can fail
+    assert not {"numpy.ma", "wcwidth"} & loaded
+
+
+def test_a_table_with_wide_characters_keeps_its_columns_aligned():
+    """East Asian wide characters take two terminal columns (Unicode Standard Annex #11,
+    East_Asian_Width W and F); the second column starts at one display column on every line,
+    also when an ASCII table loaded tabulate first in the same process."""
+    import unicodedata
+
+    from partsel import render
+
+    def width(text: str) -> int:
+        return sum(2 if unicodedata.east_asian_width(ch) in "WF" else 1 for ch in text)
+
+    cols = [render.Col("part", "part"), render.Col("maker", "maker")]
+    render.table([{"part": "A1", "maker": "B"}], cols)
+    out = render.table([{"part": "電容器X", "maker": "Q"}, {"part": "X1", "maker": "R"}], cols)
+    lines = out.splitlines()
+    # where the maker column starts: the display width of what precedes its text
+    second = [width(line[:line.rstrip().rfind(" ") + 1]) for line in lines[2:]]
+    assert second == [width("電容器X") + 2] * 2, out   # "simple": two spaces after the widest
+
+
+def test_close_all_closes_what_the_store_opened(tmp_path):
+    """The short way out closes every watched connection first (DuckDB folds its WAL into the
+    file on close, as at an ordinary exit)."""
+    import duckdb
+    import pytest
+
+    from partsel import interrupt
+    from partsel.store import db
+    con = db._connect(tmp_path / "x.duckdb", read_only=False)
+    con.execute("CREATE TABLE t (a INTEGER)")
+    con.execute("INSERT INTO t VALUES (1)")
+    interrupt.close_all()
+    with pytest.raises(duckdb.ConnectionException):
+        con.execute("SELECT 1")
+    assert not (tmp_path / "x.duckdb.wal").exists()
+    again = duckdb.connect(str(tmp_path / "x.duckdb"))
+    assert again.execute("SELECT a FROM t").fetchall() == [(1,)]
+
+
+def test_the_process_entry_runs_atexit_functions_and_keeps_the_exit_code(stores):
+    code = ("import atexit, sys\n"
+            "atexit.register(lambda: print('atexit ran'))\n"
+            "sys.argv = {argv!r}\n"
+            "from partsel.launch import main\n"
+            "main()\n")
+    import os
+    env = {**os.environ, "PYTHONPATH": str(ROOT)}
+    ok = subprocess.run([sys.executable, "-c", code.format(argv=["partsel", "--version"])],
+                        capture_output=True, text=True, env=env, cwd=ROOT)
+    assert ok.returncode == 0 and "atexit ran" in ok.stdout, (ok.stdout, ok.stderr)
+    argv = ["--store", str(stores["plain"]), "show", "NO-SUCH-PART-XYZ"]
+    bad = subprocess.run([sys.executable, "-c", code.format(argv=["partsel", *argv])],
+                         capture_output=True, text=True, env=env, cwd=ROOT)
+    from typer.testing import CliRunner
+    in_process = CliRunner().invoke(app_module.app, argv).exit_code
+    assert in_process != 0 and bad.returncode == in_process, (bad.returncode, in_process)
+    assert "atexit ran" in bad.stdout, (bad.stdout, bad.stderr)
+    assert bad.stderr.startswith("Error:") and "Traceback" not in bad.stderr

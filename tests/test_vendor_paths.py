@@ -115,6 +115,59 @@ def test_stored_models_keeps_the_newest_of_each_part_and_source_in_order():
                                       grp.reals[grp.real_offsets[k]:grp.real_offsets[k + 1]])
 
 
+_LIST = st.lists(st.floats(allow_nan=False, width=64), max_size=6)
+
+
+@pytest.mark.parametrize("arrow_from", [0, 10**9], ids=["through Arrow", "through DuckDB"])
+@settings(max_examples=40, deadline=None)
+@given(st.lists(st.tuples(st.integers(0, 4), st.sampled_from(["vendor", "fit"]),
+                          st.sampled_from(["netlist", "rlc"]),
+                          st.lists(st.integers(-2**62, 2**62), max_size=5), _LIST,
+                          st.booleans(), st.booleans()), min_size=1, max_size=12))
+def test_stored_models_read_back_what_was_stored(arrow_from, rows):
+    """Any mix of parts, sources, families and list lengths (empty, and NULL lists and dates
+    written behind replace_models' back) reads back as stored: the newest row of each part and
+    source, its lists in order (a NULL list as empty), its date or None; by either reading
+    (Arrow for many rows, DuckDB's own conversions for a few)."""
+    import partsel.store.models as stored
+    default, stored._ARROW_ROWS = stored._ARROW_ROWS, arrow_from
+    try:
+        _read_back(rows)
+    finally:
+        stored._ARROW_ROWS = default
+
+
+def _read_back(rows: list) -> None:
+    parts = [{"maker": "Quillmere Ceramics", "part_number": f"QM-{i}"} for i in range(5)]
+    newest: dict = {}
+    with memory_store(parts) as store:
+        for k, (i, source, fam, ints, reals, null_lists, no_date) in enumerate(rows):
+            replace_models(store, [ModelRow("Quillmere Ceramics", f"QM-{i}", source, fam,
+                                            np.array(ints, dtype=np.int64),
+                                            np.array(reals, dtype=float),
+                                            source_file=f"f{k}.lib")], reason="test")
+            if null_lists or no_date:
+                store.con.execute(
+                    "UPDATE models SET "
+                    + ", ".join(c for c, on in (("ints = NULL, reals = NULL", null_lists),
+                                                ("imported_at = NULL", no_date)) if on)
+                    + " WHERE part_number = ? AND source = ?", [f"QM-{i}", source])
+            newest[(i, source)] = (fam, [] if null_lists else ints,
+                                   [] if null_lists else reals, no_date, f"f{k}.lib")
+        ids = dict(zip(*store.con.execute("SELECT part_number, id FROM parts").fetchnumpy()
+                       .values(), strict=True))
+        groups = stored_models(store)
+    got = {}
+    for g in groups:
+        for j, pid in enumerate(g.part_id):
+            i = int(next(n for n, v in ids.items() if v == pid).split("-")[1])
+            got[(i, g.source)] = (g.family,
+                                  g.ints[g.int_offsets[j]:g.int_offsets[j + 1]].tolist(),
+                                  g.reals[g.real_offsets[j]:g.real_offsets[j + 1]].tolist(),
+                                  g.imported_at[j] is None, g.source_file[j])
+    assert got == newest
+
+
 def test_labels_and_summary_are_the_per_part_words():
     parts = [{"maker": "Quillmere Ceramics", "part_number": f"QM-{i}"} for i in range(8)]
     with memory_store(parts) as store:

@@ -9,6 +9,7 @@ from __future__ import annotations
 import json
 import os
 import re
+import sys
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -63,18 +64,21 @@ class Store:
     def arrays(self, sql: str, params: Sequence[Any] = ()) -> dict[str, np.ndarray]:
         """Run a query and return its columns as plain numpy arrays (NULL -> NaN or None)."""
         raw = self.con.execute(sql, list(params)).fetchnumpy()
+        # DuckDB hands a column with NULLs over as a masked array, having imported numpy.ma
+        # for it; asking for np.ma here would import it (15 ms) for every query
+        ma = sys.modules.get("numpy.ma")
         out: dict[str, np.ndarray] = {}
         for name, col in raw.items():
-            if isinstance(col, np.ma.MaskedArray):
+            if ma is not None and isinstance(col, ma.MaskedArray):
                 if col.dtype.kind in "fc":
                     col = col.filled(np.nan)
-                elif col.dtype.kind in "iu" and np.ma.is_masked(col):
+                elif col.dtype.kind in "iu" and ma.is_masked(col):
                     col = col.astype(float).filled(np.nan)
                 elif col.dtype.kind in "iub":
                     col = col.filled(0)
                 else:  # filled(None) would use the default fill value, not None
                     data = np.asarray(col.data, dtype=object).copy()
-                    data[np.ma.getmaskarray(col)] = None
+                    data[ma.getmaskarray(col)] = None
                     col = data
             out[name] = np.asarray(col)
         return out
@@ -324,7 +328,7 @@ def open_store(path: str | os.PathLike[str] | None = None, *, write: bool = Fals
     con = _connect(p, read_only=not write)
     try:
         version = schema.current_version(con)
-    except duckdb.Error as exc:
+    except (duckdb.Error, ValueError) as exc:
         con.close()
         text = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
         raise StoreError(f"{p} cannot be read as a store ({text}): the file is damaged or cut "

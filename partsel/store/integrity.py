@@ -65,9 +65,11 @@ def expected_columns(version: int) -> dict[str, dict[str, str]]:
 
 def _columns(con: duckdb.DuckDBPyConnection) -> dict[str, dict[str, str]]:
     out: dict[str, dict[str, str]] = {}
-    rows = con.execute("SELECT table_name, column_name, data_type FROM information_schema.columns "
-                       "WHERE table_schema = 'main' ORDER BY table_name, ordinal_position"
-                       ).fetchall()
+    # duckdb_columns() rather than information_schema.columns (a view over it): same rows,
+    # 2 ms instead of 4-14 ms a call
+    rows = con.execute("SELECT table_name, column_name, data_type FROM duckdb_columns() "
+                       "WHERE database_name = current_database() AND schema_name = 'main' "
+                       "ORDER BY table_name, column_index").fetchall()
     for table, column, kind in rows:
         out.setdefault(table, {})[column] = kind
     return out
@@ -209,17 +211,20 @@ def _check_tables(con: duckdb.DuckDBPyConnection, version: int, report: StoreRep
                 report.problems.append(f"column {table}.{column} is {have[column]}, not {kind}")
 
 
-def _scalar(con: duckdb.DuckDBPyConnection, sql: str) -> int:
-    return int(con.execute(sql).fetchone()[0] or 0)
+def _scalars(con: duckdb.DuckDBPyConnection, queries: list[str]) -> list[int]:
+    """The integer each of ``queries`` gives (NULL: 0), asked in one statement (a statement
+    costs DuckDB about a millisecond to plan, more than these counts take to run)."""
+    row = con.execute("SELECT " + ", ".join(f"({q})" for q in queries)).fetchone()
+    return [int(v or 0) for v in row]
 
 
 def _check_rows(con: duckdb.DuckDBPyConnection, report: StoreReport) -> None:
     tables = [t for t in TABLES if t in _columns(con)]
-    for t in tables:
-        report.counts[t] = _scalar(con, f"SELECT count(*) FROM {t}")
-    for kind in ("capacitor", "inductor"):
-        report.counts[f"{kind}s"] = _scalar(
-            con, f"SELECT count(*) FROM parts WHERE kind = '{kind}'")
+    counts = [(t, f"SELECT count(*) FROM {t}") for t in tables]
+    counts += [(f"{kind}s", f"SELECT count(*) FROM parts WHERE kind = '{kind}'")
+               for kind in ("capacitor", "inductor")]
+    report.counts.update(zip((k for k, _ in counts), _scalars(con, [q for _, q in counts]),
+                             strict=True))
     checks = [
         ("SELECT count(*) FROM parts WHERE part_number IS NULL OR maker IS NULL OR kind IS NULL "
          "OR value IS NULL", "parts lack a part number, maker, kind or value"),
@@ -242,8 +247,7 @@ def _check_rows(con: duckdb.DuckDBPyConnection, report: StoreReport) -> None:
          "OR len(z_im) <> len(f)", "sweeps have fewer than 2 points or columns of unequal "
                                    "length"),
     ]
-    for sql, what in checks:
-        n = _scalar(con, sql)
+    for n, (_, what) in zip(_scalars(con, [sql for sql, _ in checks]), checks, strict=True):
         if n:
             report.problems.append(f"{n} {what}")
 

@@ -1,8 +1,9 @@
 """The ``models`` table: models other than the catalog columns (a maker's files, fits of
 closed-form families), stored in each family's packed form.
 
-Rows are read through Arrow so that the packed list columns of many thousands of models arrive
-as flat arrays with offsets (no Python object per model); writing is one transaction per call.
+Rows are read so that the packed list columns of many thousands of models arrive as flat arrays
+with offsets (no Python object per number); writing goes through one Arrow table and one
+transaction per call.
 """
 
 from __future__ import annotations
@@ -17,6 +18,7 @@ from typing import Any
 import numpy as np
 from numpy.typing import NDArray
 
+from partsel.errors import StoreError
 from partsel.store.db import Store
 from partsel.store.transaction import transaction
 
@@ -123,6 +125,69 @@ def _arrow(relation: Any) -> Any:
     return get()
 
 
+@dataclass(frozen=True)
+class _Rows:
+    """The ``models`` rows of some sources (in no set order): small columns, and the packed
+    lists flat with their offsets (a NULL list counts as empty)."""
+
+    row: NDArray[np.int64]
+    source: list[str]
+    family: list[str]
+    source_file: list[str | None]
+    subckt: list[str | None]
+    note: list[str | None]
+    dates: list[datetime | None]
+    stamp: NDArray[np.int64]          # microseconds; no date counts as the oldest
+    ints: NDArray[np.int64]
+    int_offsets: NDArray[np.int64]
+    reals: NDArray[np.float64]
+    real_offsets: NDArray[np.int64]
+
+
+_NO_DATE = np.iinfo(np.int64).min + 1
+_ARROW_ROWS = 2_000    # from this many model rows on they are read through Arrow
+
+
+def _model_rows(store: Store, sources: Sequence[str]) -> _Rows:
+    """The rows of ``sources``: a few through DuckDB's own numpy and Python conversions (Arrow
+    costs pyarrow's import, 40-50 ms of a command's start-up), many through Arrow (at 100,000
+    rows 5-10x faster: no Python object per row, no sort of the packed lists)."""
+    where = "WHERE list_contains(?, source)"
+    src = [list(sources)]
+    n = store.con.execute(f"SELECT count(*) FROM models {where}", src).fetchall()[0][0]
+    if n >= _ARROW_ROWS:
+        return _model_rows_arrow(store, where, src)
+    small = store.con.execute(
+        "SELECT rowid, source, family, source_file, subckt, note, imported_at, "
+        "coalesce(epoch_us(imported_at), ?), coalesce(len(ints), 0), coalesce(len(reals), 0) "
+        f"FROM models {where} ORDER BY rowid", [_NO_DATE, *src]).fetchall()
+    cols = list(zip(*small, strict=True)) if small else [()] * 10
+
+    def ints_of(i: int) -> NDArray[np.int64]:
+        return np.fromiter(cols[i], dtype=np.int64, count=len(small))
+
+    def flat(column: str, dtype: type, counts: NDArray[np.int64]) -> tuple[NDArray, NDArray]:
+        offsets = np.zeros(len(counts) + 1, dtype=np.int64)
+        np.cumsum(counts, out=offsets[1:])
+        if not offsets[-1]:
+            return np.zeros(0, dtype), offsets
+        got = store.con.execute(
+            f"SELECT v FROM (SELECT rowid AS r, unnest({column}) AS v, "
+            f"generate_subscripts({column}, 1) AS k FROM models {where}) ORDER BY r, k",
+            src).fetchnumpy()["v"]
+        if len(got) != offsets[-1]:    # the store changed between the two reads
+            raise StoreError("the models table changed while it was read: run the command "
+                             "again")
+        filled = got.filled(np.nan if np.dtype(dtype).kind == "f" else 0) \
+            if hasattr(got, "filled") else got
+        return np.asarray(filled, dtype=dtype), offsets
+
+    ints, int_off = flat("ints", np.int64, ints_of(8))
+    reals, real_off = flat("reals", np.float64, ints_of(9))
+    return _Rows(ints_of(0), list(cols[1]), list(cols[2]), list(cols[3]), list(cols[4]),
+                 list(cols[5]), list(cols[6]), ints_of(7), ints, int_off, reals, real_off)
+
+
 def _register(store: Store, name: str, table: Any) -> None:
     """Register an Arrow table as a view; a result left open by an earlier ``fetchone`` is
     finished first (DuckDB 2 refuses to register while one is open)."""
@@ -144,8 +209,6 @@ def stored_models(store: Store, *, kind: str | None = None,
     and family, newest first within a part (one row per part and source is kept)."""
     if not has_models(store):
         return []
-    import pyarrow as pa
-
     conds = ["list_contains(?, m.source)"]
     params: list[Any] = [list(sources)]
     if kind is not None:
@@ -156,6 +219,7 @@ def stored_models(store: Store, *, kind: str | None = None,
     registered = joined and "pandas" in sys.modules
     if registered:
         # a semi join on a registered column (zero copy)
+        import pyarrow as pa  # only here, in a command that has loaded pandas
         conds.append("p.id IN (SELECT id FROM partsel_model_ids)")
         _register(store, "partsel_model_ids", pa.table({"id": pa.array(wanted)}))
     elif joined:
@@ -164,16 +228,12 @@ def stored_models(store: Store, *, kind: str | None = None,
         conds.append("p.id IN (SELECT unnest(?::BIGINT[]))")
         params.append(wanted.tolist())
     try:
-        # two reads: which part each model row belongs to (a join of two small columns), and
-        # the rows themselves; joining the packed lists inside the query costs twice as much
+        # which part each model row belongs to (a join of two small columns), then the rows
+        # themselves; joining the packed lists inside the query costs twice as much
         keys = store.con.execute(
             "SELECT m.rowid AS row, p.id AS part_id FROM models m JOIN parts p "
             "ON p.maker = m.maker AND p.part_number = m.part_number "
             f"WHERE {' AND '.join(conds)}", params).fetchnumpy()
-        table = _arrow(store.con.sql(
-            "SELECT rowid AS row, source, family, ints, reals, source_file, subckt, "
-            "imported_at, note FROM models WHERE list_contains(?, source)",
-            params=[list(sources)]))
     finally:
         if registered:
             store.con.unregister("partsel_model_ids")
@@ -182,28 +242,27 @@ def stored_models(store: Store, *, kind: str | None = None,
         # many candidates (a band search over a catalog): cheaper to keep theirs here
         keep = np.isin(part_id, wanted)
         row, part_id = row[keep], part_id[keep]
-    if not len(row) or table.num_rows == 0:
+    if not len(row):
         return []
-    rowids = np.asarray(_np(table.column("row")), dtype=np.int64)
+    table = _model_rows(store, sources)
+    if not len(table.row):
+        return []
+    rowids = table.row
     by_row = np.argsort(rowids)
     at = by_row[np.searchsorted(rowids[by_row], row)]
-    # the small columns as numpy and lists, picked by position (Arrow's take and sort would
-    # import pyarrow.compute: a tenth of a second of a command's start-up)
-    source_all = np.asarray(table.column("source").to_pylist(), dtype=object)
-    family_all = np.asarray(table.column("family").to_pylist(), dtype=object)
+    # the small columns as numpy and lists, picked by position
+    source_all = np.asarray(table.source, dtype=object)
+    family_all = np.asarray(table.family, dtype=object)
     src_codes = _codes(source_all)
     fam_codes = _codes(family_all)
-    stamps = _stamps(table.column("imported_at"))
-    order = _newest_in_order(part_id, rowids[at], src_codes[at], fam_codes[at], stamps[at])
+    order = _newest_in_order(part_id, rowids[at], src_codes[at], fam_codes[at],
+                             table.stamp[at])
     sel = at[order]
-    ints, int_off = _flat(table.column("ints"))
-    reals, real_off = _flat(table.column("reals"))
+    ints, int_off = table.ints, table.int_offsets
+    reals, real_off = table.reals, table.real_offsets
     part_id = part_id[order]
     source, family = src_codes[sel], fam_codes[sel]
-    files = table.column("source_file").to_pylist()
-    subckts = table.column("subckt").to_pylist()
-    notes = table.column("note").to_pylist()
-    dates = _datetimes(table.column("imported_at"))
+    files, subckts, notes, dates = table.source_file, table.subckt, table.note, table.dates
     cuts = np.flatnonzero((source[1:] != source[:-1]) | (family[1:] != family[:-1])) + 1
     out = []
     for start, end in zip(np.r_[0, cuts], np.r_[cuts, len(sel)], strict=True):
@@ -229,6 +288,22 @@ def _gather(values: NDArray, offsets: NDArray[np.int64],
     return values[pos], new
 
 
+def _model_rows_arrow(store: Store, where: str, src: list[Any]) -> _Rows:
+    table = _arrow(store.con.sql(
+        "SELECT rowid AS row, source, family, ints, reals, source_file, subckt, imported_at, "
+        f"note FROM models {where}", params=src))
+    ints, int_off = _flat(table.column("ints"))
+    reals, real_off = _flat(table.column("reals"))
+    # the small columns as lists (Arrow's take and sort would import pyarrow.compute: a tenth
+    # of a second of a command's start-up)
+    return _Rows(np.asarray(_np(table.column("row")), dtype=np.int64),
+                 *(table.column(c).to_pylist() for c in (
+                     "source", "family", "source_file", "subckt", "note")),
+                 _datetimes(table.column("imported_at")), _stamps(table.column("imported_at")),
+                 np.asarray(ints, dtype=np.int64), int_off,
+                 np.asarray(reals, dtype=np.float64), real_off)
+
+
 def _datetimes(column: Any) -> list[datetime | None]:
     """A timestamp column as datetimes (None for NULL), converted in numpy, not per value."""
     values = _np(column)
@@ -244,7 +319,7 @@ def _stamps(column: Any) -> NDArray[np.int64]:
     else:
         null = np.zeros(len(raw), dtype=bool)
         out = raw.astype(np.int64)
-    out[null] = np.iinfo(np.int64).min + 1
+    out[null] = _NO_DATE
     return out
 
 
