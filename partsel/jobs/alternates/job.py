@@ -12,8 +12,6 @@ from numpy.typing import NDArray
 from partsel.derating import derating
 from partsel.engine.models import ModelSet
 from partsel.errors import QueryError
-from partsel.jobs.alternates.corners import columns as corner_columns
-from partsel.jobs.alternates.corners import corner_rules, effect_lines
 from partsel.jobs.alternates.criteria import (
     _EPS,
     _RATIO_HIGH,
@@ -146,6 +144,7 @@ def _function_rules(store: Store, a: dict[str, NDArray], orig: _Original, criter
         fails += ~ok["curve"]
     rules, corner_fails = None, None
     if criteria.corners:
+        from partsel.jobs.alternates.corners import corner_rules  # (corners only: 10-20 ms)
         rules = corner_rules(mo, ocols or {}, mc, a, "capacitor" if is_cap else "inductor",
                              criteria.conditions(), band)
         corner_fails = np.zeros(n, dtype=int)
@@ -259,7 +258,10 @@ def alternates_for(store: Store, original: dict[str, Any],
     lo, hi = orig.value_eff * (1 - orig.window), orig.value_eff * (1 + orig.window)
     if bias is not None:
         lo, hi = lo / _RATIO_HIGH, hi / _RATIO_LOW
-    extra = corner_columns(o["kind"]) if criteria.corners else ()
+    extra = ()
+    if criteria.corners:
+        from partsel.jobs.alternates.corners import columns as corner_columns
+        extra = corner_columns(o["kind"])
     a = queries.survivors(store, o["kind"], int(o["id"]), (lo * (1 - _EPS), hi * (1 + _EPS)),
                           [(r.name, r.tests) for r in rules], bias, criteria.explain, extra)
     ocols = queries.columns_of(store, int(o["id"]), extra) if criteria.corners else None
@@ -293,6 +295,7 @@ def alternates_for(store: Store, original: dict[str, Any],
     original_corner = None
     if scores.corners is not None:
         assert scores.corner_fails is not None
+        from partsel.jobs.alternates.corners import effect_lines
         effects += effect_lines(scores.corners, bias, fails <= 1)
         notes += _corner_notes(store, a, scores, fails)
         original_corner = scores.corners.original.fields(0)
