@@ -139,6 +139,24 @@ def test_search_with_filters_equals_the_cli(client, demo, cli):
     assert "c_eff_f" in got[0]   # the bias figures came through
 
 
+def test_worst_corner_search_equals_the_cli(client, demo, cli):
+    """find --corners --temp --age on the page: the same rows and corner figures as the
+    command line, and the corner columns in the page's table."""
+    q = {"kind": "capacitor", "below": "0.2ohm", "band": "1MHz..10MHz", "case": "0603",
+         "corners": "1", "temp": "-40C..85C", "age": "10y", "limit": "5"}
+    got = client.get("/api/search", params=q).json()
+    want = cli_json(cli, demo, "find", "capacitor", "--below", "0.2ohm", "--band",
+                    "1MHz..10MHz", "--case", "0603", "--corners", "--temp", "-40C..85C",
+                    "--age", "10y", "--limit", "5")
+    assert got == want and len(got) == 5
+    assert all(r["corner_max_z_ohm"] >= r["max_z_ohm"] for r in got)   # the check can fail
+    page = client.get("/search", params=q)
+    assert page.status_code == 200 and "corner max |Z|" in page.text
+    plain = client.get("/api/search", params={k: v for k, v in q.items()
+                                              if k not in ("corners", "temp", "age")}).json()
+    assert "corner_max_z_ohm" not in plain[0]
+
+
 def test_inductor_search_equals_the_cli(client, demo, cli):
     q = {"kind": "inductor", "inductive_to": "100MHz", "value": "10nH..1uH", "limit": "4"}
     want = cli_json(cli, demo, "find", "inductor", "--inductive-to", "100MHz", "--value",
@@ -216,6 +234,13 @@ BAD = [
      ["find", "capacitor", "--dielectric", "Q9Z"]),
     ("/api/search", {"kind": "capacitor", "value": "1uH..2uH"}, "value",
      ["find", "capacitor", "--value", "1uH..2uH"]),
+    ("/api/search", {"kind": "capacitor", "below": "1ohm", "band": "1MHz..30MHz",
+                     "temp": "-40C..85C"}, "temp",
+     ["find", "capacitor", "--below", "1ohm", "--band", "1MHz..30MHz", "--temp", "-40C..85C"]),
+    ("/api/search", {"kind": "capacitor", "below": "1ohm", "band": "1MHz..30MHz",
+                     "corners": "1", "age": "forever"}, "age",
+     ["find", "capacitor", "--below", "1ohm", "--band", "1MHz..30MHz", "--corners", "--age",
+      "forever"]),
     ("/api/part/NO-SUCH-PART", {}, "part", ["show", "NO-SUCH-PART"]),
     ("/api/substitutes", {"part": "NO-SUCH-PART"}, "part", ["alternates", "NO-SUCH-PART"]),
     ("/api/substitutes", {"part": "X", "within": "loud"}, "within",

@@ -48,7 +48,7 @@ def table_columns(search: Any) -> list[Col]:
     return cols
 
 
-def _corner_columns(search: Any, cols: list[Col]) -> list[Col]:
+def corner_columns(search: Any, cols: list[Col]) -> list[Col]:
     """The worst-corner figures beside the nominal ones (find --corners)."""
     extra = []
     if search.band and (search.below is not None or search.above is None):
@@ -199,7 +199,7 @@ def find_cmd(
     if any(r.get("model_source") != "catalog" for r in result.rows):
         cols = cols[:-2] + [Col("model", "model")] + cols[-2:]
     if search.corners:
-        cols = _corner_columns(search, cols)
+        cols = corner_columns(search, cols)
     echo(opt.emit(result.rows, cols, fmt, json_keys=json_row))
     shown = len(result.rows)
     note(f"{result.matches} of {result.considered} {search.kind}s pass; showing {shown}, "

@@ -127,8 +127,9 @@ class Search:
             raise QueryError("model_only needs a model choice other than catalog (vendor, "
                              "measured or best)")
         if (self.temp is not None or self.age is not None) and not self.corners:
-            raise QueryError("a temperature range or a life applies to the worst case: ask "
-                             "for the corners too")
+            given = ("temp", "age") if self.temp is not None else ("age", "temp")
+            raise QueryError("a temperature range (temp) or a life (age) applies to the worst "
+                             "case: ask for the corners too", params=given)
         if self.corners:
             from partsel.jobs.corners_find import conditions_of
             conditions_of(self)

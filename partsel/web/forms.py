@@ -168,6 +168,11 @@ def search_from_query(q: Mapping[str, Any]) -> Any:
             kw["srf_ratio"] = units.parse_number(srf_ratio, "--srf-ratio")
     kw["model"], kw["model_only"] = model_of(q), _flag(q, "model_only")
     kw["limit"] = _count(q, "limit", 20)
+    # the worst case (find --corners --temp --age): the texts as the command line takes them
+    kw["corners"] = _flag(q, "corners")
+    for key in ("temp", "age"):
+        if _text(q, key):
+            kw[key] = _text(q, key).strip()
     search = Search(**kw)
     with reading(None, FIND_FLAGS, q):
         search.validate()

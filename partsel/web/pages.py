@@ -142,12 +142,15 @@ def _search_form(q: dict[str, str], err: BadInput | None) -> str:
                     options=("best", "catalog", "vendor", "measured")),
               field("limit", "rows", q, err, "20"),
               field("in_stock", "in stock", q, err, kind="checkbox"),
-              field("include_obsolete", "obsolete too", q, err, kind="checkbox")]
+              field("include_obsolete", "obsolete too", q, err, kind="checkbox"),
+              field("corners", "judge at the worst corner", q, err, kind="checkbox"),
+              field("temp", "temperature", q, err, "-40C..85C"),
+              field("age", "life", q, err, "10y")]
     return form("/search", fields, err)
 
 
 def search(answers: Any, request: Any) -> str:
-    from partsel.cli.cmd_find import table_columns
+    from partsel.cli.cmd_find import corner_columns, table_columns
     from partsel.jobs.show import curves
 
     q = _q(request)
@@ -159,6 +162,8 @@ def search(answers: Any, request: Any) -> str:
     except BadInput as exc:
         return layout("Search", _search_form(q, exc))
     cols = table_columns(s)
+    if s.corners:
+        cols = corner_columns(s, cols)
     body = [_search_form(q, None),
             f'<p id="summary">{result.matches} of {result.considered} {s.kind}s pass; '
             f"showing {len(result.rows)}, {escape(result.order)}.</p>",
