@@ -10,7 +10,8 @@ from __future__ import annotations
 
 import re
 import sys
-from collections.abc import Sequence
+from collections.abc import Iterator, Sequence
+from contextlib import contextmanager
 from dataclasses import dataclass
 from datetime import datetime
 from typing import Any
@@ -366,24 +367,55 @@ def replace_models(store: Store, rows: Sequence[ModelRow], *, reason: str) -> in
     """Store the models, replacing each part's earlier model of the same source (the replaced
     one goes to ``model_history`` with ``reason``), in one transaction. Returns the count.
 
-    The rows go in as one Arrow table, so thousands of models cost three statements."""
+    The rows go in as one table (:func:`_table`), so thousands of models cost three
+    statements."""
     store.require_write("store models")
     if not rows:
         return 0
-    new = _pa_table({
-        **{c: _pa_text([getattr(r, c) for r in rows]) for c in (
-            "maker", "part_number", "source", "family", "source_file", "subckt", "text")},
-        "ints": _pa_lists([r.ints for r in rows], np.int64),
-        "reals": _pa_lists([r.reals for r in rows], np.float64),
-        "note": _pa_text([r.note for r in rows])})
+    columns = {c: ("VARCHAR", [getattr(r, c) for r in rows]) for c in (
+        "maker", "part_number", "source", "family", "source_file", "subckt", "text")}
+    columns["ints"] = ("BIGINT[]", [r.ints for r in rows])
+    columns["reals"] = ("DOUBLE[]", [r.reals for r in rows])
+    columns["note"] = ("VARCHAR", [r.note for r in rows])
     con = store.con
-    _register(store, "partsel_new_models", new)
-    try:
-        with transaction(con, f"{len(rows)} model{'s' if len(rows) > 1 else ''} in {store.path}"):
-            _replace(con, reason)
-    finally:
-        con.unregister("partsel_new_models")
+    with _table(store, "partsel_new_models", columns, len(rows)), \
+            transaction(con, f"{len(rows)} model{'s' if len(rows) > 1 else ''} in {store.path}"):
+        _replace(con, reason)
     return len(rows)
+
+
+_ARROW_TYPES = {"VARCHAR": lambda v: _pa_text(v), "BIGINT": lambda v: _pa(np.asarray(v)),
+                "BIGINT[]": lambda v: _pa_lists(v, np.int64),
+                "DOUBLE[]": lambda v: _pa_lists(v, np.float64)}
+
+
+@contextmanager
+def _table(store: Store, name: str, columns: dict[str, tuple[str, Sequence[Any]]],
+           n: int) -> Iterator[None]:
+    """A table ``name`` of ``n`` rows for the statements in the block: column -> (SQL type,
+    values; lists of numbers as arrays or lists). From :data:`_ARROW_ROWS` rows on an Arrow
+    table registered as a view (no Python object per number); below, a temporary table filled
+    by one INSERT of bound lists zipped by unnest (pyarrow's import would cost more)."""
+    con = store.con
+    if n >= _ARROW_ROWS:
+        _register(store, name, _pa_table({c: _ARROW_TYPES[t](v)
+                                          for c, (t, v) in columns.items()}))
+        try:
+            yield
+        finally:
+            con.unregister(name)
+        return
+    con.execute(f"CREATE OR REPLACE TEMP TABLE {name} ("
+                + ", ".join(f'"{c}" {t}' for c, (t, _) in columns.items()) + ")")
+    try:
+        values = [[np.asarray(x).ravel().tolist() for x in v] if t.endswith("[]") else
+                  (np.asarray(v).tolist() if t == "BIGINT" else list(v))
+                  for t, v in columns.values()]
+        con.execute(f"INSERT INTO {name} SELECT "
+                    + ", ".join(f"unnest(?::{t}[])" for t, _ in columns.values()), values)
+        yield
+    finally:
+        con.execute(f"DROP TABLE IF EXISTS temp.{name}")
 
 
 def _replace(con: Any, reason: str) -> None:
@@ -434,14 +466,12 @@ def part_candidates(store: Store, names: Sequence[str], *,
     if not names:
         return []
     keys = [alnum_key(n) for n in names]
-    _register(store, "partsel_names", _pa_table({
-        "idx": _pa(np.arange(len(names))),
-        "name": _pa_text(list(names)),
-        "akey": _pa_text(keys),
-        "akey2": _pa_text([k[1:] if k.startswith("p") else None for k in keys])}))
+    table = {"idx": ("BIGINT", np.arange(len(names))), "name": ("VARCHAR", list(names)),
+             "akey": ("VARCHAR", keys),
+             "akey2": ("VARCHAR", [k[1:] if k.startswith("p") else None for k in keys])}
     cols = ", ".join(f'p."{c}"' for c in CANDIDATE_COLUMNS)
     where, params = ("WHERE lower(maker) = lower(?)", [maker]) if maker else ("", [])
-    try:
+    with _table(store, "partsel_names", table, len(names)):
         cur = store.con.execute(
             f"WITH p AS (SELECT *, lower(regexp_replace(part_number, '[^A-Za-z0-9]', '', 'g')) "
             f"AS akey FROM parts {where}) "
@@ -456,8 +486,6 @@ def part_candidates(store: Store, names: Sequence[str], *,
             "ORDER BY 1, 2, 3", params)
         names_out = [d[0] for d in cur.description]
         rows = cur.fetchall()
-    finally:
-        store.con.unregister("partsel_names")
     out = []
     for r in rows:
         d = dict(zip(names_out, r, strict=True))
