@@ -90,9 +90,9 @@ print(json.dumps(sorted(sys.modules)))
 """
 
 
-def _heavy_after(argv: list) -> set[str]:
-    """The libraries of HEAVY loaded by the end of ``partsel ARGV`` (in a fresh process, as
-    sorted(sys.modules) there)."""
+def _modules_after(argv: list) -> set[str]:
+    """The modules loaded by the end of ``partsel ARGV`` (in a fresh process, as sys.modules
+    there)."""
     import json
     import os
     env = {**os.environ, "PYTHONPATH": os.pathsep.join(
@@ -100,8 +100,12 @@ def _heavy_after(argv: list) -> set[str]:
     p = subprocess.run([sys.executable, "-c", _MODULES_AFTER, json.dumps([str(a) for a in argv])],
                        capture_output=True, text=True, check=False, cwd=ROOT, env=env)
     assert "Traceback" not in p.stderr, p.stderr
-    loaded = json.loads(p.stdout.strip().splitlines()[-1])
-    return {m for m in loaded if m in HEAVY}
+    return set(json.loads(p.stdout.strip().splitlines()[-1]))
+
+
+def _heavy_after(argv: list) -> set[str]:
+    """The libraries of HEAVY loaded by the end of ``partsel ARGV``."""
+    return _modules_after(argv) & set(HEAVY)
 
 
 @__import__("pytest").fixture(scope="module")
@@ -174,17 +178,6 @@ def test_commands_load_no_library_they_do_not_use(stores):
 
 
 # -- the short way out, and what a plain search does not load ---------------------------------
-
-def _modules_after(argv: list) -> set[str]:
-    import json
-    import os
-    env = {**os.environ, "PYTHONPATH": os.pathsep.join(
-        [str(ROOT), *filter(None, [os.environ.get("PYTHONPATH")])])}
-    p = subprocess.run([sys.executable, "-c", _MODULES_AFTER, json.dumps([str(a) for a in argv])],
-                       capture_output=True, text=True, check=False, cwd=ROOT, env=env)
-    assert "Traceback" not in p.stderr, p.stderr
-    return set(json.loads(p.stdout.strip().splitlines()[-1]))
-
 
 def test_a_plain_search_loads_neither_numpy_ma_nor_wcwidth(stores):
     """numpy.ma (15 ms) only where DuckDB hands over a masked column; wcwidth (17 ms) only for

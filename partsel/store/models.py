@@ -19,7 +19,6 @@ from typing import Any
 import numpy as np
 from numpy.typing import NDArray
 
-from partsel.errors import StoreError
 from partsel.store.db import Store
 from partsel.store.transaction import transaction
 
@@ -176,9 +175,6 @@ def _model_rows(store: Store, sources: Sequence[str]) -> _Rows:
             f"SELECT v FROM (SELECT rowid AS r, unnest({column}) AS v, "
             f"generate_subscripts({column}, 1) AS k FROM models {where}) ORDER BY r, k",
             src).fetchnumpy()["v"]
-        if len(got) != offsets[-1]:    # the store changed between the two reads
-            raise StoreError("the models table changed while it was read: run the command "
-                             "again")
         filled = got.filled(np.nan if np.dtype(dtype).kind == "f" else 0) \
             if hasattr(got, "filled") else got
         return np.asarray(filled, dtype=dtype), offsets
@@ -384,7 +380,7 @@ def replace_models(store: Store, rows: Sequence[ModelRow], *, reason: str) -> in
     return len(rows)
 
 
-_ARROW_TYPES = {"VARCHAR": lambda v: _pa_text(v), "BIGINT": lambda v: _pa(np.asarray(v)),
+_ARROW_TYPES = {"VARCHAR": _pa_text, "BIGINT": _pa,
                 "BIGINT[]": lambda v: _pa_lists(v, np.int64),
                 "DOUBLE[]": lambda v: _pa_lists(v, np.float64)}
 
