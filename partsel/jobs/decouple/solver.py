@@ -22,6 +22,7 @@ Board = pdn.Branches | Layout     # branches in parallel, or a ladder to one rin
 TRY_LINES = 8        # lines tried for removal per step of the backward elimination
 _CHECK_SLACK = 1e-9   # relative slack of the exact check (rounding of |Z| near the target)
 _GRID_SLACK = 1e-6    # the search grid asks this much more, so refinement rarely fails
+_BOUND_FROM = 16      # greedy steps bound the points that can fall short from this many lines
 
 
 @dataclass
@@ -98,20 +99,29 @@ def greedy(search: Search, w: NDArray, price: NDArray, max_steps: int, limits: L
     never exceeding ``limits.max_lines``.
 
     Returns (counts that hold on the grid or the last state, the best counts within the
-    limits, whether the first holds). Each step is one (K x F) evaluation.
+    limits, whether the first holds). Each step is one (K x A) evaluation, A the grid points
+    where adding one part can leave a shortfall: by the triangle inequality
+    |y + y_k| >= |y| - max_k |y_k|, so a point where that bound reaches y_target is met
+    whatever part is added, and adds nothing to any candidate's sum (the sums are the same
+    as over the whole grid). Late in a fill, and in the refills of the line elimination,
+    most points are such.
     """
     k_n = search.y_parts.shape[0]
     counts = np.zeros(k_n) if start is None else start.astype(float).copy()
     cols = np.arange(k_n) if allowed is None else np.flatnonzero(allowed)
     y_cols = search.y_parts[cols]
+    # with a few candidates the bound costs more than it saves
+    reach = np.abs(y_cols).max(axis=0) if len(cols) > _BOUND_FROM else None
     y = search.admittance(counts)
     y_t = search.y_target
+    y_ta = np.broadcast_to(np.asarray(y_t, dtype=float), y.shape)
+    cost = np.nan_to_num(price)
     cur = np.maximum(0.0, 1.0 - np.abs(y) / y_t).sum()
     best_within, best_ratio = counts.copy(), _worst_ratio(y, y_t)
     for _ in range(max_steps):
         if cur <= 0.0:
             return counts, best_within, True
-        s = np.maximum(0.0, 1.0 - np.abs(y[None, :] + y_cols) / y_t).sum(axis=1)
+        s = shortfall_sums(y, y_cols, y_ta, reach)
         gain = (cur - s) / w[cols]
         if limits.max_lines is not None and np.count_nonzero(counts) >= limits.max_lines:
             gain[counts[cols] == 0] = -np.inf
@@ -122,16 +132,30 @@ def greedy(search: Search, w: NDArray, price: NDArray, max_steps: int, limits: L
         counts[k] += 1
         y = y + search.y_parts[k]
         cur = float(s[j])
-        if limits.allows(counts, price):
+        if limits.allows(counts, cost):
             ratio = _worst_ratio(y, y_t)
             if ratio < best_ratio:
                 best_within, best_ratio = counts.copy(), ratio
     return counts, best_within, cur <= 0.0
 
 
-def _worst_ratio(y: NDArray, y_t: float) -> float:
-    with np.errstate(divide="ignore"):
-        return float(np.max(y_t / np.abs(y)))
+def shortfall_sums(y: NDArray, y_cols: NDArray, y_t: NDArray,
+                   reach: NDArray | None = None) -> NDArray:
+    """sum_f max(0, 1 - |y(f) + y_k(f)| / y_t(f)) for each row k of ``y_cols``: the shortfall
+    left with one more part k. With ``reach`` (max_k |y_k(f)|) only over the points where it
+    can be positive: where |y| - reach >= y_t, |y + y_k| >= y_t for every k (triangle
+    inequality), so the sums are those over the whole grid."""
+    if reach is None:
+        return np.maximum(0.0, 1.0 - np.abs(y[None, :] + y_cols) / y_t).sum(axis=1)
+    act = np.flatnonzero(np.abs(y) - reach < y_t)
+    return np.maximum(0.0, 1.0 - np.abs(y[None, act] + y_cols[:, act]) / y_t[act]).sum(axis=1)
+
+
+def _worst_ratio(y: NDArray, y_t: float | NDArray) -> float:
+    mag = np.abs(y)
+    if not mag.all():       # no admittance at a point: the ratio is unbounded
+        return float("inf")
+    return float(np.max(y_t / mag))
 
 
 def linearised_lp(search: Search, around: NDArray, w: NDArray, price: NDArray,
