@@ -183,6 +183,27 @@ def test_substitutes_equal_alternates_json(client, demo, cli):
     assert "near_misses" not in plain
 
 
+def test_worst_corner_substitutes_equal_the_cli(client, demo, cli):
+    """alternates --corners --temp --age on the page: the same answer as the command line
+    (the original's worst case, the corner figures and rules of every row), and the
+    original's worst corner and the corner columns on the page."""
+    pn = first_parts(client, kind="capacitor", below="0.5ohm", band="1MHz..30MHz")[0]
+    q = {"part": pn, "corners": "1", "temp": "-40C..85C", "age": "10y", "explain": "1"}
+    got = client.get("/api/substitutes", params=q).json()
+    want = cli_json(cli, demo, "alternates", pn, "--corners", "--temp", "-40C..85C", "--age",
+                    "10y", "--explain")
+    assert got == want
+    assert got["original_corner"]["corner_max_z_ohm"] > 0 and "corner_conditions" in got
+    rows = got["rows"] + got["near_misses"]
+    assert rows and all("corner_max_z_ohm" in r for r in rows)
+    assert any(r["rule"] == "corner_z" for r in rows[0]["rules"])
+    page = client.get("/substitutes", params=q)
+    assert page.status_code == 200 and 'id="corner"' in page.text
+    assert "corner max |Z|" in page.text and "Original at its worst corner" in page.text
+    plain = client.get("/api/substitutes", params={"part": pn}).json()
+    assert "original_corner" not in plain and "corner_max_z_ohm" not in plain["rows"][0]
+
+
 def test_inductor_check_equals_inductive_json(client, demo, cli):
     parts = first_parts(client, kind="inductor", inductive_to="100MHz", limit="3")
     q = {"parts": ",".join(parts), "inductive_to": "100MHz", "current": "0.2A",
@@ -245,6 +266,11 @@ BAD = [
     ("/api/substitutes", {"part": "NO-SUCH-PART"}, "part", ["alternates", "NO-SUCH-PART"]),
     ("/api/substitutes", {"part": "X", "within": "loud"}, "within",
      ["alternates", "X", "--within", "loud"]),
+    ("/api/substitutes", {"part": "KSC0402-224X7R016K-0003HG", "temp": "-40C..85C"}, "temp",
+     ["alternates", "KSC0402-224X7R016K-0003HG", "--temp", "-40C..85C"]),
+    ("/api/substitutes", {"part": "KSC0402-224X7R016K-0003HG", "corners": "1",
+                          "age": "forever"}, "age",
+     ["alternates", "KSC0402-224X7R016K-0003HG", "--corners", "--age", "forever"]),
     ("/api/inductor", {"parts": "X", "inductive_to": "fast"}, "inductive_to",
      ["inductive", "X", "--inductive-to", "fast"]),
     ("/api/inductor", {"parts": "NO-SUCH-PART", "inductive_to": "10MHz"}, "parts",

@@ -137,6 +137,14 @@ def alternates_cmd(
     _notes(res, fmt)
 
 
+# the worst-case figures beside the nominal ones (--corners), by kind
+CORNER_COLS = {"capacitor": [Col("corner_max_z_ohm", "corner max |Z|", "ohm"),
+                             Col("corner", "worst corner")],
+               "inductor": [Col("corner_l_h", "corner L", "H"),
+                            Col("corner_dcr_ohm", "hot DCR", "ohm"),
+                            Col("corner_zero_phase_hz", "corner f(phase=0)", "Hz")]}
+
+
 def _table(res: Any, kind: str) -> str:
     from partsel.render import cell, table
     figures = _FIGURES[kind]
@@ -146,13 +154,7 @@ def _table(res: Any, kind: str) -> str:
         cols[4:4] = [Col("value_eff", "C at bias", "F"), Col("bias_source", "from")]
     corner = res.original_corner is not None
     if corner:
-        if kind == "capacitor":
-            cols += [Col("corner_max_z_ohm", "corner max |Z|", "ohm"),
-                     Col("corner", "worst corner")]
-        else:
-            cols += [Col("corner_l_h", "corner L", "H"), Col("corner_dcr_ohm", "hot DCR", "ohm"),
-                     Col("corner_zero_phase_hz", "corner f(phase=0)", "Hz")]
-        cols.append(Col("corner_estimated", "est."))
+        cols += [*CORNER_COLS[kind], Col("corner_estimated", "est.")]
     cols += [*_TAIL, Col("passes", "passes")]
     unit = "F" if kind == "capacitor" else "H"
     o = res.original
@@ -172,7 +174,7 @@ def _table(res: Any, kind: str) -> str:
                 **(c.corner or {}), "corner_estimated": est, **extra}
     rows = [flat(i, c, {"passes": _passes(c)}) for i, c in enumerate(res.candidates, 1)]
     if corner:
-        head += "\n" + _original_corner(res, kind)
+        head += "\n" + original_corner_line(res, kind)
         if res.original_corner["corner_estimates"]:
             head += "\n  estimated: " + "; ".join(res.original_corner["corner_estimates"])
     out = [head, "", table(rows, cols) if rows else "(no candidate passes every rule)"]
@@ -185,7 +187,7 @@ def _table(res: Any, kind: str) -> str:
     return "\n".join(out)
 
 
-def _original_corner(res: Any, kind: str) -> str:
+def original_corner_line(res: Any, kind: str) -> str:
     """The original's worst case in one line (alternates --corners)."""
     from partsel.units import format_quantity as fq
     oc = res.original_corner

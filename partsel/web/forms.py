@@ -207,7 +207,10 @@ def alternates_from_query(q: Mapping[str, Any]) -> tuple[str, str | None, Any]:
         srf_above=_quantity(q, "srf_above", "Hz"),
         lifecycles=tuple(s.lower() for s in _list(q, "lifecycle")) or DEFAULT_LIFECYCLES,
         in_stock=_flag(q, "in_stock"), explain=_flag(q, "explain"),
-        limit=_count(q, "limit", 10), model=model_of(q))
+        limit=_count(q, "limit", 10), model=model_of(q),
+        # the worst case (alternates --corners --temp --age): the texts as the CLI takes them
+        corners=_flag(q, "corners"),
+        temp=(_text(q, "temp") or "").strip() or None, age=(_text(q, "age") or "").strip() or None)
     return part.strip(), _text(q, "maker"), crit
 
 

@@ -259,7 +259,10 @@ def _subs_form(q: dict[str, str], err: BadInput | None) -> str:
         field("case", "cases", q, err, "0402,0603"),
         field("srf_above", "SRF above", q, err),
         field("limit", "rows", q, err, "10"),
-        field("explain", "near misses", q, err, kind="checkbox")], err)
+        field("explain", "near misses", q, err, kind="checkbox"),
+        field("corners", "judge at the worst corner", q, err, kind="checkbox"),
+        field("temp", "temperature", q, err, "-40C..85C"),
+        field("age", "life", q, err, "10y")], err)
 
 
 _SUB_COLS = [Col("rank", "#"), Col("part_number", "part"), Col("maker", "maker"),
@@ -271,7 +274,7 @@ _SUB_COLS = [Col("rank", "#"), Col("part_number", "part"), Col("maker", "maker")
 def _rule_cells(c: Any, i: int) -> dict[str, Any]:
     text = "; ".join(f"{'pass' if r.passed else 'FAIL'} {r.rule}: {r.detail}" for r in c.rules)
     return {**c.part, "rank": i, "distance_db": c.distance_db, "max_diff_db": c.max_diff_db,
-            "passes": text}
+            **(c.corner or {}), "passes": text}
 
 
 def substitutes(answers: Any, request: Any) -> str:
@@ -290,13 +293,18 @@ def substitutes(answers: Any, request: Any) -> str:
             f"{escape(o['part_number'])}</a> ({escape(o['maker'])}); band "
             f"{escape(format_quantity(res.band[0], 'Hz'))}.."
             f"{escape(format_quantity(res.band[1], 'Hz'))}"
-            f"; {res.passing} pass all {len(res.rules)} rules ({res.fit} form and fit)</p>",
-            table([_rule_cells(c, i) for i, c in enumerate(res.candidates, 1)], _SUB_COLS,
-                  part_link)]
+            f"; {res.passing} pass all {len(res.rules)} rules ({res.fit} form and fit)</p>"]
+    cols = _SUB_COLS
+    if res.original_corner is not None:
+        from partsel.cli.cmd_alternates import CORNER_COLS, original_corner_line
+        body.append(f'<p id="corner">{escape(original_corner_line(res, o["kind"]))}</p>')
+        cols = [*_SUB_COLS[:-1], *CORNER_COLS[o["kind"]], _SUB_COLS[-1]]
+    body.append(table([_rule_cells(c, i) for i, c in enumerate(res.candidates, 1)], cols,
+                      part_link))
     if res.near_misses:
         body += ["<h2>Near misses (one rule failed)</h2>",
                  table([_rule_cells(c, i) for i, c in enumerate(res.near_misses, 1)],
-                       _SUB_COLS, part_link, tid="misses")]
+                       cols, part_link, tid="misses")]
     top = [o] + [c.part for c in res.candidates[:PLOTTED]]
     try:
         cv = curves(answers.store, [r["part_number"] for r in top], res.band, PER_DECADE,
