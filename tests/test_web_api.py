@@ -215,6 +215,41 @@ def test_inductor_check_equals_inductive_json(client, demo, cli):
     assert {"isat_margin", "irms_margin", "verdict", "reasons"} <= set(got[0])
 
 
+def test_worst_case_inductor_check_equals_the_cli(client, demo, cli):
+    """inductive --corners --temp --yield --seed on the page: the same JSON as the command
+    line (rows with the corner figures and the yield, the effects and notes), and the corner
+    and yield columns on the page."""
+    parts = first_parts(client, kind="inductor", inductive_to="100MHz", limit="2")
+    q = {"parts": ",".join(parts), "inductive_to": "30MHz", "current": "0.2A",
+         "corners": "1", "temp": "-40C..85C", "yield": "2000", "seed": "3"}
+    got = client.get("/api/inductor", params=q).json()
+    want = cli_json(cli, demo, "inductive", *parts, "--inductive-to", "30MHz", "--current",
+                    "0.2A", "--corners", "--temp", "-40C..85C", "--yield", "2000", "--seed",
+                    "3")
+    assert got == want and sorted(got) == ["effects", "notes", "rows"]
+    assert all({"corner_zero_phase_hz", "nominal_verdict", "yield_share"} <= set(r)
+               for r in got["rows"])
+    # the corner can only lower the inductive range (the check can fail)
+    assert all(r["corner_zero_phase_hz"] <= r["zero_phase_hz"] * (1 + 1e-9)
+               for r in got["rows"])
+    page = client.get("/inductor", params=q)
+    assert page.status_code == 200
+    assert "corner f(phase=0)" in page.text and "builds meet" in page.text
+    plain = client.get("/api/inductor", params={k: v for k, v in q.items()
+                                                if k in ("parts", "inductive_to")}).json()
+    assert isinstance(plain, list) and "yield_share" not in plain[0]
+
+
+def test_a_yield_that_is_not_a_number_is_400_on_its_field(client, demo, cli):
+    """The CLI's message without its pointer to --help (the page has none)."""
+    r = client.get("/api/inductor", params={"parts": "KSW0603-102CJ-0002B7",
+                                            "inductive_to": "10MHz", "yield": "many"})
+    assert r.status_code == 400 and r.json()["field"] == "yield"
+    cli_text = cli_error(cli, demo, "inductive", "KSW0603-102CJ-0002B7", "--inductive-to",
+                         "10MHz", "--yield", "many")
+    assert cli_text == r.json()["error"] + " (see 'partsel inductive --help')"
+
+
 def _untimed(d: dict) -> dict:
     return {**d, "search": {k: v for k, v in d["search"].items() if k != "seconds"}}
 
@@ -271,6 +306,15 @@ BAD = [
     ("/api/substitutes", {"part": "KSC0402-224X7R016K-0003HG", "corners": "1",
                           "age": "forever"}, "age",
      ["alternates", "KSC0402-224X7R016K-0003HG", "--corners", "--age", "forever"]),
+    ("/api/inductor", {"parts": "KSW0603-102CJ-0002B7", "inductive_to": "10MHz",
+                       "temp": "-40C..85C"}, "temp",
+     ["inductive", "KSW0603-102CJ-0002B7", "--inductive-to", "10MHz", "--temp", "-40C..85C"]),
+    ("/api/inductor", {"parts": "KSW0603-102CJ-0002B7", "inductive_to": "10MHz",
+                       "yield": "0"}, "yield",
+     ["inductive", "KSW0603-102CJ-0002B7", "--inductive-to", "10MHz", "--yield", "0"]),
+    ("/api/inductor", {"parts": "KSW0603-102CJ-0002B7", "inductive_to": "10MHz",
+                       "seed": "4"}, "seed",
+     ["inductive", "KSW0603-102CJ-0002B7", "--inductive-to", "10MHz", "--seed", "4"]),
     ("/api/inductor", {"parts": "X", "inductive_to": "fast"}, "inductive_to",
      ["inductive", "X", "--inductive-to", "fast"]),
     ("/api/inductor", {"parts": "NO-SUCH-PART", "inductive_to": "10MHz"}, "parts",

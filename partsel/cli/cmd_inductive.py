@@ -37,7 +37,7 @@ def _csv_row(row: dict[str, Any]) -> dict[str, Any]:
     return out
 
 
-def _corner_columns(spec: Any, cols: list[Col]) -> list[Col]:
+def corner_columns(spec: Any, cols: list[Col]) -> list[Col]:
     """The worst-corner figures beside the nominal ones, and the nominal verdict."""
     extra = [Col("corner_zero_phase_hz", "corner f(phase=0)", "Hz"),
              Col("corner_srf_ratio", "corner SRF/target", ""),
@@ -47,16 +47,18 @@ def _corner_columns(spec: Any, cols: list[Col]) -> list[Col]:
     return cols[:-1] + extra + [Col("nominal_verdict", "nominal")] + cols[-1:]
 
 
-def _worst_case_options(corners: bool, temp: str | None, builds: int | None,
+def worst_case_options(corners: bool, temp: str | None, builds: int | None,
                         seed: int | None, distribution: str) -> tuple[Any, Any]:
     """The conditions (--temp) and the yield run (--yield, --seed, --distribution), checked."""
     from partsel.jobs.corners import Conditions
     from partsel.jobs.inductive_corners import YieldSpec
 
     if temp is not None and not corners and builds is None:
-        raise QueryError("--temp applies to the worst case: give --corners or --yield too")
+        raise QueryError("--temp applies to the worst case: give --corners or --yield too",
+                         params=("temp",))
     if builds is None and (seed is not None or distribution != "normal"):
-        raise QueryError("--seed and --distribution apply to a yield run: give --yield N too")
+        raise QueryError("--seed and --distribution apply to a yield run: give --yield N too",
+                         params=("seed" if seed is not None else "distribution",))
     cond = Conditions.read(temp)
     ys = None
     if builds is not None:
@@ -148,7 +150,7 @@ def inductive_cmd(
                 current_margin=current_margin, min_q=q_at[0] if q_at else None,
                 min_q_hz=q_at[1] if q_at and q_at[1] != target else None)
     spec.validate()
-    cond, ys = _worst_case_options(corners, temp, builds, seed, distribution)
+    cond, ys = worst_case_options(corners, temp, builds, seed, distribution)
     if plot is not None:
         plot_path(plot)
     with open_store_for(ctx) as store:
@@ -168,7 +170,7 @@ def inductive_cmd(
         if any(r.get("model_source") != "catalog" for r in result.rows):
             cols = cols[:-1] + [Col("model", "model")] + cols[-1:]
         if corners:
-            cols = _corner_columns(spec, cols)
+            cols = corner_columns(spec, cols)
         if ys is not None:
             cols.insert(-1, Col("yield_share", "yield", "%"))
         lines = [opt.emit(result.rows, cols, fmt), ""]

@@ -81,11 +81,20 @@ class Answers:
     def inductor(self, q: dict[str, str]) -> tuple[Any, list[dict[str, Any]]]:
         from partsel.jobs.inductive import check
 
-        parts, spec = forms.inductive_from_query(q)
+        parts, spec, (corners, cond, ys) = forms.inductive_from_query(q)
         with forms.reading("parts", forms.INDUCTIVE_FLAGS, q):
             res = check(self.store, parts, spec, q.get("maker") or None,
                         model=forms.model_of(q))
-        return res, [inductive_row(r) for r in res.rows]
+        if corners:
+            from partsel.jobs.inductive_corners import apply_corners
+            apply_corners(res, cond)
+        if ys is not None:
+            from partsel.jobs.inductive_corners import apply_yield
+            apply_yield(res, cond, ys)
+        rows = [inductive_row(r) for r in res.rows]
+        if corners or ys is not None:   # as inductive --format json with the worst case
+            return res, {"effects": res.effects, "notes": res.notes, "rows": rows}
+        return res, rows
 
     def bank(self, body: dict[str, Any]) -> tuple[Any, dict[str, Any]]:
         from partsel.jobs import decouple as dec

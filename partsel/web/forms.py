@@ -28,9 +28,10 @@ class BadInput(Exception):
 
 # library keyword -> the option a command names it by (cli.app.flag_names of each command)
 FIND_FLAGS = {"ripple": "--ripple-current", "value_min": "--value", "value_max": "--value"}
-INDUCTIVE_FLAGS = {"target": "--inductive-to", "ripple": "--ripple-current"}
+INDUCTIVE_FLAGS = {"target": "--inductive-to", "ripple": "--ripple-current", "samples": "--yield"}
 # library keyword -> the query field that sets it
 _FIELDS = {"value_min": "value", "value_max": "value", "ripple": "ripple_current",
+           "samples": "yield",
            "target": "inductive_to", "cases": "case", "dielectrics": "dielectric",
            "technologies": "technology", "makers": "maker", "lifecycles": "lifecycle"}
 
@@ -214,8 +215,11 @@ def alternates_from_query(q: Mapping[str, Any]) -> tuple[str, str | None, Any]:
     return part.strip(), _text(q, "maker"), crit
 
 
-def inductive_from_query(q: Mapping[str, Any]) -> tuple[list[str], Any]:
-    """(part numbers, :class:`partsel.jobs.inductive.Spec`) of an inductor check view."""
+def inductive_from_query(q: Mapping[str, Any]) -> tuple[list[str], Any, tuple[bool, Any, Any]]:
+    """(part numbers, :class:`partsel.jobs.inductive.Spec`, (corners, conditions, yield run))
+    of an inductor check view: the worst case as ``inductive --corners --temp --yield --seed
+    --distribution`` reads it."""
+    from partsel.cli.cmd_inductive import worst_case_options
     from partsel.jobs.inductive import Spec
 
     parts = list(_list(q, "parts"))
@@ -241,7 +245,13 @@ def inductive_from_query(q: Mapping[str, Any]) -> tuple[list[str], Any]:
                 min_q_hz=q_at[1] if q_at and q_at[1] != target else None)
     with reading(None, INDUCTIVE_FLAGS, q):
         spec.validate()
-    return parts, spec
+    corners, temp = _flag(q, "corners"), (_text(q, "temp") or "").strip() or None
+    whole = -(2 ** 63)     # any whole number: the range is the job's to check, as on the CLI
+    builds, seed = _count(q, "yield", None, whole), _count(q, "seed", None, whole)
+    distribution = (_text(q, "distribution") or "normal").strip()
+    with reading(None, INDUCTIVE_FLAGS, q):
+        cond, ys = worst_case_options(corners, temp, builds, seed, distribution)
+    return parts, spec, (corners, cond, ys)
 
 
 def rail_from(q: Mapping[str, Any]) -> Any:

@@ -328,11 +328,17 @@ def _ind_form(q: dict[str, str], err: BadInput | None) -> str:
         field("ripple_current", "ripple (p-p)", q, err, "0.3A"),
         field("min_q", "min Q", q, err, "30@10MHz"),
         field("model", "model", q, err, kind="select",
-              options=("best", "catalog", "vendor", "measured"))], err)
+              options=("best", "catalog", "vendor", "measured")),
+        field("corners", "judge at the worst corner", q, err, kind="checkbox"),
+        field("temp", "temperature", q, err, "-40C..85C"),
+        field("yield", "yield: builds", q, err, "10000"),
+        field("seed", "seed", q, err, "0"),
+        field("distribution", "distribution", q, err, kind="select",
+              options=("normal", "uniform"))], err)
 
 
 def inductor(answers: Any, request: Any) -> str:
-    from partsel.cli.cmd_inductive import COLS, CURRENT_COLS
+    from partsel.cli.cmd_inductive import COLS, CURRENT_COLS, corner_columns
     from partsel.engine.pdn import log_grid
 
     q = _q(request)
@@ -344,6 +350,11 @@ def inductor(answers: Any, request: Any) -> str:
         return layout("Inductor check", _ind_form(q, exc))
     spec = res.spec
     cols = COLS[:-1] + (CURRENT_COLS if spec.current is not None else []) + COLS[-1:]
+    builds = any("yield_text" in r for r in res.rows)
+    if any("corner_zero_phase_hz" in r for r in res.rows):
+        cols = corner_columns(spec, cols)
+    if builds:
+        cols.insert(-1, Col("yield_share", "yield", "%"))
     body = [_ind_form(q, None), table(res.rows, cols, part_link),
             "<h2>Reasons and inductive range</h2><ul>"]
     for r in res.rows:
@@ -352,7 +363,9 @@ def inductor(answers: Any, request: Any) -> str:
             else "inductive at every frequency the model covers"
         body.append(f'<li><b>{escape(r["part_number"])}</b>: <span class="{r["verdict"]}">'
                     f'{r["verdict"]}</span>; {escape(rng)}<ul>'
-                    + "".join(f"<li>{escape(x)}</li>" for x in r["reasons"]) + "</ul></li>")
+                    + "".join(f"<li>{escape(x)}</li>" for x in r["reasons"])
+                    + (f"<li>yield: {escape(r['yield_text'])}</li>" if builds else "")
+                    + "</ul></li>")
     body.append("</ul>")
     f = log_grid(spec.target / 100.0, spec.target * 100.0, PER_DECADE)
     z = res.models.impedance(f)
@@ -361,7 +374,7 @@ def inductor(answers: Any, request: Any) -> str:
                                 "yref": "paper", "y0": 0, "y1": 1,
                                 "line": {"dash": "dash", "color": "black"}}]
     body.append(plot("zplot", fig))
-    body.append(notes(["Model: " + "; ".join(res.effects)]))
+    body.append(notes(["Model: " + "; ".join(res.effects), *res.notes]))
     return layout("Inductor check", "".join(body))
 
 
