@@ -262,6 +262,26 @@ def test_bank_equals_decouple_check_json(client, demo, cli):
     assert [x["count"] for x in r.json()["bank"]] == [e["count"] for e in bank_lines()]
 
 
+def test_worst_case_bank_equals_decouple_check_json(client, demo, cli):
+    """decouple --check --corners --temp --age --yield --seed on the page: the same JSON as
+    the command line (the corners and the yield run), and their lines in the page's
+    summary."""
+    spread = {"corners": "1", "temp": "-40C..85C", "age": "10y", "yield": "300", "seed": "5"}
+    r = client.post("/api/bank", json={**RAIL, **spread, "lines": bank_lines()})
+    assert r.status_code == 200, r.text
+    want = cli_json(cli, demo, "decouple", *RAIL_ARGS, "--check", BANK_FILE, "--corners",
+                    "--temp", "-40C..85C", "--age", "10y", "--yield", "300", "--seed", "5")
+    got = r.json()
+    assert _untimed(got) == _untimed(want)
+    assert got["corners"]["worst_ratio"] >= got["corners"]["nominal_worst_ratio"] * (1 - 1e-9)
+    assert got["yield"]["builds"] == 300
+    shown = client.post("/api/bank/plot", json={**RAIL, **spread, "lines": bank_lines()}).json()
+    assert "At its worst corner" in shown["summary"] and "of 300 builds" in shown["summary"]
+    page = client.get("/bank", params={**RAIL, **spread, "line": [
+        f"{e['part_number']}:{e['count']}" for e in bank_lines()]})
+    assert page.status_code == 200 and "of 300 builds" in page.text
+
+
 def test_bank_count_edit_moves_the_total(client):
     lines = bank_lines()
     a = client.post("/api/bank", json={**RAIL, "lines": lines}).json()
@@ -342,6 +362,12 @@ BAD_BANKS = [
     ({"rail": "1V", "target": "3mohm", "band": "1MHz..x"}, "band",
      ["--rail", "1V", "--target", "3mohm", "--band", "1MHz..x"]),
     ({"rail": "1V", "band": "1MHz..2MHz"}, "target", ["--rail", "1V", "--band", "1MHz..2MHz"]),
+    ({**RAIL, "temp": "-40C..85C"}, "temp", [*RAIL_ARGS, "--temp", "-40C..85C"]),
+    ({**RAIL, "corners": "1", "temp": "hot"}, "temp", [*RAIL_ARGS, "--corners", "--temp", "hot"]),
+    ({**RAIL, "yield": "0"}, "yield", [*RAIL_ARGS, "--yield", "0"]),
+    ({**RAIL, "yield": "10", "distribution": "cauchy"}, "distribution",
+     [*RAIL_ARGS, "--yield", "10", "--distribution", "cauchy"]),
+    ({**RAIL, "corners": "1", "seed": "2"}, "seed", [*RAIL_ARGS, "--corners", "--seed", "2"]),
 ]
 
 

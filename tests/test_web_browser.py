@@ -236,6 +236,24 @@ def test_bank_edit_moves_the_total(server, browser, shots):
     snap(browser, shots, "bank_error")
 
 
+def test_bank_worst_corner_box(server, browser, shots):
+    """Ticking "judge at the worst corner" with a temperature recomputes the bank at its
+    corners (the summary says so, the answer holds the corners) and the URL keeps them."""
+    browser.get(_bank_url(server))
+    traces(browser)
+    form = browser.find_element(By.ID, "bank-form")
+    form.find_element(By.NAME, "temp").send_keys("-40C..85C")
+    form.find_element(By.NAME, "corners").click()
+    WebDriverWait(browser, 60).until(
+        lambda d: "At its worst corner" in d.find_element(By.ID, "bank-total").text)
+    result = browser.execute_script("return window.BANK_RESULT;")
+    assert "temperature -40..85" in result["corners"]["conditions"]
+    from urllib.parse import parse_qs, urlsplit
+    q = parse_qs(urlsplit(browser.current_url).query)
+    assert q["corners"] == ["1"] and q["temp"] == ["-40C..85C"]
+    snap(browser, shots, "bank_corners")
+
+
 def _downloaded(folder: Path, name: str) -> Path:
     path = folder / name
     deadline = time.monotonic() + 20

@@ -224,12 +224,13 @@ def spread_spec(corners: bool, temp: str | None, age: str | None, builds: int | 
                         ("--distribution", distribution)):
             if v is not None:
                 raise QueryError(f"{name} applies to --corners or --yield: give one of them "
-                                 "as well")
+                                 "as well", params=(name[2:],))
         return None
     if builds is None:
         for name, v in (("--seed", seed), ("--distribution", distribution)):
             if v is not None:
-                raise QueryError(f"{name} applies to --yield N: give it as well")
+                raise QueryError(f"{name} applies to --yield N: give it as well",
+                                 params=(name[2:],))
     from partsel.jobs.corners import Conditions
     from partsel.jobs.decouple.inputs import Spread
 

@@ -31,7 +31,7 @@ FIND_FLAGS = {"ripple": "--ripple-current", "value_min": "--value", "value_max":
 INDUCTIVE_FLAGS = {"target": "--inductive-to", "ripple": "--ripple-current", "samples": "--yield"}
 # library keyword -> the query field that sets it
 _FIELDS = {"value_min": "value", "value_max": "value", "ripple": "ripple_current",
-           "samples": "yield",
+           "samples": "yield", "builds": "yield",
            "target": "inductive_to", "cases": "case", "dielectrics": "dielectric",
            "technologies": "technology", "makers": "maker", "lifecycles": "lifecycle"}
 
@@ -257,18 +257,32 @@ def inductive_from_query(q: Mapping[str, Any]) -> tuple[list[str], Any, tuple[bo
 def rail_from(q: Mapping[str, Any]) -> Any:
     """The :class:`partsel.jobs.decouple.Rail` of a bank: the CLI's own reading of --rail,
     --target (or --ripple with --step), --band, --mount-l, --worst-case and --margin."""
-    from partsel.cli.cmd_decouple import rail_spec
+    from partsel.cli.cmd_decouple import rail_spec, spread_spec
 
     texts = {k: _text(q, k) for k in ("rail", "target", "ripple", "step", "band", "margin",
-                                      "mount_l", "plane", "plane_l", "vrm_r", "vrm_l")}
+                                      "mount_l", "plane", "plane_l", "vrm_r", "vrm_l", "temp",
+                                      "age", "distribution")}
     board = ([texts["mount_l"]] if texts["mount_l"] else None, texts["plane"], texts["plane_l"],
              texts["vrm_r"], texts["vrm_l"])
     try:
         rail = rail_spec(texts["rail"], texts["target"], texts["ripple"], texts["step"],
                          texts["band"], board, _flag(q, "worst_case"), texts["margin"])
-        rail.validate()
     except PartselError as exc:
         raise BadInput(worded(exc, {}), _rail_field(str(exc), exc)) from None
+    # the spread (decouple --check --corners --temp --age --yield --seed --distribution)
+    whole = -(2 ** 63)     # any whole number: the range is the job's to check, as on the CLI
+    builds, seed = _count(q, "yield", None, whole), _count(q, "seed", None, whole)
+    spread_texts = {k: texts[k] for k in ("temp", "age", "distribution")}
+    with reading(None, {"builds": "--yield"}, spread_texts):
+        rail.spread = spread_spec(_flag(q, "corners"), texts["temp"], texts["age"], builds,
+                                  seed, texts["distribution"])
+    try:
+        rail.validate()
+    except PartselError as exc:
+        if exc.params and exc.params[0] == "builds":
+            raise BadInput(worded(exc, {"builds": "--yield"}), "yield") from None
+        where = quoted_field(str(exc), spread_texts, None) or _rail_field(str(exc), exc)
+        raise BadInput(worded(exc, {}), where) from None
     return rail
 
 

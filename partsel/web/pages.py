@@ -407,10 +407,17 @@ def bank_plot(res: Any) -> dict[str, Any]:
 
 def bank_summary(res: Any) -> str:
     verdict = "target met" if res.met else "TARGET NOT MET"
-    return (f"worst |Z| {format_quantity(res.max_z, 'ohm', 4)} at "
-            f"{format_quantity(res.f_max_z, 'Hz', 4)} against the target "
-            f"{format_quantity(res.rail.target, 'ohm', 4)}: {verdict}; {res.parts} parts on "
-            f"{len(res.lines)} lines")
+    out = (f"worst |Z| {format_quantity(res.max_z, 'ohm', 4)} at "
+           f"{format_quantity(res.f_max_z, 'Hz', 4)} against the target "
+           f"{format_quantity(res.rail.target, 'ohm', 4)}: {verdict}; {res.parts} parts on "
+           f"{len(res.lines)} lines")
+    if res.corners is not None or res.builds is not None:
+        from partsel.jobs.decouple.spread import corner_text, yield_text
+        if res.corners is not None:     # the first line of each, as the command prints it
+            out += ". " + corner_text(res.corners)[0]
+        if res.builds is not None:
+            out += " " + yield_text(res.builds)[0]
+    return out
 
 
 def bank(answers: Any, request: Any) -> str:
@@ -430,7 +437,13 @@ def bank(answers: Any, request: Any) -> str:
               field("mount_l", "mounting L", q, err, "0402=0.4nH"),
               field("margin", "margin", q, err, "10%"),
               field("model", "model", q, err, kind="select",
-                    options=("best", "catalog", "vendor", "measured"))]
+                    options=("best", "catalog", "vendor", "measured")),
+              field("corners", "judge at the worst corner", q, err, kind="checkbox"),
+              field("temp", "temperature", q, err, "-40C..85C"),
+              field("age", "life", q, err, "10y"),
+              field("yield", "yield: builds", q, err, "10000"),
+              field("seed", "seed", q, err, "0"),
+              field("distribution", "distribution", q, err, "normal")]
     rows = []
     for i, ln in enumerate(lines or [{"part_number": "", "count": "1", "maker": None}]):
         msg = escape(err.message) if err is not None and err.field and \

@@ -5,7 +5,14 @@
   if (!form) { return; }
   var tbody = document.querySelector("#bank-lines tbody");
   var timer = null;
-  var FIELDS = ["rail", "target", "ripple", "step", "band", "mount_l", "margin", "model"];
+  var FIELDS = ["rail", "target", "ripple", "step", "band", "mount_l", "margin", "model",
+                "corners", "temp", "age", "yield", "seed", "distribution"];
+
+  function fieldValue(el) {
+    if (!el) { return ""; }
+    if (el.type === "checkbox") { return el.checked ? "1" : ""; }
+    return el.value.trim();
+  }
 
   function lines() {
     var out = [];
@@ -21,8 +28,8 @@
   function body() {
     var b = {};
     FIELDS.forEach(function (k) {
-      var el = form.elements[k];
-      if (el && el.value.trim()) { b[k] = el.value.trim(); }
+      var v = fieldValue(form.elements[k]);
+      if (v) { b[k] = v; }
     });
     b.lines = lines();
     return b;
