@@ -8,8 +8,10 @@ maximum dissipation factor of class II ceramics (rule of thumb from typical spec
 
 from __future__ import annotations
 
+from typing import Any
+
 import numpy as np
-import pandas as pd
+from numpy.typing import NDArray
 
 # Typical body ESL by EIA inch case code [H] (rule of thumb, middle of the stated windows).
 ESL_BY_CASE = {
@@ -30,15 +32,23 @@ CLASS_TWO_DF = ((50.0, 0.025), (25.0, 0.035), (16.0, 0.05), (0.0, 0.10))
 CLASS_ONE_DF = 0.001
 
 
-def estimate_esl(case: pd.Series, technology: pd.Series, mounting: pd.Series) -> pd.Series:
-    """Body ESL [H] by case code, else by mounting and technology."""
-    by_case = case.map(ESL_BY_CASE)
-    by_tech = technology.map(ESL_BY_TECHNOLOGY)
-    through = pd.Series(np.where(mounting == "through_hole", ESL_THROUGH_HOLE, np.nan),
-                        index=case.index)
-    return by_case.fillna(through).fillna(by_tech).fillna(ESL_BY_TECHNOLOGY["mlcc"])
+def _looked_up(keys: Any, table: dict[str, float]) -> NDArray[np.float64]:
+    """``table[key]`` for each key as float64, NaN where the table has none."""
+    return np.array([table.get(k, np.nan) if isinstance(k, str) else np.nan
+                     for k in np.asarray(keys, dtype=object).tolist()], dtype=np.float64)
 
 
-def estimate_esr(technology: pd.Series) -> pd.Series:
+def estimate_esl(case: Any, technology: Any, mounting: Any) -> NDArray[np.float64]:
+    """Body ESL [H] by case code, else by mounting and technology (one value per row of the
+    given arrays or Series)."""
+    esl = _looked_up(case, ESL_BY_CASE)
+    through = np.asarray(mounting, dtype=object) == "through_hole"
+    esl = np.where(np.isnan(esl) & through, ESL_THROUGH_HOLE, esl)
+    esl = np.where(np.isnan(esl), _looked_up(technology, ESL_BY_TECHNOLOGY), esl)
+    return np.where(np.isnan(esl), ESL_BY_TECHNOLOGY["mlcc"], esl)
+
+
+def estimate_esr(technology: Any) -> NDArray[np.float64]:
     """Constant ESR [ohm] by technology (MLCC when unknown)."""
-    return technology.map(ESR_BY_TECHNOLOGY).fillna(ESR_BY_TECHNOLOGY["mlcc"]).astype(float)
+    esr = _looked_up(technology, ESR_BY_TECHNOLOGY)
+    return np.where(np.isnan(esr), ESR_BY_TECHNOLOGY["mlcc"], esr)

@@ -46,7 +46,7 @@ def import_cmd(
     """
     from partsel.io.mapping import read_mapping
     from partsel.store.importer import (
-        check_catalog,
+        check_table,
         import_catalog,
         look_alike_columns,
         refused_rows,
@@ -55,7 +55,7 @@ def import_cmd(
     file = Path(file_name)
     mapped = read_mapping(mapping) if mapping is not None else None
     if dry_run:
-        frame, problems = check_catalog(file, mapped)
+        frame, problems = check_table(file, mapped)
         for p in problems:
             echo(f"{file.name}: {p}")
         for remark in look_alike_columns(frame.attrs.get("extra_columns", []),
@@ -111,14 +111,14 @@ def demo_cmd(
 
     Example: partsel --store big.duckdb demo --parts 1000000
     """
-    from partsel.demo import DEFAULT_PARTS, generate
+    from partsel.demo import DEFAULT_PARTS, generate_table
     from partsel.store.importer import insert_frame
 
     n = parts or DEFAULT_PARTS
     show = is_terminal()
     if show:
         note(f"generating {n} invented parts ...")
-    frame = generate(n, seed=seed)
+    frame = generate_table(n, seed=seed)
     if dry_run:
         echo(f"demo: would add or replace {len(frame)} invented parts (seed {seed}) in "
              f"{_store_text(ctx)}; nothing was written")

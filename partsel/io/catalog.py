@@ -1,19 +1,24 @@
-"""Reading catalog files (CSV, XLSX, Parquet) into a frame of text cells.
+"""Reading catalog files (CSV, XLSX, Parquet) into a table of text cells.
 
 Every cell comes back as a stripped string ('' for empty) so that one strict parser
-(:mod:`partsel.store.importer`) sees every value the same way, whatever the file type.
+(:mod:`partsel.store.importer`) sees every value the same way, whatever the file type. CSV is
+read with the ``csv`` module (pandas' import alone costs half a second of a small import); the
+readers of XLSX and Parquet go through pandas, imported there only.
 """
 
 from __future__ import annotations
 
 import csv
+import io
 import re
+from itertools import chain
 from pathlib import Path
+from typing import Any
 
 import numpy as np
-import pandas as pd
 
 from partsel.errors import CatalogError
+from partsel.table import Table
 
 SUFFIXES = {".csv": "csv", ".txt": "csv", ".tsv": "csv", ".xlsx": "xlsx", ".xlsm": "xlsx",
             ".parquet": "parquet", ".pq": "parquet"}
@@ -32,7 +37,7 @@ def file_type(path: Path) -> str:
     return kind
 
 
-def _read_xlsx(p: Path) -> pd.DataFrame:
+def _read_xlsx(p: Path) -> Any:
     """The first sheet as text: calamine (compiled, about 6x faster than openpyxl on large
     sheets) where installed, else openpyxl."""
     try:
@@ -40,10 +45,11 @@ def _read_xlsx(p: Path) -> pd.DataFrame:
         engine = "calamine"
     except ImportError:
         engine = "openpyxl"
+    import pandas as pd
     return pd.read_excel(p, dtype=str, keep_default_na=False, engine=engine)
 
 
-def read_cells(path: str | Path) -> pd.DataFrame:
+def read_cells(path: str | Path) -> Table:
     """The file's table as strings; the header row gives the column names as written."""
     p = Path(path)
     if not p.exists():
@@ -51,29 +57,40 @@ def read_cells(path: str | Path) -> pd.DataFrame:
     if p.is_dir():
         raise CatalogError(f"{p} is a folder: give a catalog file (.csv, .xlsx or .parquet)")
     kind = file_type(p)
+    if kind == "csv":
+        try:
+            names, columns = _read_csv(p)
+        except CatalogError:
+            raise
+        except UnicodeDecodeError as exc:
+            raise CatalogError(f"cannot read {p.name}: not UTF-8 text near byte {exc.start}; "
+                               "save the file as UTF-8 CSV") from None
+        except (ValueError, OSError, csv.Error) as exc:
+            first = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
+            raise CatalogError(f"cannot read {p.name} as CSV: {first}") from None
+        out = Table(n=len(columns[0]) if columns else 0)
+        for name, col in zip(names, columns, strict=True):
+            out.append(name.strip(), col)
+        return out
     try:
-        if kind == "csv":
-            df = _read_csv(p)
-        elif kind == "xlsx":
+        if kind == "xlsx":
             df = _read_xlsx(p)
         else:
+            import pandas as pd
             df = pd.read_parquet(p)
     except CatalogError:
         raise
     except UnicodeDecodeError as exc:
         raise CatalogError(f"cannot read {p.name}: not UTF-8 text near byte {exc.start}; "
                            "save the file as UTF-8 CSV") from None
-    except (pd.errors.ParserError, ValueError, OSError, ImportError) as exc:
-        first = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
-        raise CatalogError(f"cannot read {p.name} as {kind.upper()}: {first}") from None
     except Exception as exc:  # readers of foreign formats raise many kinds of errors
         first = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
         raise CatalogError(f"cannot read {p.name} as {kind.upper()}: {first}") from None
     if df.columns.size == 0:
         raise CatalogError(f"{p.name} has no header row: the first row names the columns")
-    names = [str(c).strip() for c in df.columns]
-    out = pd.concat([_as_text(df.iloc[:, i]) for i in range(len(names))], axis=1)
-    out.columns = names
+    out = Table(n=len(df))
+    for i, c in enumerate(df.columns):
+        out.append(str(c).strip(), _as_text(df.iloc[:, i]))
     return out
 
 
@@ -82,61 +99,147 @@ def cell_text(v: object) -> str:
     text that reads back to the same double)."""
     if isinstance(v, bool | np.bool_ | list | tuple | np.ndarray | dict):
         return str(v)
-    if v is None or (not isinstance(v, str) and bool(pd.isna(v))):
+    if v is None:
         return ""
     if isinstance(v, str):
         return v.strip()
     if isinstance(v, float | np.floating):
-        return repr(float(v))  # the shortest text that reads back to the same double
+        return "" if v != v else repr(float(v))  # shortest text that reads back the same
     if isinstance(v, int | np.integer):
         return str(int(v))
+    if _missing(v):
+        return ""
     return str(v).strip()
 
 
-def _as_text(col: pd.Series) -> pd.Series:
-    """Cells as stripped strings, '' for missing; each distinct value is converted once."""
+def _missing(v: object) -> bool:
+    """pandas' NA and NaT (only a frame read by pandas holds them)."""
+    import pandas as pd
+    try:
+        return bool(pd.isna(v))
+    except (TypeError, ValueError):
+        return False
+
+
+def _as_text(col: Any) -> np.ndarray:
+    """A frame's column as stripped strings, '' for missing; each distinct value is converted
+    once."""
     obj = col.astype(object)
     present = obj.notna().to_numpy()
+    values = obj.to_numpy(dtype=object)
     try:
-        conv = {v: cell_text(v) for v in pd.unique(obj[present])}
+        conv = {v: cell_text(v) for v in dict.fromkeys(values[present].tolist())}
     except TypeError:  # unhashable cells (lists in a Parquet column)
-        return obj.map(cell_text).astype(object)
+        out = np.empty(len(values), dtype=object)
+        out[:] = [cell_text(v) for v in values.tolist()]
+        return out
     if present.all() and all(isinstance(k, str) and k == v for k, v in conv.items()):
-        return obj
-    out = pd.Series("", index=col.index, dtype=object)
-    out[present] = obj[present].map(conv)
+        return values
+    out = np.full(len(values), "", dtype=object)
+    out[present] = [conv[v] for v in values[present].tolist()]
     return out
 
 
-def _encoding(p: Path) -> str:
-    """UTF-8 (with or without a byte-order mark), else Windows-1252: the two encodings that
-    spreadsheet programs write CSV in. Bytes that are not valid UTF-8 are read as Windows-1252
-    (which decodes every byte, so 'µ' written by such a program comes out right)."""
+_WHITE = frozenset(" \t")
+_SENTINEL = "\ufffe\uffff end of file \uffff\ufffe"
+
+
+def _read_csv(p: Path) -> tuple[list[str], list[np.ndarray]]:
+    """Header names and columns of stripped text, read as pandas' C reader did before (with
+    ``dtype=str, keep_default_na=False, skip_blank_lines=True``): blank lines and lines of
+    spaces are skipped, short rows are padded with empty cells, a row longer than the header
+    is refused, empty header names become ``Unnamed: i`` and repeated ones get ``.1``, ``.2``;
+    a first data row longer than the header makes its extra leading cells, in every row, an
+    index (dropped)."""
+    # UTF-8 (with or without a byte-order mark), else Windows-1252: the two encodings that
+    # spreadsheet programs write CSV in ('µ' written by such a program comes out right).
+    raw = p.read_bytes()
     try:
-        p.read_bytes().decode("utf-8")
+        text = raw.decode("utf-8-sig")
     except UnicodeDecodeError:
-        return "cp1252"
-    return "utf-8-sig"
-
-
-def _read_csv(p: Path) -> pd.DataFrame:
-    encoding = _encoding(p)
-    with p.open("r", encoding=encoding, newline="") as fh:
-        sample = fh.read(65536)
-    if not sample.strip():
+        text = raw.decode("cp1252")
+    if not text[:65536].strip():
         raise CatalogError(f"{p.name} is empty: a catalog has a header row and one part per row")
+    sample = text[:65536]
     try:
         delimiter = csv.Sniffer().sniff(sample.splitlines()[0], delimiters=",;\t").delimiter
     except csv.Error:
         delimiter = ","
-    try:
-        return pd.read_csv(p, dtype=str, keep_default_na=False, encoding=encoding,
-                           sep=delimiter, skip_blank_lines=True, on_bad_lines="error")
-    except pd.errors.ParserError as exc:
-        m = re.search(r"Expected (\d+) fields in line (\d+), saw (\d+)", str(exc))
-        if m:
-            raise CatalogError(f"cannot read {p.name}: line {m[2]} has {m[3]} cells where the "
-                               f"header has {m[1]}; quote a cell that holds the delimiter "
-                               f"'{delimiter}'") from None
-        raise CatalogError(f"cannot read {p.name}: {str(exc).strip()} (every row must have "
-                           "as many cells as the header)") from None
+    white = _WHITE - {delimiter}
+    lines = None
+    # A sentinel line after the text: it comes back as a row of its own unless a quoted cell
+    # runs to the end of the file (then it is inside that cell).
+    reader = csv.reader(chain(io.StringIO(text, newline=""), [_SENTINEL]),
+                        delimiter=delimiter, strict=False)
+    header: list[str] | None = None
+    rows: list[list[str]] = []
+    line_of: list[int] = []   # the record number of each row (blank lines count, from 1)
+    record = 0
+    last: list[str] = []
+    for row in reader:
+        record += 1
+        last = row
+        if len(row) <= 1:
+            if not row:
+                continue
+            cell = row[0]
+            if cell and not cell.strip(" \t") and all(ch in white for ch in cell):
+                if lines is None:
+                    lines = re.split(r"\r\n|\r|\n", text)
+                if reader.line_num - 1 < len(lines) and lines[reader.line_num - 1] == cell:
+                    continue   # a line of spaces (not a quoted cell of spaces)
+        if header is None:
+            header = row
+            continue
+        rows.append(row)
+        line_of.append(record)
+    if last != [_SENTINEL]:
+        raise CatalogError(f"cannot read {p.name}: Error tokenizing data. C error: EOF inside "
+                           f"string starting at row {record - 1} (every row must have as "
+                           "many cells as the header)")
+    rows.pop()
+    line_of.pop()
+    if header is None:   # only lines of spaces
+        raise CatalogError(f"{p.name} is empty: a catalog has a header row and one part per row")
+    width = len(header)
+    index = max(0, len(rows[0]) - width) if rows else 0   # leading cells pandas took as index
+    expected = width + index
+    lengths = [len(r) for r in rows]
+    if lengths and max(lengths) > expected:
+        i = next(k for k, n in enumerate(lengths) if n > expected)
+        raise CatalogError(f"cannot read {p.name}: line {line_of[i]} has {lengths[i]} cells "
+                           f"where the header has {expected}; quote a cell that holds the "
+                           f"delimiter '{delimiter}'")
+    if lengths and min(lengths) < expected:
+        rows = [r if len(r) == expected else r + [""] * (expected - len(r)) for r in rows]
+    columns = list(zip(*rows, strict=True)) if rows else [()] * expected
+    columns = columns[index:]
+    return _header_names(header), [_stripped(c) for c in columns]
+
+
+def _stripped(cells: tuple[str, ...]) -> np.ndarray:
+    out = np.empty(len(cells), dtype=object)
+    out[:] = cells
+    strip = {v: v.strip() for v in set(cells)}
+    if any(k != v for k, v in strip.items()):
+        out[:] = [strip[v] for v in cells]
+    return out
+
+
+def _header_names(header: list[str]) -> list[str]:
+    """Names as pandas' reader gives them: 'Unnamed: i' for an empty one, then repeats made
+    unique with '.1', '.2' (named columns first, the unnamed after them)."""
+    names = [h if h != "" else f"Unnamed: {i}" for i, h in enumerate(header)]
+    unnamed = [i for i, h in enumerate(header) if h == ""]
+    order = [i for i in range(len(names)) if i not in set(unnamed)] + unnamed
+    counts: dict[str, int] = {}
+    for i in order:
+        col = old = names[i]
+        cur = counts.get(col, 0)
+        while cur > 0:
+            counts[old] = cur + 1
+            col = f"{old}.{cur}"
+            cur = cur + 1 if col in names else counts.get(col, 0)
+        names[i] = col
+        counts[col] = cur + 1
+    return names

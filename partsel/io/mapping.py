@@ -45,13 +45,14 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-import pandas as pd
+import numpy as np
 
 from partsel import units
 from partsel.catalog import BY_NAME, MODEL_PARAMETERS, NAMES
 from partsel.errors import CatalogError, FileFormatError, UnitError
 from partsel.io.catalog import normalise_header
 from partsel.io.text import read_text
+from partsel.table import Table, mapped, unique
 
 TARGETS: tuple[str, ...] = NAMES + tuple(f"{p}_source" for p in MODEL_PARAMETERS)
 PERCENT_COLUMNS = ("tolerance", "tan_delta", "isat_drop")
@@ -259,13 +260,13 @@ def _with_unit(text: str, unit: str, percent: bool) -> str:
     return text
 
 
-def _convert(cells: pd.Series, cm: ColumnMap, decimal_comma: bool) -> pd.Series:
+def _convert(cells: np.ndarray, cm: ColumnMap, decimal_comma: bool) -> np.ndarray:
     """Apply value table, default, decimal comma and unit to each distinct text once."""
     numeric = BY_NAME[cm.target].type in NUMERIC_TYPES if cm.target in BY_NAME else False
     if not (cm.values or cm.default is not None or cm.unit or (decimal_comma and numeric)):
         return cells
     out: dict[str, str] = {}
-    for text in pd.unique(cells):
+    for text in unique(cells):
         new = cm.values.get(_fold(text), text) if cm.values else text
         if new == "" and cm.default is not None:
             new = cm.default
@@ -274,11 +275,14 @@ def _convert(cells: pd.Series, cm: ColumnMap, decimal_comma: bool) -> pd.Series:
         if cm.unit and new:
             new = _with_unit(new, cm.unit, cm.unit == "%")
         out[text] = new
-    return cells.map(out)
+    return mapped(cells, out)
 
 
-def apply_mapping(cells: pd.DataFrame, mapping: Mapping, file_label: str) -> pd.DataFrame:
+def apply_mapping(cells: Any, mapping: Mapping, file_label: str) -> Any:
     """Turn the text cells of a foreign file into catalog columns (module docstring).
+
+    ``cells`` is a :class:`partsel.table.Table` (as :func:`partsel.io.catalog.read_cells`
+    gives) or a pandas DataFrame; the result is of the same kind.
 
     Raises
     ------
@@ -286,6 +290,9 @@ def apply_mapping(cells: pd.DataFrame, mapping: Mapping, file_label: str) -> pd.
         the mapping names columns the file lacks (all are listed), or a column of the file that
         passes through would be read as a catalog column the mapping already fills.
     """
+    if not isinstance(cells, Table):
+        return apply_mapping(Table.from_frame(cells), mapping, file_label).to_frame(
+            index=cells.index)
     headers = [str(c) for c in cells.columns]
     missing = [f"'{c.source}' (for {c.target}, {c.where or mapping.label})"
                for c in mapping.columns if _resolve(c.source, headers) is None]
@@ -297,12 +304,12 @@ def apply_mapping(cells: pd.DataFrame, mapping: Mapping, file_label: str) -> pd.
     used = {_resolve(c.source, headers) for c in mapping.columns}
     used |= {_resolve(n, headers) for n in mapping.ignore}
     filled = {c.target for c in mapping.columns} | set(mapping.constants)
-    out: dict[str, pd.Series] = {}
+    out = Table(n=len(cells))
     for cm in mapping.columns:
         source = _resolve(cm.source, headers)
         out[cm.target] = _convert(cells[source], cm, mapping.decimal_comma)
     for target, value in mapping.constants.items():
-        out[target] = pd.Series(value, index=cells.index, dtype=object)
+        out[target] = np.full(len(cells), value, dtype=object)
     for h in headers:
         if h in used:
             continue
@@ -313,4 +320,4 @@ def apply_mapping(cells: pd.DataFrame, mapping: Mapping, file_label: str) -> pd.
                                f"mapping {mapping.label} takes from {how}; add '{h}' to ignore "
                                "or map it to another column")
         out[h] = cells[h]
-    return pd.DataFrame(out, index=cells.index)
+    return out

@@ -16,10 +16,10 @@ DEMO_SOURCE = "demo catalog (invented parts)"
 
 def fill_with_demo(store: db.Store) -> str:
     """Import the bundled demo catalog into a new store; the notice that says so."""
-    from partsel.demo import DEFAULT_PARTS, demo_catalog
+    from partsel.demo import DEFAULT_PARTS, generate_table
     from partsel.store.importer import insert_frame
 
-    insert_frame(store, demo_catalog(), source_file=DEMO_SOURCE)
+    insert_frame(store, generate_table(DEFAULT_PARTS), source_file=DEMO_SOURCE)
     return (f"created a store at {store.path} with the bundled demo catalog ({DEFAULT_PARTS} "
             f"invented parts); give a store path (or set {db.ENV_VAR}) for your own catalog")
 

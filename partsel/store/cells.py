@@ -11,7 +11,6 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
-import pandas as pd
 
 from partsel import units
 from partsel.catalog import (
@@ -24,6 +23,7 @@ from partsel.catalog import (
 )
 from partsel.errors import CatalogError, PartselError
 from partsel.store import curves
+from partsel.table import isin, mapped, unique
 
 
 @dataclass(frozen=True)
@@ -40,23 +40,23 @@ class Problem:
 
 
 
-def parse_unique(cells: pd.Series, parse: Callable[[str], Any], column: str,
-                  problems: list[Problem], row_numbers: np.ndarray) -> pd.Series:
-    """Parse each distinct non-empty text once; record a problem for each failing row."""
-    out = pd.Series([None] * len(cells), index=cells.index, dtype=object)
+def parse_unique(cells: np.ndarray, parse: Callable[[str], Any], column: str,
+                 problems: list[Problem], row_numbers: np.ndarray) -> np.ndarray:
+    """Parse each distinct non-empty text once; record a problem for each failing row. Returns
+    an object array: the parsed value, ``None`` for an empty cell, NaN for a refused one."""
+    out = np.full(len(cells), None, dtype=object)
     nonempty = cells != ""
     parsed: dict[str, Any] = {}
     failed: dict[str, str] = {}
-    for text in pd.unique(cells[nonempty]):
+    for text in unique(cells[nonempty]):
         try:
             parsed[text] = parse(text)
         except PartselError as exc:
             failed[text] = str(exc)
     if failed:
-        bad = cells.isin(list(failed))
-        for i in np.flatnonzero(bad.to_numpy()):
-            problems.append(Problem(int(row_numbers[i]), column, failed[cells.iat[i]]))
-    out[nonempty] = cells[nonempty].map(parsed)
+        for i in np.flatnonzero(isin(cells, failed)):
+            problems.append(Problem(int(row_numbers[i]), column, failed[cells[i]]))
+    out[nonempty] = mapped(cells[nonempty], parsed, default=np.nan)
     return out
 
 

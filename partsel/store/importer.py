@@ -12,10 +12,9 @@ import json
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
-from typing import NamedTuple
+from typing import Any, NamedTuple
 
 import numpy as np
-import pandas as pd
 
 from partsel import rules, units
 from partsel.catalog import (
@@ -35,6 +34,7 @@ from partsel.store import curves
 from partsel.store.cells import Problem, column_parsers, parse_unique, quantity_parser
 from partsel.store.db import Store
 from partsel.store.transaction import transaction
+from partsel.table import Table, is_missing, isin, mapped, to_float, unique
 
 
 @dataclass(frozen=True)
@@ -77,8 +77,24 @@ class InsertCounts(NamedTuple):
     kept_fits: int
 
 
-def parse_catalog(cells: pd.DataFrame) -> tuple[pd.DataFrame, list[Problem]]:
-    """Parse a frame of text cells into SI values; return it with every problem found."""
+def parse_catalog(cells: Any) -> tuple[Any, list[Problem]]:
+    """Parse a table of text cells into SI values; return it with every problem found.
+
+    ``cells`` is a :class:`partsel.table.Table` (as :func:`partsel.io.catalog.read_cells`
+    gives) or a pandas DataFrame of strings; the parsed values come back in the same kind.
+    """
+    if isinstance(cells, Table):
+        return _parse(cells)
+    out, problems = _parse(Table.from_frame(cells))
+    return (out.to_frame(index=cells.index) if out.columns else _empty_frame()), problems
+
+
+def _empty_frame() -> Any:
+    import pandas as pd
+    return pd.DataFrame()
+
+
+def _parse(cells: Table) -> tuple[Table, list[Problem]]:
     problems: list[Problem] = []
     headers = [normalise_header(c) for c in cells.columns]
     seen: dict[str, str] = {}
@@ -93,16 +109,16 @@ def parse_catalog(cells: pd.DataFrame) -> tuple[pd.DataFrame, list[Problem]]:
                                 + ", ".join(map(str, cells.columns))
                                 + ": rename them or map them with a mapping file (TOML)"))
     if problems:
-        return pd.DataFrame(), problems
-    cells = cells.set_axis(headers, axis=1)
+        return Table(n=0), problems
+    cells = cells.renamed(headers)
     n = len(cells)
     rows = np.arange(1, n + 1)
-    out = pd.DataFrame(index=cells.index)
+    out = Table(n=n)
     for name in ("part_number", "maker"):
         col = cells[name]
-        for i in np.flatnonzero((col == "").to_numpy()):
+        for i in np.flatnonzero(col == ""):
             problems.append(Problem(int(rows[i]), name, "empty: every part needs one"))
-        out[name] = col.where(col != "", None)
+        out[name] = np.where(col != "", col, None)
     parsers = column_parsers()
     for name, parse in parsers.items():
         if name in cells:
@@ -110,12 +126,12 @@ def parse_catalog(cells: pd.DataFrame) -> tuple[pd.DataFrame, list[Problem]]:
         else:
             out[name] = None
     kind = out["kind"]
-    for i in np.flatnonzero(kind.isna().to_numpy() & (cells["kind"] == "").to_numpy()):
+    for i in np.flatnonzero(is_missing(kind) & (cells["kind"] == "")):
         problems.append(Problem(int(rows[i]), "kind", "empty: write capacitor or inductor"))
     # The value's unit follows the row's kind: F for capacitors, H for inductors.
     value_cells = cells["value"]
-    keyed = pd.Series([t if t == "" else f"{k}\x00{t}" for t, k in
-                       zip(value_cells, kind, strict=True)], index=cells.index)
+    keyed = _text_array([t if t == "" else f"{k}\x00{t}" for t, k in
+                         zip(value_cells.tolist(), kind.tolist(), strict=True)])
 
     def parse_value(key: str) -> float:
         k, text = key.split("\x00", 1)
@@ -123,13 +139,13 @@ def parse_catalog(cells: pd.DataFrame) -> tuple[pd.DataFrame, list[Problem]]:
         what = {"F": "capacitance", "H": "inductance"}.get(unit, "value")
         return quantity_parser(unit, what, 0.0, strict=True)(text)
     out["value"] = parse_unique(keyed, parse_value, "value", problems, rows)
-    for i in np.flatnonzero((value_cells == "").to_numpy()):
+    for i in np.flatnonzero(value_cells == ""):
         problems.append(Problem(int(rows[i]), "value", "empty: every part needs its "
                                 "capacitance or inductance"))
     if "tolerance" in cells:
-        tol_keyed = pd.Series([t if t == "" else f"{t}\x00{v}" for t, v in
-                               zip(cells["tolerance"], out["value"], strict=True)],
-                              index=cells.index)
+        tol_keyed = _text_array([t if t == "" else f"{t}\x00{v}" for t, v in
+                                 zip(cells["tolerance"].tolist(), out["value"].tolist(),
+                                     strict=True)])
 
         def parse_tol(key: str) -> float:
             text, val = key.split("\x00", 1)
@@ -139,8 +155,12 @@ def parse_catalog(cells: pd.DataFrame) -> tuple[pd.DataFrame, list[Problem]]:
         _tolerance_sides(out, cells["tolerance"])
     else:
         out["tolerance"] = None
-    out["case"] = cells["case"].map(normalise_case).where(cells["case"] != "", None) \
-        if "case" in cells else None
+    if "case" in cells:
+        case = cells["case"]
+        cased = mapped(case, {t: normalise_case(t) for t in unique(case)})
+        out["case"] = np.where(case != "", cased, None)
+    else:
+        out["case"] = None
     _check_rows(out, rows, problems)
     _provenance(out, cells, rows, problems)
     known = set(NAMES) | {p + "_source" for p in MODEL_PARAMETERS}
@@ -148,83 +168,105 @@ def parse_catalog(cells: pd.DataFrame) -> tuple[pd.DataFrame, list[Problem]]:
     out.attrs["extra_columns"] = extras
     out.attrs["file_columns"] = list(cells.columns)
     if extras:
-        out["extra"] = _extra_json(cells[extras])
+        out["extra"] = _extra_json(cells.select(extras))
     else:
         out["extra"] = None
     problems.sort(key=lambda p: (p.row, NAMES.index(p.column) if p.column in NAMES else 99))
     return out, problems
 
 
-def _tolerance_sides(out: pd.DataFrame, cells: pd.Series) -> None:
+def _text_array(values: list[str]) -> np.ndarray:
+    out = np.empty(len(values), dtype=object)
+    out[:] = values
+    return out
+
+
+def _tolerance_sides(out: Table, cells: np.ndarray) -> None:
     """Keep both sides of an asymmetric tolerance (the tolerance column holds the wider one);
     sides given in their own columns win."""
-    sides = {t: curves.tolerance_sides(t) for t in pd.unique(cells) if t != ""}
+    sides = {t: curves.tolerance_sides(t) for t in unique(cells) if t != ""}
     for k, name in enumerate(("tolerance_minus", "tolerance_plus")):
-        read = cells.map(lambda t, k=k: (sides.get(t) or (None, None))[k])
+        read = mapped(cells, {t: s[k] for t, s in sides.items() if s})
         given = out[name]
-        out[name] = given.where(given.notna(), read).astype(object)
-        out[name] = out[name].where(out[name].notna(), None)
+        side = np.where(is_missing(given), read, given)
+        out[name] = np.where(is_missing(side), None, side)
 
 
-def _check_rows(out: pd.DataFrame, rows: np.ndarray, problems: list[Problem]) -> None:
-    keys = out["maker"].astype(str).str.lower() + "\x00" + out["part_number"].astype(str)
-    dup = keys.duplicated(keep="first").to_numpy()
-    if dup.any():
-        first = {}
-        for i, k in enumerate(keys):
-            first.setdefault(k, rows[i])
-        for i in np.flatnonzero(dup):
+def _check_rows(out: Table, rows: np.ndarray, problems: list[Problem]) -> None:
+    makers, numbers = out["maker"].tolist(), out["part_number"].tolist()
+    keys = [f"{str(m).lower()}\x00{pn}" for m, pn in zip(makers, numbers, strict=True)]
+    first: dict[str, int] = {}
+    for i, k in enumerate(keys):
+        at = first.setdefault(k, int(rows[i]))
+        if at != rows[i]:
             problems.append(Problem(int(rows[i]), "part_number",
-                                    f"'{out['part_number'].iat[i]}' from "
-                                    f"'{out['maker'].iat[i]}' already appears in row "
-                                    f"{first[keys.iat[i]]}: keep one row per part"))
-    tmin = pd.to_numeric(out["temp_min"], errors="coerce")
-    tmax = pd.to_numeric(out["temp_max"], errors="coerce")
-    for i in np.flatnonzero((tmin >= tmax).to_numpy()):
+                                    f"'{numbers[i]}' from '{makers[i]}' already appears in "
+                                    f"row {at}: keep one row per part"))
+    with np.errstate(invalid="ignore"):
+        late = to_float(out["temp_min"]) >= to_float(out["temp_max"])
+    for i in np.flatnonzero(late):
         problems.append(Problem(int(rows[i]), "temp_max", "temp_max must be above temp_min"))
     kind = out["kind"]
     tech = out["technology"]
-    cap_tech = tech.isin(CAPACITOR_TECHNOLOGIES)
-    ind_tech = tech.isin(INDUCTOR_TECHNOLOGIES)
+    cap_tech = isin(tech, CAPACITOR_TECHNOLOGIES)
+    ind_tech = isin(tech, INDUCTOR_TECHNOLOGIES)
     wrong = ((kind == "capacitor") & ind_tech) | ((kind == "inductor") & cap_tech)
-    for i in np.flatnonzero(wrong.to_numpy()):
-        problems.append(Problem(int(rows[i]), "technology", f"'{tech.iat[i]}' is not a "
-                                f"{kind.iat[i]} technology"))
+    for i in np.flatnonzero(wrong):
+        problems.append(Problem(int(rows[i]), "technology", f"'{tech[i]}' is not a "
+                                f"{kind[i]} technology"))
 
 
-def _provenance(out: pd.DataFrame, cells: pd.DataFrame, rows: np.ndarray,
-                problems: list[Problem]) -> None:
+def _provenance(out: Table, cells: Table, rows: np.ndarray, problems: list[Problem]) -> None:
     """Fill <param>_source; estimate missing capacitor ESR and ESL by rule of thumb."""
     for p in MODEL_PARAMETERS:
         col = f"{p}_source"
-        given = cells[col] if col in cells else pd.Series("", index=cells.index)
-        src = given.str.lower().where(given != "", "datasheet")
-        bad = ~src.isin(PROVENANCES)
-        for i in np.flatnonzero(bad.to_numpy()):
-            problems.append(Problem(int(rows[i]), col, f"'{given.iat[i]}' is not one of "
+        if col in cells:
+            given = cells[col]
+            src = mapped(given, {t: t.lower() if t != "" else "datasheet"
+                                 for t in unique(given)})
+        else:
+            given = np.full(len(out), "", dtype=object)
+            src = np.full(len(out), "datasheet", dtype=object)
+        bad = ~isin(src, PROVENANCES)
+        for i in np.flatnonzero(bad):
+            problems.append(Problem(int(rows[i]), col, f"'{given[i]}' is not one of "
                                     + ", ".join(PROVENANCES)))
-        out[col] = src.where(out[p].notna(), None)
+        out[col] = np.where(is_missing(out[p]), None, src)
     fill_estimates(out)
     if "lifecycle" in out:
-        out["lifecycle"] = out["lifecycle"].fillna("active")
+        life = out["lifecycle"]
+        out["lifecycle"] = np.where(is_missing(life), "active", life).astype(object)
 
 
-def fill_estimates(frame: pd.DataFrame) -> None:
-    """Estimate missing capacitor ESR and ESL by rule of thumb, in place, and label them."""
-    cap = (frame["kind"] == "capacitor").to_numpy()
+def fill_estimates(frame: Any) -> None:
+    """Estimate missing capacitor ESR and ESL by rule of thumb, in place, and label them
+    (a :class:`partsel.table.Table` or a pandas DataFrame)."""
+    if not isinstance(frame, Table):
+        table = Table.from_frame(frame)
+        fill_estimates(table)
+        for c in ("esr", "esl", "esr_source", "esl_source"):
+            if c in table:
+                frame[c] = table[c]
+        return
+    cap = frame["kind"] == "capacitor"
     if not cap.any():
         return
-    tech = frame["technology"].astype(object)
-    case = frame["case"].astype(object) if "case" in frame else pd.Series(None, index=frame.index)
-    mounting = frame["mounting"].astype(object) if "mounting" in frame else \
-        pd.Series(None, index=frame.index)
+    n = len(frame)
+    tech = frame["technology"]
+    case = frame["case"] if "case" in frame else np.full(n, None, dtype=object)
+    mounting = frame["mounting"] if "mounting" in frame else np.full(n, None, dtype=object)
     for p, estimate in (("esl", lambda: rules.estimate_esl(case, tech, mounting)),
                         ("esr", lambda: rules.estimate_esr(tech))):
-        need = cap & pd.to_numeric(frame[p], errors="coerce").isna().to_numpy()
+        need = cap & np.isnan(to_float(frame[p]))
         if need.any():
             est = estimate()
-            frame.loc[need, p] = est[need]
-            frame.loc[need, f"{p}_source"] = "estimated by rule"
+            values = frame[p].copy()
+            values[need] = est[need]
+            frame[p] = values
+            src = f"{p}_source"
+            label = frame[src].copy() if src in frame else np.full(n, np.nan, dtype=object)
+            label[need] = "estimated by rule"
+            frame[src] = label
 
 
 def look_alike_columns(extras: list[str], present: Sequence[str] = ()) -> list[str]:
@@ -244,20 +286,29 @@ def look_alike_columns(extras: list[str], present: Sequence[str] = ()) -> list[s
 
 
 def check_catalog(path: str | Path, mapping: Mapping | str | Path | None = None
-                  ) -> tuple[pd.DataFrame, list[Problem]]:
+                  ) -> tuple[Any, list[Problem]]:
     """Read and parse a catalog file (through a column mapping, when given) without touching
-    any store. Problems in mapped columns name the file's column as well."""
+    any store. Problems in mapped columns name the file's column as well. The parsed values
+    come as a pandas DataFrame (:func:`check_table` gives them as a
+    :class:`partsel.table.Table`, without pandas)."""
+    table, problems = check_table(path, mapping)
+    return (table.to_frame() if table.columns else _empty_frame()), problems
+
+
+def check_table(path: str | Path, mapping: Mapping | str | Path | None = None
+                ) -> tuple[Table, list[Problem]]:
+    """:func:`check_catalog` with the parsed values as a :class:`partsel.table.Table`."""
     if mapping is not None and not isinstance(mapping, Mapping):
         mapping = read_mapping(mapping)
     frame, problems, _ = _checked(Path(path), mapping)
     return frame, problems
 
 
-def _checked(p: Path, mapping: Mapping | None) -> tuple[pd.DataFrame, list[Problem], int]:
+def _checked(p: Path, mapping: Mapping | None) -> tuple[Table, list[Problem], int]:
     cells = read_cells(p)
     if mapping is not None:
         cells = apply_mapping(cells, mapping, p.name)
-    frame, problems = parse_catalog(cells)
+    frame, problems = _parse(cells)
     if mapping is not None:
         problems = [_annotated(q, mapping) for q in problems]
     return frame, problems, len(cells)
@@ -306,7 +357,7 @@ def import_catalog(store: Store, path: str | Path,
     frame, problems, rows = _checked(p, mapping)
     if problems:
         raise _refusal(p, problems, rows)
-    estimated = {c: int((frame[f"{c}_source"] == "estimated by rule").sum()) for c in
+    estimated = {c: int(np.count_nonzero(frame[f"{c}_source"] == "estimated by rule")) for c in
                  ("esr", "esl")}
     counts = insert_frame(store, frame, source_file=p.name, progress=progress)
     return ImportSummary(p.name, len(frame), counts.added, counts.replaced, 0, estimated,
@@ -319,30 +370,108 @@ _BIAS_V_SQL = "CAST(regexp_extract_all(bias_curve, '([0-9.eE+-]+)V:', 1) AS DOUB
 _BIAS_R_SQL = "CAST(regexp_extract_all(bias_curve, ':([0-9.eE+-]+)', 1) AS DOUBLE[])"
 
 
-def _extra_json(sub: pd.DataFrame) -> pd.Series:
-    """One JSON object per row of the given columns, leaving out empty cells (vectorised)."""
-    joined = pd.Series("", index=sub.index, dtype=object)
+def _extra_json(sub: Table) -> np.ndarray:
+    """One JSON object per row of the given columns, leaving out empty cells (``None`` for a
+    row with none)."""
+    pieces = []
     for col in sub.columns:
         values = sub[col]
-        present = (values.notna() & (values.astype(str) != "")).to_numpy()
-        uniq = pd.unique(values[present])
+        present = ~is_missing(values)
+        if values.dtype == object:
+            present &= np.fromiter((str(v) != "" for v in values.tolist()), dtype=bool,
+                                   count=len(values))
         # as text, as a catalog file gives them (so a frame's numbers are stored as an
         # import of its CSV or Parquet export would store them)
-        codes = {v: json.dumps(v if isinstance(v, str) else cell_text(v)) for v in uniq}
-        piece = np.where(present, json.dumps(str(col)) + ": " +
-                         values.map(codes).astype(str), "")
-        sep = np.where((joined.to_numpy() != "") & present, ", ", "")
-        joined = joined + sep + piece
-    return ("{" + joined + "}").where(joined != "", None)
+        key = json.dumps(str(col)) + ": "
+        codes = {v: key + json.dumps(v if isinstance(v, str) else cell_text(v))
+                 for v in unique(values[present])}
+        piece = np.full(len(values), None, dtype=object)
+        piece[present] = mapped(values[present], codes)
+        pieces.append(piece.tolist())
+    joined = [", ".join(p for p in row if p is not None) for row in zip(*pieces, strict=True)]
+    return _text_array(["{" + j + "}" if j else None for j in joined])
 
 
-def insert_frame(store: Store, frame: pd.DataFrame, source_file: str,
+_ARROW_ROWS = 2_000   # from this many rows on a chunk goes to DuckDB as an Arrow table
+
+
+def _typed(df: Table) -> dict[str, tuple[str, np.ndarray, np.ndarray | None]]:
+    """The columns to store: name -> (SQL type, values, missing mask or None). Numbers as
+    float64 or int64 beside their mask (NaN and None are NULL), text as objects with None."""
+    out: dict[str, tuple[str, np.ndarray, np.ndarray | None]] = {}
+    for c in COLUMNS:
+        values = df[c.name]
+        if c.sql_type == "DOUBLE":
+            x = to_float(values)
+            out[c.name] = ("DOUBLE", x, np.isnan(x))
+        elif c.sql_type in ("INTEGER", "BIGINT"):
+            if values.dtype.kind in "iub":
+                out[c.name] = ("BIGINT", values.astype(np.int64), None)
+                continue
+            x = to_float(values)
+            miss = np.isnan(x)
+            if np.any(x[~miss] != np.round(x[~miss])):
+                raise TypeError(f"cannot store non-whole numbers in column {c.name}")
+            out[c.name] = ("BIGINT", np.where(miss, 0, x).astype(np.int64), miss)
+        else:
+            out[c.name] = ("VARCHAR", _text_or_none(values), None)
+    for c in [p + "_source" for p in MODEL_PARAMETERS] + ["extra"]:
+        out[c] = ("VARCHAR", _text_or_none(df[c]), None)
+    return out
+
+
+def _text_or_none(values: np.ndarray) -> np.ndarray:
+    """Text cells as objects, None for missing (NaN included)."""
+    if values.dtype != object:
+        values = values.astype(object)
+    miss = is_missing(values)
+    if miss.any():
+        values = values.copy()
+        values[miss] = None
+    return values
+
+
+def _bound(values: np.ndarray, miss: np.ndarray | None) -> list[Any]:
+    """A column as a list to bind (None for NULL)."""
+    if miss is None or not miss.any():
+        return values.tolist()
+    out = values.astype(object)
+    out[miss] = None
+    return out.tolist()
+
+
+def _arrow_table(columns: dict[str, tuple[str, np.ndarray, np.ndarray | None]]) -> Any:
+    """The columns as an Arrow table built from their buffers (``pa.array`` and pyarrow's
+    numpy conversions would import pandas)."""
+    import pyarrow as pa
+
+    from partsel.store.models import _pa_table, _pa_text
+
+    def numbers(kind: Any, values: np.ndarray, miss: np.ndarray | None) -> Any:
+        data = np.ascontiguousarray(values)
+        nulls = int(miss.sum()) if miss is not None else 0
+        bitmap = pa.py_buffer(np.packbits(~miss, bitorder="little")) if nulls else None
+        return pa.Array.from_buffers(kind, len(data), [bitmap, pa.py_buffer(data)],
+                                     null_count=nulls)
+    arrays = {}
+    for name, (sql, values, miss) in columns.items():
+        if sql == "VARCHAR":
+            arrays[name] = _pa_text(values.tolist())
+        else:
+            arrays[name] = numbers(pa.float64() if sql == "DOUBLE" else pa.int64(),
+                                   values, miss)
+    return _pa_table(arrays)
+
+
+def insert_frame(store: Store, frame: Any, source_file: str,
                  progress: Callable[[int, int], None] | None = None,
                  chunk: int = 250_000) -> InsertCounts:
     """Add or replace parts (keyed by maker and part number) in one transaction.
 
-    ``frame`` holds catalog columns in SI units, ``<param>_source`` columns, optional ``extra``
-    (a JSON object per row) and ``bias_curve`` in canonical text form.
+    ``frame`` (a :class:`partsel.table.Table` or a pandas DataFrame) holds catalog columns in
+    SI units, ``<param>_source`` columns, optional ``extra`` (a JSON object per row) and
+    ``bias_curve`` in canonical text form. Below :data:`_ARROW_ROWS` rows the rows go to DuckDB
+    as bound lists (a temporary table), from there on as an Arrow table.
     ``progress(done, total)`` is called after each chunk of rows (all in the one transaction).
 
     A stored part whose model parameters came from a measured fit keeps them (and their
@@ -351,25 +480,18 @@ def insert_frame(store: Store, frame: pd.DataFrame, source_file: str,
     id and import date stay). Returns :class:`InsertCounts`; ``added, replaced, *_ = ...``.
     """
     cols = list(NAMES) + [p + "_source" for p in MODEL_PARAMETERS]
-    df = frame.copy()
+    df = frame.copy() if isinstance(frame, Table) else Table.from_frame(frame)
     if "esr" in df and "esl" in df:
         fill_estimates(df)
     unknown = [c for c in df.columns if c not in cols and c != "extra"]
     if unknown and "extra" not in df:
-        df["extra"] = _extra_json(df[unknown])
+        df["extra"] = _extra_json(df.select(unknown))
     for c in cols + ["extra"]:
         if c not in df:
             df[c] = None
-    for c in COLUMNS:
-        if c.sql_type == "DOUBLE":
-            df[c.name] = pd.to_numeric(df[c.name], errors="coerce").astype(float)
-        elif c.sql_type in ("INTEGER", "BIGINT"):
-            df[c.name] = pd.to_numeric(df[c.name], errors="coerce").astype("Int64")
-        else:
-            df[c.name] = df[c.name].astype(object).where(df[c.name].notna(), None)
-    for c in [p + "_source" for p in MODEL_PARAMETERS] + ["extra"]:
-        df[c] = df[c].astype(object).where(df[c].notna(), None)
-    df = df[cols + ["extra"]]
+    columns = _typed(df)
+    n_rows = len(df)
+    arrow = _arrow_table(columns) if n_rows >= _ARROW_ROWS else None
     con = store.con
     quoted = ", ".join(f'"{c}"' for c in cols)
     totals = np.zeros(4, dtype=np.int64)
@@ -378,8 +500,21 @@ def insert_frame(store: Store, frame: pd.DataFrame, source_file: str,
         return (f"{int(totals[0])} parts added and {int(totals[1] - totals[2])} replaced from "
                 f"{source_file} in {store.path}")
     with transaction(con, change):
-        for start in range(0, len(df), chunk):
-            con.register("incoming", df.iloc[start:start + chunk])
+        for start in range(0, n_rows, chunk):
+            stop = min(start + chunk, n_rows)
+            if arrow is not None:
+                complete = getattr(con, "complete", None)
+                if complete is not None:   # DuckDB 2 registers no view while a result is open
+                    complete()
+                con.register("incoming", arrow.slice(start, stop - start))
+            else:
+                con.execute("CREATE OR REPLACE TEMP TABLE incoming ("
+                            + ", ".join(f'"{c}" {t}' for c, (t, _, _) in columns.items())
+                            + ")")
+                con.execute("INSERT INTO incoming SELECT "
+                            + ", ".join(f"unnest(?::{t}[])" for t, _, _ in columns.values()),
+                            [_bound(v[start:stop], None if m is None else m[start:stop])
+                             for _, v, m in columns.values()])
             n_old = con.execute(
                 "SELECT count(*) FROM parts p SEMI JOIN incoming i "
                 "ON p.maker = i.maker AND p.part_number = i.part_number").fetchone()[0]
@@ -399,11 +534,13 @@ def insert_frame(store: Store, frame: pd.DataFrame, source_file: str,
                 f"{_BIAS_R_SQL}, extra, ?, now() FROM {source}", [source_file])
             if n_old:
                 con.execute("DROP TABLE staged")
-            con.unregister("incoming")
-            n = min(chunk, len(df) - start)
-            totals += (n - n_old, n_old, same, kept)
+            if arrow is not None:
+                con.unregister("incoming")
+            else:
+                con.execute("DROP TABLE temp.incoming")
+            totals += (stop - start - n_old, n_old, same, kept)
             if progress:
-                progress(min(start + chunk, len(df)), len(df))
+                progress(stop, n_rows)
     return InsertCounts(*(int(x) for x in totals))
 
 
