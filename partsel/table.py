@@ -141,7 +141,8 @@ class Table:
         import pandas as pd
 
         idx = index if index is not None else pd.RangeIndex(len(self))
-        frame = pd.DataFrame({i: pd.Series(a, index=idx, copy=False)
+        frame = pd.DataFrame({i: pd.Series(a, index=idx, copy=False,
+                                           dtype=object if a.dtype == object else None)
                               for i, a in enumerate(self._arrays)}, index=idx, copy=False)
         frame.columns = list(self._names)
         frame.attrs.update(self.attrs)

@@ -174,7 +174,52 @@ def test_commands_load_no_library_they_do_not_use(stores):
     # and the libraries a command does use are loaded there (the check above can fail)
     shutil.copy(stores["rich"], work)
     assert "scipy" in _heavy_after(["--store", work, "fit", m])
-    assert "pandas" in _heavy_after(["--store", work, "import", DEMO / "catalog.csv"])
+    assert "pyarrow" in _heavy_after(["--store", work, "import", DEMO / "catalog.csv"])
+
+
+def test_catalog_import_and_demo_load_no_pandas(tmp_path):
+    """A CSV import and the demo write through the csv module, bound lists and (from 2,000
+    rows on) Arrow: pandas (half a second of start-up) stays out; XLSX still reads through it
+    (the check can fail)."""
+    three = tmp_path / "three_rows.csv"
+    lines = (DEMO / "catalog.csv").read_text(encoding="utf-8").splitlines()
+    three.write_text("\n".join(lines[:4]) + "\n", encoding="utf-8")
+    store = tmp_path / "s.duckdb"
+    for argv in (["--store", store, "import", three],
+                 ["--store", store, "import", "--dry-run", three],
+                 ["--store", store, "import", DEMO / "foreign_catalog.csv", "--map",
+                  DEMO / "foreign_catalog.toml"],
+                 ["--store", tmp_path / "d.duckdb", "demo", "--parts", "10"]):
+        assert _heavy_after(argv) == set(), argv
+    assert _heavy_after(["--store", tmp_path / "d.duckdb", "demo"]) == {"pyarrow"}
+    assert "pandas" in _heavy_after(["--store", store, "import", _xlsx(tmp_path)])
+
+
+def _xlsx(tmp_path):
+    import pandas as pd
+    path = tmp_path / "c.xlsx"
+    pd.read_csv(DEMO / "catalog.csv", dtype=str, keep_default_na=False).head(3).to_excel(
+        path, index=False)
+    return path
+
+
+def test_import_of_a_small_csv_under_importtime_loads_no_pandas(tmp_path):
+    """The same, as ``python -X importtime -m partsel`` reports the modules it imports."""
+    import os
+    three = tmp_path / "three_rows.csv"
+    lines = (DEMO / "catalog.csv").read_text(encoding="utf-8").splitlines()
+    three.write_text("\n".join(lines[:4]) + "\n", encoding="utf-8")
+    env = {**os.environ, "PYTHONPATH": os.pathsep.join(
+        [str(ROOT), *filter(None, [os.environ.get("PYTHONPATH")])])}
+    for argv in (["import", str(three)], ["demo", "--parts", "10"]):
+        p = subprocess.run([sys.executable, "-X", "importtime", "-m", "partsel", "--store",
+                            str(tmp_path / "s.duckdb"), *argv], capture_output=True, text=True,
+                           check=False, cwd=ROOT, env=env)
+        assert p.returncode == 0, p.stderr
+        imported = {line.rsplit("|", 1)[-1].strip() for line in p.stderr.splitlines()
+                    if line.startswith("import time:")}
+        assert "partsel.store.importer" in imported   # the report lists partsel's modules
+        assert "pandas" not in imported, argv
 
 
 # -- the short way out, and what a plain search does not load ---------------------------------

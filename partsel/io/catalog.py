@@ -167,9 +167,9 @@ def _read_csv(p: Path) -> tuple[list[str], list[np.ndarray]]:
         delimiter = ","
     white = _WHITE - {delimiter}
     lines = None
-    # A sentinel line after the text: it comes back as a row of its own unless a quoted cell
-    # runs to the end of the file (then it is inside that cell).
-    reader = csv.reader(chain(io.StringIO(text, newline=""), [_SENTINEL]),
+    # A line end and a sentinel line after the text: the sentinel comes back as a row of its
+    # own unless a quoted cell runs to the end of the file (then it is inside that cell).
+    reader = csv.reader(chain(io.StringIO(text, newline=""), ["\n", _SENTINEL]),
                         delimiter=delimiter, strict=False)
     header: list[str] | None = None
     rows: list[list[str]] = []
