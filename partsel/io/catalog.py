@@ -166,39 +166,30 @@ def _read_csv(p: Path) -> tuple[list[str], list[np.ndarray]]:
     except csv.Error:
         delimiter = ","
     white = _WHITE - {delimiter}
-    lines = None
     # A line end and a sentinel line after the text: the sentinel comes back as a row of its
     # own unless a quoted cell runs to the end of the file (then it is inside that cell).
     reader = csv.reader(chain(io.StringIO(text, newline=""), ["\n", _SENTINEL]),
                         delimiter=delimiter, strict=False)
-    header: list[str] | None = None
-    rows: list[list[str]] = []
-    line_of: list[int] = []   # the record number of each row (blank lines count, from 1)
-    record = 0
-    last: list[str] = []
-    for row in reader:
-        record += 1
-        last = row
-        if len(row) <= 1:
-            if not row:
-                continue
-            cell = row[0]
-            if cell and not cell.strip(" \t") and all(ch in white for ch in cell):
-                if lines is None:
-                    lines = re.split(r"\r\n|\r|\n", text)
-                if reader.line_num - 1 < len(lines) and lines[reader.line_num - 1] == cell:
-                    continue   # a line of spaces (not a quoted cell of spaces)
-        if header is None:
-            header = row
-            continue
-        rows.append(row)
-        line_of.append(record)
+    records = list(reader)
+    short = [i for i, n in enumerate(map(len, records)) if n <= 1]
+    if any(records[i] and _spaces(records[i][0], white) for i in short):
+        rows, line_of = _rows_by_line(text, delimiter, white)
+    else:   # the common case: no line of spaces to tell from a quoted cell of spaces
+        blank = {i for i in short if not records[i]}
+        line_of = [i + 1 for i in range(len(records)) if i not in blank] if blank else \
+            list(range(1, len(records) + 1))
+        rows = [records[i - 1] for i in line_of] if blank else records
+    record = len(records)
+    last = records[-1] if records else []
+    header = rows[0] if rows and rows[0] != [_SENTINEL] else None
+    rows, line_of = rows[1:], line_of[1:]
     if last != [_SENTINEL]:
         raise CatalogError(f"cannot read {p.name}: Error tokenizing data. C error: EOF inside "
                            f"string starting at row {record - 1} (every row must have as "
                            "many cells as the header)")
-    rows.pop()
-    line_of.pop()
+    if rows:
+        rows.pop()
+        line_of.pop()
     if header is None:   # only lines of spaces
         raise CatalogError(f"{p.name} is empty: a catalog has a header row and one part per row")
     width = len(header)
@@ -217,12 +208,37 @@ def _read_csv(p: Path) -> tuple[list[str], list[np.ndarray]]:
     return _header_names(header), [_stripped(c) for c in columns]
 
 
+def _spaces(cell: str, white: frozenset[str]) -> bool:
+    return bool(cell) and all(ch in white for ch in cell)
+
+
+def _rows_by_line(text: str, delimiter: str, white: frozenset[str]
+                  ) -> tuple[list[list[str]], list[int]]:
+    """Rows and their record numbers (blank lines count, from 1), without blank lines and
+    lines of spaces (a quoted cell of spaces stays): read again record by record, to see the
+    line each one ends on."""
+    lines = re.split(r"\r\n|\r|\n", text)
+    reader = csv.reader(chain(io.StringIO(text, newline=""), ["\n", _SENTINEL]),
+                        delimiter=delimiter, strict=False)
+    rows: list[list[str]] = []
+    line_of: list[int] = []
+    for record, row in enumerate(reader, 1):
+        if not row:
+            continue
+        if len(row) == 1 and _spaces(row[0], white):
+            at = reader.line_num - 1
+            if at < len(lines) and lines[at] == row[0]:
+                continue   # a line of spaces (not a quoted cell of spaces)
+        rows.append(row)
+        line_of.append(record)
+    return rows, line_of
+
+
 def _stripped(cells: tuple[str, ...]) -> np.ndarray:
-    out = np.empty(len(cells), dtype=object)
-    out[:] = cells
+    out = np.fromiter(cells, dtype=object, count=len(cells))
     strip = {v: v.strip() for v in set(cells)}
     if any(k != v for k, v in strip.items()):
-        out[:] = [strip[v] for v in cells]
+        out = np.fromiter((strip[v] for v in cells), dtype=object, count=len(cells))
     return out
 
 
