@@ -394,6 +394,7 @@ def _extra_json(sub: Table) -> np.ndarray:
 
 
 _ARROW_ROWS = 2_000   # from this many rows on a chunk goes to DuckDB as an Arrow table
+_PANDAS_ROWS = 20_000   # from this many on pandas is loaded, for pyarrow's fast text conversion
 
 
 def _typed(df: Table) -> dict[str, tuple[str, np.ndarray, np.ndarray | None]]:
@@ -454,10 +455,17 @@ def _arrow_table(columns: dict[str, tuple[str, np.ndarray, np.ndarray | None]]) 
         bitmap = pa.py_buffer(np.packbits(~miss, bitorder="little")) if nulls else None
         return pa.Array.from_buffers(kind, len(data), [bitmap, pa.py_buffer(data)],
                                      null_count=nulls)
+    n = len(next(iter(columns.values()))[1]) if columns else 0
+    if n >= _PANDAS_ROWS:
+        # pyarrow converts an object array in C once pandas is loaded (it looks for pandas
+        # types first): 2x faster than the buffers below, and pandas' import (0.4 s) is a
+        # small share of a write of this size
+        import pandas  # noqa: F401
     arrays = {}
     for name, (sql, values, miss) in columns.items():
         if sql == "VARCHAR":
-            arrays[name] = _pa_text(values.tolist())
+            arrays[name] = pa.array(values, type=pa.large_string(), from_pandas=True) \
+                if n >= _PANDAS_ROWS else _pa_text(values.tolist())
         else:
             arrays[name] = numbers(pa.float64() if sql == "DOUBLE" else pa.int64(),
                                    values, miss)
