@@ -180,7 +180,7 @@ def warm(label: str, runs: int, big: bool) -> None:
 
 
 def warm_time(label: str, runs: int, big: bool, env: dict[str, str]) -> float:
-    argv = [sys.executable, __file__, "--warm-child", label, "--runs", str(runs)]
+    argv = [sys.executable, __file__, f"--warm-child={label}", "--runs", str(runs)]
     out = subprocess.run(argv + (["--big"] if big else []), cwd=ROOT, env=env,
                          capture_output=True, text=True)
     if out.returncode != 0:
