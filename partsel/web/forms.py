@@ -210,8 +210,7 @@ def alternates_from_query(q: Mapping[str, Any]) -> tuple[str, str | None, Any]:
         in_stock=_flag(q, "in_stock"), explain=_flag(q, "explain"),
         limit=_count(q, "limit", 10), model=model_of(q),
         # the worst case (alternates --corners --temp --age): the texts as the CLI takes them
-        corners=_flag(q, "corners"),
-        temp=(_text(q, "temp") or "").strip() or None, age=(_text(q, "age") or "").strip() or None)
+        corners=_flag(q, "corners"), temp=_stripped(q, "temp"), age=_stripped(q, "age"))
     return part.strip(), _text(q, "maker"), crit
 
 
@@ -245,13 +244,24 @@ def inductive_from_query(q: Mapping[str, Any]) -> tuple[list[str], Any, tuple[bo
                 min_q_hz=q_at[1] if q_at and q_at[1] != target else None)
     with reading(None, INDUCTIVE_FLAGS, q):
         spec.validate()
-    corners, temp = _flag(q, "corners"), (_text(q, "temp") or "").strip() or None
-    whole = -(2 ** 63)     # any whole number: the range is the job's to check, as on the CLI
-    builds, seed = _count(q, "yield", None, whole), _count(q, "seed", None, whole)
-    distribution = (_text(q, "distribution") or "normal").strip()
+    corners, temp = _flag(q, "corners"), _stripped(q, "temp")
+    builds, seed = _builds_and_seed(q)
     with reading(None, INDUCTIVE_FLAGS, q):
-        cond, ys = worst_case_options(corners, temp, builds, seed, distribution)
+        cond, ys = worst_case_options(corners, temp, builds, seed,
+                                      _stripped(q, "distribution") or "normal")
     return parts, spec, (corners, cond, ys)
+
+
+def _stripped(q: Mapping[str, Any], key: str) -> str | None:
+    text = _text(q, key)
+    return text.strip() if text is not None else None
+
+
+def _builds_and_seed(q: Mapping[str, Any]) -> tuple[int | None, int | None]:
+    """The yield run's fields ``yield`` and ``seed``: any whole number (the range is the
+    job's to check, as on the command line)."""
+    whole = -(2 ** 63)
+    return _count(q, "yield", None, whole), _count(q, "seed", None, whole)
 
 
 def rail_from(q: Mapping[str, Any]) -> Any:
@@ -270,8 +280,7 @@ def rail_from(q: Mapping[str, Any]) -> Any:
     except PartselError as exc:
         raise BadInput(worded(exc, {}), _rail_field(str(exc), exc)) from None
     # the spread (decouple --check --corners --temp --age --yield --seed --distribution)
-    whole = -(2 ** 63)     # any whole number: the range is the job's to check, as on the CLI
-    builds, seed = _count(q, "yield", None, whole), _count(q, "seed", None, whole)
+    builds, seed = _builds_and_seed(q)
     spread_texts = {k: texts[k] for k in ("temp", "age", "distribution")}
     with reading(None, {"builds": "--yield"}, spread_texts):
         rail.spread = spread_spec(_flag(q, "corners"), texts["temp"], texts["age"], builds,
